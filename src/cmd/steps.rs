@@ -1,0 +1,48 @@
+//! `switchyard steps`: per-step GOSPA over time.
+
+use clap::Args;
+
+use switchyard::per_step::{per_step, GospaParams};
+use switchyard::report::{steps, InputInfo};
+
+use super::{Format, InputArgs, Inputs, OutputArgs};
+
+/// Options of `steps`.
+#[derive(Args, Debug)]
+pub struct StepsArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    /// Cut-off c > 0: the most one object can cost at one step.
+    #[arg(long, short = 'c', value_name = "C")]
+    cutoff: f64,
+    /// Order p >= 1.
+    #[arg(long, short = 'p', value_name = "P", default_value_t = 1.0)]
+    order: f64,
+    /// alpha in (0, 2]; the parts are given only for 2.
+    #[arg(long, value_name = "A", default_value_t = 2.0)]
+    alpha: f64,
+    /// Output format.
+    #[arg(long, short = 'f', value_enum, default_value_t = Format::Text)]
+    format: Format,
+    #[command(flatten)]
+    output: OutputArgs,
+}
+
+pub fn run(args: &StepsArgs) -> anyhow::Result<()> {
+    let params = GospaParams::new(args.cutoff, args.order, args.alpha)?;
+    let Inputs {
+        truth,
+        estimate,
+        distance,
+    } = args.input.read(args.cutoff)?;
+    let series = per_step(&truth.set, &estimate.set, &params, &distance)?;
+    let info = InputInfo::new(&truth, &estimate, &distance);
+    args.output.emit(|out| {
+        match args.format {
+            Format::Text => steps::write_text(out, &series, &params, &info)?,
+            Format::Csv => steps::write_csv(out, &series)?,
+            Format::Json => steps::write_json(out, &series, &params, &info)?,
+        }
+        Ok(())
+    })
+}

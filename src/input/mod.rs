@@ -1,0 +1,9 @@
+//! Readers that turn files into [`TrajectorySet`](crate::trajectory::TrajectorySet)s.
+//!
+//! CSV is the one format so far ([`csv`]). A reader checks everything the model needs (ids,
+//! integer steps, finite numbers, one row per object and step) and names the file, line and
+//! column of the first problem it meets.
+
+pub mod csv;
+
+pub use self::csv::{read_csv, read_csv_path, write_csv, CsvLayout, TrajectoryFile};

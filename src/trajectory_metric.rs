@@ -1,0 +1,1 @@
+//! The trajectory metric (coming next).
