@@ -15,6 +15,7 @@ use switchyard::distance::Distance;
 use switchyard::input::{read_csv_path, CsvLayout, TrajectoryFile};
 use switchyard::Error;
 
+mod score;
 mod steps;
 
 /// Score multi-object trackers against ground truth with GOSPA and trajectory GOSPA.
@@ -29,6 +30,9 @@ pub struct Cli {
 enum Command {
     /// Per-step GOSPA over time, with its localisation, missed and false parts.
     Steps(steps::StepsArgs),
+    /// Trajectory GOSPA: one score for whole trajectories, split into localisation, missed,
+    /// false and switching.
+    Score(score::ScoreArgs),
 }
 
 /// Where the inputs are and how to read them.
@@ -122,6 +126,59 @@ impl InputArgs {
     }
 }
 
+/// The trajectory metric's options, shared by every command built on it.
+#[derive(Args, Debug, Clone)]
+pub struct TrajectoryArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Cut-off c > 0: the most one object can cost at one step.
+    #[arg(long, short = 'c', value_name = "C")]
+    pub cutoff: f64,
+    /// Order p >= 1.
+    #[arg(long, short = 'p', value_name = "P", default_value_t = 1.0)]
+    pub order: f64,
+    /// Switching penalty gamma >= 0: a full switch costs gamma^p [default: the cut-off].
+    #[arg(long, short = 'g', value_name = "G")]
+    pub switch_penalty: Option<f64>,
+    /// LP engine (highs only in builds with the `highs` feature).
+    #[arg(long, value_enum, default_value_t = EngineKind::Microlp)]
+    pub engine: EngineKind,
+}
+
+/// LP engines on the command line.
+#[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
+pub enum EngineKind {
+    /// microlp, pure Rust (always available).
+    Microlp,
+    /// HiGHS (builds with `--features highs`).
+    Highs,
+}
+
+impl From<EngineKind> for switchyard::trajectory_metric::Engine {
+    fn from(kind: EngineKind) -> Self {
+        match kind {
+            EngineKind::Microlp => switchyard::trajectory_metric::Engine::Microlp,
+            EngineKind::Highs => switchyard::trajectory_metric::Engine::Highs,
+        }
+    }
+}
+
+impl TrajectoryArgs {
+    /// The checked parameters; the switching penalty defaults to the cut-off.
+    pub fn params(&self) -> anyhow::Result<switchyard::trajectory_metric::TrajectoryParams> {
+        Ok(switchyard::trajectory_metric::TrajectoryParams::new(
+            self.cutoff,
+            self.order,
+            self.switch_penalty.unwrap_or(self.cutoff),
+        )?)
+    }
+
+    /// The engine's name for output.
+    pub fn engine_name(&self) -> &'static str {
+        switchyard::trajectory_metric::Engine::from(self.engine).name()
+    }
+}
+
 /// Output formats.
 #[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Format {
@@ -187,6 +244,7 @@ pub fn main() -> ExitCode {
     };
     let result = match cli.command {
         Command::Steps(args) => steps::run(&args),
+        Command::Score(args) => score::run(&args),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

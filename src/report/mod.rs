@@ -2,6 +2,7 @@
 //! takes any `impl Write`, so tests compare bytes in memory. Number formats are fixed, so the
 //! same input gives the same bytes.
 
+pub mod score;
 pub mod steps;
 
 use serde::Serialize;

@@ -1,0 +1,58 @@
+//! `switchyard score`: trajectory GOSPA and its four parts.
+
+use clap::Args;
+
+use switchyard::report::{score, InputInfo};
+use switchyard::trajectory_metric::{score_with, SolveOptions, TrajectoryScore};
+
+use super::{Format, Inputs, OutputArgs, TrajectoryArgs};
+
+/// Options of `score`.
+#[derive(Args, Debug)]
+pub struct ScoreArgs {
+    #[command(flatten)]
+    metric: TrajectoryArgs,
+    /// Output format (text or json).
+    #[arg(long, short = 'f', value_enum, default_value_t = Format::Text)]
+    format: Format,
+    #[command(flatten)]
+    output: OutputArgs,
+}
+
+/// Reads the inputs and solves the trajectory LP: shared by the commands built on it.
+pub fn compute(args: &TrajectoryArgs) -> anyhow::Result<(Inputs, TrajectoryScore)> {
+    let params = args.params()?;
+    let inputs = args.input.read(params.cutoff)?;
+    let options = SolveOptions {
+        engine: args.engine.into(),
+        ..SolveOptions::default()
+    };
+    let result = score_with(
+        &inputs.truth.set,
+        &inputs.estimate.set,
+        &params,
+        &inputs.distance,
+        &options,
+    )?;
+    Ok((inputs, result))
+}
+
+pub fn run(args: &ScoreArgs) -> anyhow::Result<()> {
+    if args.format == Format::Csv {
+        anyhow::bail!(
+            "invalid parameter: score writes text or json (csv is for steps, switches and audit)"
+        );
+    }
+    let (inputs, result) = compute(&args.metric)?;
+    let info = InputInfo::new(&inputs.truth, &inputs.estimate, &inputs.distance);
+    let engine = args.metric.engine_name();
+    args.output.emit(|out| {
+        match args.format {
+            Format::Json => {
+                score::write_json(out, &score::ScoreDocument::new(&result, &info, engine))?
+            }
+            _ => score::write_text(out, &result, &info, engine)?,
+        }
+        Ok(())
+    })
+}

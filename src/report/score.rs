@@ -1,0 +1,203 @@
+//! Output of trajectory GOSPA (`switchyard score`). Schemas: `specs/formats.md`.
+
+use std::io::Write;
+
+use serde::Serialize;
+
+use super::{fixed, InputInfo};
+use crate::trajectory::Window;
+use crate::trajectory_metric::{SolveStats, TrajectoryParams, TrajectoryScore};
+
+/// The `score` JSON document. The top-level keys are a contract.
+#[derive(Serialize)]
+pub struct ScoreDocument<'a> {
+    /// d.
+    pub metric: f64,
+    /// d^p.
+    pub total: f64,
+    /// (d^p / steps)^(1/p).
+    pub per_step: f64,
+    /// Steps in the window.
+    pub steps: usize,
+    /// Localisation part.
+    pub localization: f64,
+    /// Missed part.
+    pub missed: f64,
+    /// False part.
+    #[serde(rename = "false")]
+    pub false_: f64,
+    /// Switching part.
+    pub switching: f64,
+    /// Missed object-steps.
+    pub missed_count: f64,
+    /// False object-steps.
+    pub false_count: f64,
+    /// Full switches count 1, half switches 0.5.
+    pub switch_count: f64,
+    /// True when the LP optimum is integral (the value is then the exact metric).
+    pub integral: bool,
+    /// The parameters.
+    pub params: &'a TrajectoryParams,
+    /// The inputs.
+    pub inputs: &'a InputInfo,
+    /// The window.
+    pub window: Option<Window>,
+    /// The LP engine used.
+    pub engine: &'a str,
+    /// LP sizes.
+    pub lp: &'a SolveStats,
+}
+
+impl<'a> ScoreDocument<'a> {
+    /// The document for a score.
+    pub fn new(score: &'a TrajectoryScore, inputs: &'a InputInfo, engine: &'a str) -> Self {
+        ScoreDocument {
+            metric: score.metric,
+            total: score.total,
+            per_step: score.per_step,
+            steps: score.steps,
+            localization: score.localization,
+            missed: score.missed,
+            false_: score.false_,
+            switching: score.switching,
+            missed_count: score.missed_count,
+            false_count: score.false_count,
+            switch_count: score.switch_count,
+            integral: score.integral,
+            params: &score.params,
+            inputs,
+            window: score.window,
+            engine,
+            lp: &score.stats,
+        }
+    }
+}
+
+/// JSON: one object (see [`ScoreDocument`]).
+pub fn write_json<W: Write>(out: &mut W, document: &ScoreDocument) -> std::io::Result<()> {
+    serde_json::to_writer_pretty(&mut *out, document)?;
+    writeln!(out)
+}
+
+fn count(value: f64) -> String {
+    if value.fract() == 0.0 {
+        format!("{value:.0}")
+    } else {
+        fixed(value, 3)
+    }
+}
+
+/// Text: a compact summary.
+pub fn write_text<W: Write>(
+    out: &mut W,
+    score: &TrajectoryScore,
+    inputs: &InputInfo,
+    engine: &str,
+) -> std::io::Result<()> {
+    let p = &score.params;
+    writeln!(
+        out,
+        "Trajectory GOSPA   cut-off c = {}   order p = {}   switching penalty gamma = {}   distance: {}",
+        p.cutoff, p.order, p.switch_penalty, inputs.distance
+    )?;
+    writeln!(
+        out,
+        "truth     {} ({} objects)",
+        inputs.truth, inputs.truth_objects
+    )?;
+    writeln!(
+        out,
+        "estimate  {} ({} tracks)",
+        inputs.estimate, inputs.estimate_tracks
+    )?;
+    match score.window {
+        Some(w) => writeln!(
+            out,
+            "steps     {} to {} ({} steps)",
+            w.first, w.last, score.steps
+        )?,
+        None => writeln!(out, "steps     none: both inputs are empty")?,
+    }
+    writeln!(out)?;
+    writeln!(
+        out,
+        "  d = {}      d^p = {}      per step (d^p / steps)^(1/p) = {}",
+        fixed(score.metric, 4),
+        fixed(score.total, 4),
+        fixed(score.per_step, 4)
+    )?;
+    writeln!(out)?;
+    let share = |part: f64| {
+        if score.total > 0.0 {
+            format!("{:>5.1}%", 100.0 * part / score.total)
+        } else {
+            "    -".to_string()
+        }
+    };
+    let width = [
+        score.localization,
+        score.missed,
+        score.false_,
+        score.switching,
+    ]
+    .iter()
+    .map(|v| fixed(*v, 4).len())
+    .max()
+    .unwrap_or(1);
+    let rows = [
+        ("localisation", score.localization, String::new()),
+        (
+            "missed",
+            score.missed,
+            format!(
+                "{} truth object-steps unassigned",
+                count(score.missed_count)
+            ),
+        ),
+        (
+            "false",
+            score.false_,
+            format!(
+                "{} estimate object-steps unassigned",
+                count(score.false_count)
+            ),
+        ),
+        (
+            "switching",
+            score.switching,
+            format!(
+                "{} switches (full = 1, half = 0.5)",
+                count(score.switch_count)
+            ),
+        ),
+    ];
+    writeln!(out, "  {:<13} {:>width$}  {:>6}", "part", "d^p", "share")?;
+    for (name, value, note) in rows {
+        writeln!(
+            out,
+            "  {:<13} {:>width$}  {}   {}",
+            name,
+            fixed(value, 4),
+            share(value),
+            note
+        )?;
+    }
+    writeln!(out)?;
+    let s = &score.stats;
+    writeln!(
+        out,
+        "LP ({engine}): {} candidate pairs in {} groups, {} solved as LPs ({} variables, {} rows)",
+        s.candidate_pairs, s.components, s.lp_components, s.variables, s.constraints
+    )?;
+    if score.integral {
+        writeln!(
+            out,
+            "The LP optimum is integral: d is the exact trajectory GOSPA."
+        )
+    } else {
+        writeln!(
+            out,
+            "The LP optimum is fractional: d is a lower bound of the exact trajectory GOSPA (use --exact)."
+        )
+    }
+}

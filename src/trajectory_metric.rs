@@ -1,1 +1,0 @@
-//! The trajectory metric (coming next).

@@ -1,0 +1,114 @@
+//! Candidate pairs and their components.
+//!
+//! A (truth, estimate) pair is a candidate when the two are closer than the cut-off at some step
+//! where both are present ("close"). Every other pair can be fixed to zero weight: it never gains
+//! anything and only uses capacity and adds switches (proof in specs/trajectory-lp.md). The
+//! candidate pairs form a bipartite graph between truths and estimates; its connected
+//! components are independent linear programs.
+
+use pathfinding::undirected::connected_components::separate_components;
+
+use crate::distance::{power, Distance};
+use crate::trajectory::{Frames, Step, TrajectorySet, Window};
+
+/// One step at which a pair is close.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct CloseStep {
+    /// The step.
+    pub step: Step,
+    /// d^p at that step (d < c).
+    pub cost: f64,
+}
+
+/// A truth-estimate pair that is close at one step or more.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CandidatePair {
+    /// Truth index in its set.
+    pub truth: usize,
+    /// Estimate index in its set.
+    pub estimate: usize,
+    /// The steps at which the two are close, increasing.
+    pub close: Vec<CloseStep>,
+}
+
+impl CandidatePair {
+    /// The first and last close step.
+    pub fn active_span(&self) -> (Step, Step) {
+        (self.close[0].step, self.close[self.close.len() - 1].step)
+    }
+}
+
+/// Every candidate pair of two sets over a window, sorted by (truth, estimate).
+/// O(sum over steps of truths x estimates present) distance evaluations.
+pub fn candidate_pairs(
+    truth: &TrajectorySet,
+    estimate: &TrajectorySet,
+    window: Window,
+    cutoff: f64,
+    order: f64,
+    distance: &Distance,
+) -> Vec<CandidatePair> {
+    let truth_frames = Frames::new(truth, window);
+    let estimate_frames = Frames::new(estimate, window);
+    let mut events: Vec<(u32, u32, Step, f64)> = Vec::new();
+    for k in 0..window.len() {
+        let ys = estimate_frames.at(k);
+        if ys.is_empty() {
+            continue;
+        }
+        let step = window.first + k as Step;
+        for x in truth_frames.at(k) {
+            let xs = truth.get(x.object as usize).state(x.point as usize);
+            for y in ys {
+                let ys_state = estimate.get(y.object as usize).state(y.point as usize);
+                let d = distance.between(xs, ys_state);
+                if d < cutoff {
+                    events.push((x.object, y.object, step, power(d, order)));
+                }
+            }
+        }
+    }
+    events.sort_unstable_by(|a, b| (a.0, a.1, a.2).cmp(&(b.0, b.1, b.2)));
+    let mut pairs: Vec<CandidatePair> = Vec::new();
+    for (i, j, step, cost) in events {
+        match pairs.last_mut() {
+            Some(pair) if pair.truth == i as usize && pair.estimate == j as usize => {
+                pair.close.push(CloseStep { step, cost });
+            }
+            _ => pairs.push(CandidatePair {
+                truth: i as usize,
+                estimate: j as usize,
+                close: vec![CloseStep { step, cost }],
+            }),
+        }
+    }
+    pairs
+}
+
+/// A node of the pair graph.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+enum Node {
+    Truth(usize),
+    Estimate(usize),
+}
+
+/// Splits pairs into connected components of the truth-estimate graph. Each component lists
+/// the indices of its pairs, increasing; components are ordered by their first pair.
+pub fn components(pairs: &[CandidatePair]) -> Vec<Vec<usize>> {
+    let groups: Vec<Vec<Node>> = pairs
+        .iter()
+        .map(|p| vec![Node::Truth(p.truth), Node::Estimate(p.estimate)])
+        .collect();
+    let (_, group_component) = separate_components(&groups);
+    // Renumber components by their first pair so the order does not depend on hashing.
+    let mut renumber = std::collections::HashMap::new();
+    let mut result: Vec<Vec<usize>> = Vec::new();
+    for (pair, &component) in group_component.iter().enumerate() {
+        let index = *renumber.entry(component).or_insert_with(|| {
+            result.push(Vec::new());
+            result.len() - 1
+        });
+        result[index].push(pair);
+    }
+    result
+}
