@@ -17,6 +17,7 @@
 //! - [`distance`]: base distances and the cut-off arithmetic;
 //! - [`per_step`]: GOSPA at each step, with its parts;
 //! - [`trajectory_metric`]: trajectory GOSPA as a linear program, reduced exactly;
+//! - [`synth`]: seeded synthetic scenes: a ground truth and an imaginary tracker's output;
 //! - [`error`]: the error type.
 //!
 //! # Example
@@ -44,6 +45,7 @@ pub mod error;
 pub mod input;
 pub mod per_step;
 pub mod report;
+pub mod synth;
 pub mod trajectory;
 pub mod trajectory_metric;
 

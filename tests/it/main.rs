@@ -1,0 +1,5 @@
+//! switchyard's integration tests: one binary, one module per topic.
+
+mod metric_cases;
+mod reductions;
+mod support;

@@ -1,0 +1,143 @@
+//! The derived check values of the project's metric notes (shared/design/metric.md, "Derived
+//! check values"), which were obtained there by brute force, the definition and an LP solver.
+
+use approx::assert_relative_eq;
+use switchyard::distance::Distance;
+use switchyard::per_step::{gospa_between, GospaParams};
+use switchyard::trajectory_metric::{score, TrajectoryParams};
+
+use crate::support::{line, lines};
+
+fn gospa(c: f64, p: f64, x: &[&[f64]], y: &[&[f64]]) -> switchyard::per_step::SetScore {
+    gospa_between(
+        x,
+        y,
+        &GospaParams::new(c, p, 2.0).unwrap(),
+        &Distance::default(),
+    )
+}
+
+#[test]
+fn gospa_scalar_case() {
+    // c = 2, p = 1, X = {0, 10}, Y = {0.5, 20, 30}: 3.5 (loc 0.5, missed 1, false 2).
+    let s = gospa(2.0, 1.0, &[&[0.0], &[10.0]], &[&[0.5], &[20.0], &[30.0]]);
+    assert_relative_eq!(s.power, 3.5, max_relative = 1e-12);
+    assert_relative_eq!(s.localization.unwrap(), 0.5, max_relative = 1e-12);
+    assert_relative_eq!(s.missed.unwrap(), 1.0, max_relative = 1e-12);
+    assert_relative_eq!(s.false_.unwrap(), 2.0, max_relative = 1e-12);
+    assert_eq!((s.missed_count, s.false_count), (1, 2));
+}
+
+#[test]
+fn gospa_planar_case_with_far_point() {
+    // c = 3, p = 2, X = {(0,0),(5,5)}, Y = {(1,0),(5,7),(20,20)}: 9.5 (loc 5, missed 0, false 4.5).
+    let s = gospa(
+        3.0,
+        2.0,
+        &[&[0.0, 0.0], &[5.0, 5.0]],
+        &[&[1.0, 0.0], &[5.0, 7.0], &[20.0, 20.0]],
+    );
+    assert_relative_eq!(s.power, 9.5, max_relative = 1e-12);
+    assert_relative_eq!(s.localization.unwrap(), 5.0, max_relative = 1e-12);
+    assert_relative_eq!(s.missed.unwrap(), 0.0);
+    assert_relative_eq!(s.false_.unwrap(), 4.5, max_relative = 1e-12);
+}
+
+#[test]
+fn gospa_planar_case_with_competing_estimates() {
+    // c = 5, p = 2, X = {(0,0),(10,0)}, Y = {(0,3),(10,1),(4,0)}: 22.5 (loc 10, false 12.5).
+    let s = gospa(
+        5.0,
+        2.0,
+        &[&[0.0, 0.0], &[10.0, 0.0]],
+        &[&[0.0, 3.0], &[10.0, 1.0], &[4.0, 0.0]],
+    );
+    assert_relative_eq!(s.power, 22.5, max_relative = 1e-12);
+    assert_relative_eq!(s.localization.unwrap(), 10.0, max_relative = 1e-12);
+    assert_relative_eq!(s.false_.unwrap(), 12.5, max_relative = 1e-12);
+}
+
+fn crossing() -> (
+    switchyard::trajectory::TrajectorySet,
+    switchyard::trajectory::TrajectorySet,
+) {
+    // X = {a: 1..4 at 0, b: 1..4 at 10}; Y = {p: 0,0,10,10; q: 10,10,0,0}.
+    (
+        lines(vec![line("a", 1, &[0.0; 4]), line("b", 1, &[10.0; 4])]),
+        lines(vec![
+            line("p", 1, &[0.0, 0.0, 10.0, 10.0]),
+            line("q", 1, &[10.0, 10.0, 0.0, 0.0]),
+        ]),
+    )
+}
+
+#[test]
+fn crossing_swap_costs_the_smaller_of_two_switches_and_losing_both() {
+    // c = 5, p = 1: d^p = min(2 gamma, 4c) -> 2, 12, 20 for gamma = 1, 6, 11.
+    let (x, y) = crossing();
+    for (gamma, expected) in [(1.0, 2.0), (6.0, 12.0), (11.0, 20.0)] {
+        let s = score(
+            &x,
+            &y,
+            &TrajectoryParams::new(5.0, 1.0, gamma).unwrap(),
+            &Distance::default(),
+        )
+        .unwrap();
+        assert_relative_eq!(s.total, expected, max_relative = 1e-9);
+        assert!(s.integral);
+    }
+    // gamma = 11: loc 0, missed 10, false 10, switching 0.
+    let s = score(
+        &x,
+        &y,
+        &TrajectoryParams::new(5.0, 1.0, 11.0).unwrap(),
+        &Distance::default(),
+    )
+    .unwrap();
+    assert_relative_eq!(s.missed, 10.0, max_relative = 1e-9);
+    assert_relative_eq!(s.false_, 10.0, max_relative = 1e-9);
+    assert_relative_eq!(s.switching, 0.0);
+    // gamma = 6: two full switches.
+    let s = score(
+        &x,
+        &y,
+        &TrajectoryParams::new(5.0, 1.0, 6.0).unwrap(),
+        &Distance::default(),
+    )
+    .unwrap();
+    assert_relative_eq!(s.switching, 12.0, max_relative = 1e-9);
+    assert_relative_eq!(s.switch_count, 2.0, max_relative = 1e-9);
+}
+
+#[test]
+fn crossing_swap_in_second_order() {
+    // c = 5, p = 2, gamma = 2: 8, all switching.
+    let (x, y) = crossing();
+    let s = score(
+        &x,
+        &y,
+        &TrajectoryParams::new(5.0, 2.0, 2.0).unwrap(),
+        &Distance::default(),
+    )
+    .unwrap();
+    assert_relative_eq!(s.total, 8.0, max_relative = 1e-9);
+    assert_relative_eq!(s.switching, 8.0, max_relative = 1e-9);
+}
+
+#[test]
+fn split_estimate_costs_one_switch_or_four_missed_steps() {
+    // One truth 1..4 at 0, its estimate split into tracks {1,2} and {3,4}; c = 2, p = 1:
+    // d^p = min(gamma, 4).
+    let x = lines(vec![line("a", 1, &[0.0; 4])]);
+    let y = lines(vec![line("p", 1, &[0.0, 0.0]), line("q", 3, &[0.0, 0.0])]);
+    for gamma in [0.5, 1.0, 3.0, 4.0, 6.0, 10.0] {
+        let s = score(
+            &x,
+            &y,
+            &TrajectoryParams::new(2.0, 1.0, gamma).unwrap(),
+            &Distance::default(),
+        )
+        .unwrap();
+        assert_relative_eq!(s.total, f64::min(gamma, 4.0), max_relative = 1e-9);
+    }
+}
