@@ -2,4 +2,5 @@
 
 mod metric_cases;
 mod reductions;
+mod references;
 mod support;
