@@ -12,9 +12,12 @@
 //!   pairs only);
 //! - [`Reduction::ActiveSteps`]: one segment per step at which some pair of the component is
 //!   close, held until the next such step;
-//! - [`Reduction::Events`]: event compression: a head before the pair's first close step and a
-//!   tail after its last, each no larger than its neighbour; one segment per maximal "quiet run"
-//!   in which no other pair of the same truth or estimate is active; one per step elsewhere.
+//! - [`Reduction::Events`]: event compression: one segment per rigid piece of the pair (the
+//!   head before its first close step, each valley between runs of close steps, the tail after
+//!   its last), one per maximal run of close steps at which no other pair of the same truth or
+//!   estimate is close, and one per remaining ("contested") close step.
+
+use std::collections::HashMap;
 
 use super::pairs::CandidatePair;
 use crate::trajectory::{Step, Window};
@@ -26,7 +29,7 @@ pub enum Reduction {
     PerStep,
     /// One variable per pair and step at which some pair of the component is close.
     ActiveSteps,
-    /// Event compression: heads, tails, quiet runs and contested steps.
+    /// Event compression: rigid pieces, uncontested runs and contested steps.
     Events,
 }
 
@@ -39,7 +42,7 @@ pub struct Segment {
     pub last: Step,
     /// The LP variable.
     pub var: usize,
-    /// False for a head or tail (the pair is not active there).
+    /// False for a rigid piece (head, valley or tail: the pair is not close there).
     pub active: bool,
 }
 
@@ -166,38 +169,35 @@ pub fn build(
     ComponentModel { program, segments }
 }
 
-/// Charges weight changes between consecutive segments of one pair.
+/// Charges weight changes between consecutive segments of one pair. Between two active
+/// segments the change is free in sign (`|b - a| = up + down`); a rigid segment (head, valley,
+/// tail) is never above its active neighbours, so its change is one-sided and needs no helper.
 fn link_segments(program: &mut LinearProgram, segments: &[Segment], switch_cost: f64) {
-    for (s, pair) in segments.windows(2).enumerate() {
+    for pair in segments.windows(2) {
         let (a, b) = (pair[0], pair[1]);
-        if !a.active && s == 0 {
-            // Head below the first active segment: cost (b - a), row a - b <= 0.
-            program.costs[b.var] += switch_cost;
-            program.costs[a.var] -= switch_cost;
-            program.rows.push(Row {
-                terms: vec![(a.var, 1.0), (b.var, -1.0)],
-                sense: Sense::AtMost,
-                rhs: 0.0,
-            });
-        } else if !b.active && s + 2 == segments.len() {
-            // Tail below the last active segment: cost (a - b), row b - a <= 0.
-            program.costs[a.var] += switch_cost;
-            program.costs[b.var] -= switch_cost;
-            program.rows.push(Row {
-                terms: vec![(b.var, 1.0), (a.var, -1.0)],
-                sense: Sense::AtMost,
-                rhs: 0.0,
-            });
-        } else {
-            // |b - a| = up + down with b - a - up + down = 0.
-            let up = program.add_var(switch_cost, 1.0);
-            let down = program.add_var(switch_cost, 1.0);
-            program.rows.push(Row {
-                terms: vec![(b.var, 1.0), (a.var, -1.0), (up, -1.0), (down, 1.0)],
-                sense: Sense::Equal,
-                rhs: 0.0,
-            });
-        }
+        let (low, high) = match (a.active, b.active) {
+            (true, true) => {
+                let up = program.add_var(switch_cost, 1.0);
+                let down = program.add_var(switch_cost, 1.0);
+                program.rows.push(Row {
+                    terms: vec![(b.var, 1.0), (a.var, -1.0), (up, -1.0), (down, 1.0)],
+                    sense: Sense::Equal,
+                    rhs: 0.0,
+                });
+                continue;
+            }
+            (false, true) => (a, b),
+            (true, false) => (b, a),
+            (false, false) => unreachable!("rigid segments are separated by close steps"),
+        };
+        // Cost (high - low), row low - high <= 0.
+        program.costs[high.var] += switch_cost;
+        program.costs[low.var] -= switch_cost;
+        program.rows.push(Row {
+            terms: vec![(low.var, 1.0), (high.var, -1.0)],
+            sense: Sense::AtMost,
+            rhs: 0.0,
+        });
     }
 }
 
@@ -269,65 +269,62 @@ fn sweep_rows(program: &mut LinearProgram, group: &[usize], segments: &[Vec<Segm
     }
 }
 
-/// Event compression: for each pair, its head, quiet runs, contested steps and tail.
+/// Event compression: for each pair, its rigid pieces (head, valleys between runs of close
+/// steps, tail) and, on its close steps, one segment per contested step (another pair of the
+/// same truth or estimate is close at that step too) and one per maximal uncontested run.
 fn event_cuts(
     pairs: &[CandidatePair],
     members: &[usize],
     window: Window,
 ) -> Vec<Vec<(Step, Step, bool)>> {
-    // Active spans of the other pairs sharing a truth or an estimate.
-    let mut by_truth: std::collections::HashMap<usize, Vec<usize>> = Default::default();
-    let mut by_estimate: std::collections::HashMap<usize, Vec<usize>> = Default::default();
-    for (local, &m) in members.iter().enumerate() {
-        by_truth.entry(pairs[m].truth).or_default().push(local);
-        by_estimate
-            .entry(pairs[m].estimate)
-            .or_default()
-            .push(local);
-    }
-    let spans: Vec<(Step, Step)> = members.iter().map(|&m| pairs[m].active_span()).collect();
-    let mut result = Vec::with_capacity(members.len());
-    let mut contested: Vec<(Step, Step)> = Vec::new();
-    for (local, &m) in members.iter().enumerate() {
-        let (first, last) = spans[local];
-        contested.clear();
-        for &other in by_truth[&pairs[m].truth]
-            .iter()
-            .chain(&by_estimate[&pairs[m].estimate])
-        {
-            if other == local {
-                continue;
-            }
-            let (a, b) = spans[other];
-            let (a, b) = (a.max(first), b.min(last));
-            if a <= b {
-                contested.push((a, b));
-            }
+    // How many pairs of each truth and of each estimate are close at each step.
+    let mut truth_steps: HashMap<(usize, Step), u32> = HashMap::new();
+    let mut estimate_steps: HashMap<(usize, Step), u32> = HashMap::new();
+    for &m in members {
+        let pair = &pairs[m];
+        for close in &pair.close {
+            *truth_steps.entry((pair.truth, close.step)).or_default() += 1;
+            *estimate_steps.entry((pair.estimate, close.step)).or_default() += 1;
         }
-        contested.sort_unstable();
+    }
+    let mut result = Vec::with_capacity(members.len());
+    for &m in members {
+        let pair = &pairs[m];
+        let contested = |step: Step| {
+            truth_steps[&(pair.truth, step)] > 1 || estimate_steps[&(pair.estimate, step)] > 1
+        };
+        let (first, last) = pair.active_span();
         let mut cuts = Vec::new();
         if first > window.first {
             cuts.push((window.first, first - 1, false));
         }
-        let mut cursor = first;
-        let mut merged: Vec<(Step, Step)> = Vec::with_capacity(contested.len());
-        for &(a, b) in &contested {
-            match merged.last_mut() {
-                Some(last_run) if a <= last_run.1 + 1 => last_run.1 = last_run.1.max(b),
-                _ => merged.push((a, b)),
+        let close = &pair.close;
+        let mut k = 0;
+        while k < close.len() {
+            // A block: a maximal run of consecutive close steps.
+            let mut end = k;
+            while end + 1 < close.len() && close[end + 1].step == close[end].step + 1 {
+                end += 1;
             }
-        }
-        for (a, b) in merged {
-            if cursor < a {
-                cuts.push((cursor, a - 1, true));
+            let mut run_start: Option<Step> = None;
+            for c in &close[k..=end] {
+                if contested(c.step) {
+                    if let Some(start) = run_start.take() {
+                        cuts.push((start, c.step - 1, true));
+                    }
+                    cuts.push((c.step, c.step, true));
+                } else if run_start.is_none() {
+                    run_start = Some(c.step);
+                }
             }
-            for k in a..=b {
-                cuts.push((k, k, true));
+            if let Some(start) = run_start {
+                cuts.push((start, close[end].step, true));
             }
-            cursor = b + 1;
-        }
-        if cursor <= last {
-            cuts.push((cursor, last, true));
+            if end + 1 < close.len() {
+                // A valley up to the next block.
+                cuts.push((close[end].step + 1, close[end + 1].step - 1, false));
+            }
+            k = end + 1;
         }
         if last < window.last {
             cuts.push((last + 1, window.last, false));
