@@ -19,7 +19,11 @@ fn main() {
         _ => ScenePreset::Small,
     };
     let seed: u64 = args.get(2).map_or(1, |s| s.parse().unwrap());
-    let engine = if args.get(3).map(String::as_str) == Some("highs") { Engine::Highs } else { Engine::Microlp };
+    let engine = if args.get(3).map(String::as_str) == Some("highs") {
+        Engine::Highs
+    } else {
+        Engine::Microlp
+    };
     let (truth, estimate) = generate_scene(preset, seed);
     let window = Window::covering(&truth, &estimate).unwrap();
     let t = Instant::now();
@@ -30,9 +34,24 @@ fn main() {
         let t = Instant::now();
         let model = build(&pairs, members, window, 10.0, 5.0, Reduction::Events);
         let built = t.elapsed().as_secs_f64();
-        let inactive = model.segments.iter().flatten().filter(|s| !s.active).count();
-        let single = model.segments.iter().flatten().filter(|s| s.active && s.first == s.last).count();
-        let runs = model.segments.iter().flatten().filter(|s| s.active && s.first < s.last).count();
+        let inactive = model
+            .segments
+            .iter()
+            .flatten()
+            .filter(|s| !s.active)
+            .count();
+        let single = model
+            .segments
+            .iter()
+            .flatten()
+            .filter(|s| s.active && s.first == s.last)
+            .count();
+        let runs = model
+            .segments
+            .iter()
+            .flatten()
+            .filter(|s| s.active && s.first < s.last)
+            .count();
         let t = Instant::now();
         let values = solve(&model.program, engine).unwrap();
         let solved = t.elapsed().as_secs_f64();

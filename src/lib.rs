@@ -45,6 +45,7 @@ pub mod error;
 pub mod input;
 pub mod per_step;
 pub mod report;
+pub mod switches;
 pub mod synth;
 pub mod trajectory;
 pub mod trajectory_metric;

@@ -3,11 +3,14 @@
 //!
 //! [`generate_truth`] moves objects in a square region with a nearly-constant-velocity model: a
 //! small white-noise acceleration on each axis at each step. Objects are born at random steps (a
-//! Poisson number per step) at uniformly random places, and die after a random lifetime
-//! (exponential) or when they leave the region. A band along the edges can push objects back
-//! inwards, like walls that turn them round; without it most objects soon leave. The birth rate
-//! is chosen so that the mean number of objects per step meets [`SceneConfig::objects_per_step`],
-//! and the scene runs for a while before its first step so that it starts already populated.
+//! Poisson number per step) at uniformly random places away from the edges, and die after a
+//! random lifetime (exponential) or when they leave the region. In a band along the edges,
+//! objects heading out turn round at a bounded rate, keeping their speed, as boats turn away from
+//! a quay; with no turning most objects soon leave. The birth rate is the rate that keeps the
+//! mean number of objects per step at [`SceneConfig::objects_per_step`] (the target over a mean
+//! life, measured on a pilot run), plus, when [`SceneConfig::relaxation_steps`] is set, a pull
+//! towards the target that keeps each scene's count near it. The scene runs for a while before
+//! its first step, so that it starts already populated.
 //!
 //! [`imitate_tracker`] turns a truth set into what a tracker with known faults would report:
 //! position noise, missed detections (gaps), false tracks (clutter), identity swaps when two
@@ -48,7 +51,7 @@ const MAX_WARM_UP: usize = 20_000;
 const PILOT_LIVES: usize = 2_000;
 
 /// The pilot run's seed: fixed, so that the birth rate is a property of the configuration alone.
-const PILOT_SEED: u64 = 0x5eed_0f_b1a7_5;
+const PILOT_SEED: u64 = 0x5eed_5eed;
 
 /// The random stream of each part of the generator.
 const STREAM_TRUTH: u64 = 0;
@@ -103,10 +106,16 @@ pub struct SceneConfig {
     pub acceleration_std: f64,
     /// The mean of the exponential lifetime, in steps; an object can die sooner by leaving.
     pub mean_lifetime: f64,
-    /// The width of the band along each edge in which objects are pushed inwards.
+    /// When set, the birth rate at each step also gets (target - present) / this, not below
+    /// zero: the count of objects returns towards the target within about this many steps
+    /// instead of wandering over a lifetime (at least 1). `None`: births at the steady rate only.
+    pub relaxation_steps: Option<f64>,
+    /// The width of the band along each edge in which objects turn away from the edge; objects
+    /// are born outside it.
     pub wall_margin: f64,
-    /// The inward acceleration in that band, per step squared (0 lets objects leave freely).
-    pub wall_acceleration: f64,
+    /// The most an object's heading turns in one step in that band, in radians (0 lets objects
+    /// leave freely). It turns until it heads inwards at 45 degrees or more from the edge.
+    pub wall_turn: f64,
     /// Positions are rounded to this many decimals (`None`: not rounded; at most 9).
     pub decimals: Option<u32>,
 }
@@ -133,11 +142,13 @@ impl SceneConfig {
                 // 1.5 to 4.5 m/s at one scan per 2 s.
                 speed_min: 3.0,
                 speed_max: 9.0,
-                acceleration_std: 0.2,
+                acceleration_std: 0.1,
                 mean_lifetime: 200.0,
-                // Stopping from 9 m/scan at 1 m/scan^2 takes 40.5 m: inside the 60 m band.
+                relaxation_steps: Some(20.0),
+                // Heading straight out at 10 m/scan, a boat goes at most one scan (10 m) plus a
+                // turn's radius (10 / 0.25 = 40 m) into the band: it stays inside the 60 m.
                 wall_margin: 60.0,
-                wall_acceleration: 1.0,
+                wall_turn: 0.25,
                 decimals: Some(1),
             },
         }
@@ -145,7 +156,7 @@ impl SceneConfig {
 
     /// The general scene: `objects_per_step` objects about [`OBJECT_SPACING`] apart over
     /// `steps` steps, moving 1 to 3 units a step, living about 270 steps, kept inside the region
-    /// by a 10-unit band along the edges.
+    /// by a 12-unit band along the edges.
     pub fn spaced(steps: usize, objects_per_step: f64) -> Self {
         SceneConfig {
             steps,
@@ -156,9 +167,11 @@ impl SceneConfig {
             speed_max: 3.0,
             acceleration_std: 0.03,
             mean_lifetime: 270.0,
-            // Stopping from 3 units a step at 0.5 takes 9 units: inside the 10-unit band.
-            wall_margin: 10.0,
-            wall_acceleration: 0.5,
+            relaxation_steps: Some(20.0),
+            // Heading straight out at 3.5 units a step, an object goes at most one step (3.5)
+            // plus a turn's radius (3.5 / 0.5 = 7) into the band: it stays inside the 12 units.
+            wall_margin: 12.0,
+            wall_turn: 0.5,
             decimals: Some(3),
         }
     }
@@ -180,8 +193,11 @@ impl SceneConfig {
             f64::MAX,
         )?;
         check_range("mean lifetime", self.mean_lifetime, 1e-9, 1e9)?;
+        if let Some(relaxation) = self.relaxation_steps {
+            check_range("relaxation time", relaxation, 1.0, 1e9)?;
+        }
         check_range("wall margin", self.wall_margin, 0.0, f64::MAX)?;
-        check_range("wall acceleration", self.wall_acceleration, 0.0, f64::MAX)?;
+        check_range("wall turn", self.wall_turn, 0.0, std::f64::consts::PI)?;
         check_decimals(self.decimals)?;
         let warm_up = warm_up_steps(self) as Step;
         let fits = self
@@ -334,7 +350,7 @@ fn spaced_tracker(objects_per_step: f64, style: TrackerStyle) -> TrackerConfig {
 }
 
 /// The imaginary harbour trackers, in metres and scans: noise of 3 to 4 m against boats that
-/// come within 20 m of each other when they pass.
+/// come within 15 to 20 m of each other when they pass.
 fn harbour_tracker(style: TrackerStyle) -> TrackerConfig {
     let base = TrackerConfig {
         position_noise: 4.0,
@@ -355,7 +371,8 @@ fn harbour_tracker(style: TrackerStyle) -> TrackerConfig {
             position_noise: 3.0,
             miss_probability: 0.02,
             clutter_rate: 0.0,
-            swap_probability: 0.6,
+            swap_distance: 15.0,
+            swap_probability: 0.5,
             fragment_probability: 0.0,
             ..base
         },
@@ -403,9 +420,12 @@ struct Mover {
 
 impl Mover {
     fn born(config: &SceneConfig, rng: &mut ChaCha8Rng) -> Self {
+        // Born clear of the walls, so that no object leaves at once.
+        let inner = (config.region_size - 2.0 * config.wall_margin).max(0.0);
+        let low = (config.region_size - inner) / 2.0;
         let position = [
-            config.region_size * rng.random::<f64>(),
-            config.region_size * rng.random::<f64>(),
+            low + inner * rng.random::<f64>(),
+            low + inner * rng.random::<f64>(),
         ];
         let speed = config.speed_min + (config.speed_max - config.speed_min) * rng.random::<f64>();
         let heading = random_direction(rng);
@@ -426,20 +446,55 @@ impl Mover {
         }
         for axis in 0..2 {
             let noise: f64 = rng.sample(StandardNormal);
-            let mut acceleration = config.acceleration_std * noise;
-            let at = self.position[axis];
-            if at < config.wall_margin {
-                acceleration += config.wall_acceleration;
-            }
-            if at > config.region_size - config.wall_margin {
-                acceleration -= config.wall_acceleration;
-            }
+            let acceleration = config.acceleration_std * noise;
             self.position[axis] += self.velocity[axis] + 0.5 * acceleration;
             self.velocity[axis] += acceleration;
         }
-        self.position
+        if !self
+            .position
             .iter()
             .all(|&at| (0.0..=config.region_size).contains(&at))
+        {
+            return false;
+        }
+        self.turn_from_walls(config);
+        true
+    }
+
+    /// In the band along the edges, turns the heading by at most `wall_turn` towards the inward
+    /// direction, until it points within 45 degrees of it. The speed is kept.
+    fn turn_from_walls(&mut self, config: &SceneConfig) {
+        let inward = self.position.map(|at| {
+            let mut push: f64 = 0.0;
+            if at < config.wall_margin {
+                push += 1.0;
+            }
+            if at > config.region_size - config.wall_margin {
+                push -= 1.0;
+            }
+            push
+        });
+        let inward_norm = inward[0].hypot(inward[1]);
+        let speed = self.velocity[0].hypot(self.velocity[1]);
+        if inward_norm == 0.0 || speed == 0.0 || config.wall_turn == 0.0 {
+            return;
+        }
+        let along = (self.velocity[0] * inward[0] + self.velocity[1] * inward[1]) / inward_norm;
+        if along >= speed * std::f64::consts::FRAC_1_SQRT_2 {
+            return;
+        }
+        // Turn the shorter way round: anticlockwise when the inward direction lies to the left.
+        let cross = self.velocity[0] * inward[1] - self.velocity[1] * inward[0];
+        let angle = if cross >= 0.0 {
+            config.wall_turn
+        } else {
+            -config.wall_turn
+        };
+        let (sin, cos) = angle.sin_cos();
+        self.velocity = [
+            cos * self.velocity[0] - sin * self.velocity[1],
+            sin * self.velocity[0] + cos * self.velocity[1],
+        ];
     }
 }
 
@@ -452,7 +507,7 @@ pub fn generate_truth(config: &SceneConfig, seed: u64) -> Result<TrajectorySet> 
     config.validate()?;
     let warm_up = warm_up_steps(config);
     let mean_life = mean_life(config, warm_up + config.steps);
-    let births = poisson(config.objects_per_step / mean_life)?;
+    let steady_rate = config.objects_per_step / mean_life;
     let initial = poisson(config.objects_per_step)?;
     let scale = rounding_scale(config.decimals);
     let mut rng = stream(seed, STREAM_TRUTH);
@@ -463,8 +518,15 @@ pub fn generate_truth(config: &SceneConfig, seed: u64) -> Result<TrajectorySet> 
     for step in start..end {
         // The warm-up starts from a population of the target size, so it needs to run only
         // long enough for positions and ages to mix.
-        let distribution = if step == start { &initial } else { &births };
-        for _ in 0..draw_count(distribution, &mut rng) {
+        let distribution = if step == start {
+            initial
+        } else {
+            let pull = config.relaxation_steps.map_or(0.0, |relaxation| {
+                (config.objects_per_step - alive.len() as f64) / relaxation
+            });
+            poisson((steady_rate + pull).max(0.0))?
+        };
+        for _ in 0..draw_count(&distribution, &mut rng) {
             alive.push(Mover::born(config, &mut rng));
         }
         alive.retain_mut(|mover| {
@@ -824,5 +886,416 @@ fn check_decimals(decimals: Option<u32>) -> Result<()> {
             "positions can be rounded to at most {MAX_DECIMALS} decimals, got {d}"
         ))),
         _ => Ok(()),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    type Points = Vec<(Step, Vec<f64>)>;
+
+    fn points(trajectory: &Trajectory) -> Points {
+        trajectory
+            .points()
+            .map(|(step, state)| (step, state.to_vec()))
+            .collect()
+    }
+
+    fn all_points(set: &TrajectorySet) -> Vec<Points> {
+        set.trajectories().iter().map(points).collect()
+    }
+
+    fn medium_truth() -> TrajectorySet {
+        generate_truth(&SceneConfig::preset(ScenePreset::Medium), 3).unwrap()
+    }
+
+    /// Two objects crossing in an X: `T1` along (k, k) and `T2` along (k, 20 - k) for steps
+    /// 0 to 20. They are |2k - 20| apart, within 2 at steps 9, 10 and 11 only.
+    fn crossing() -> TrajectorySet {
+        let line = |id: &str, y: fn(f64) -> f64| {
+            let points = (0..=20)
+                .map(|k| (k as Step, vec![k as f64, y(k as f64)]))
+                .collect();
+            Trajectory::new(id, 2, points).unwrap()
+        };
+        TrajectorySet::new(2, vec![line("T1", |x| x), line("T2", |x| 20.0 - x)]).unwrap()
+    }
+
+    #[test]
+    fn same_seed_gives_same_sets_and_other_seeds_differ() {
+        for preset in [ScenePreset::Small, ScenePreset::Harbour] {
+            let first = generate_scene(preset, 7);
+            let again = generate_scene(preset, 7);
+            assert_eq!(first, again);
+            let other = generate_scene(preset, 8);
+            assert_ne!(first.0, other.0);
+            assert_ne!(first.1, other.1);
+        }
+        // Another tracker seed on the same truth gives another estimate.
+        let (truth, estimate) = generate_scene(ScenePreset::Small, 7);
+        let other = imitate_tracker(&truth, &TrackerConfig::preset(ScenePreset::Small), 8).unwrap();
+        assert_ne!(estimate, other);
+    }
+
+    #[test]
+    fn truth_stays_in_its_region_window_and_grid() {
+        let config = SceneConfig::preset(ScenePreset::Medium);
+        let truth = medium_truth();
+        assert_eq!(truth.dim(), 2);
+        for (index, trajectory) in truth.trajectories().iter().enumerate() {
+            assert_eq!(trajectory.id(), format!("T{}", index + 1));
+            // No gaps: one point at each step from birth to death.
+            let (first, last) = trajectory.span().unwrap();
+            assert_eq!(trajectory.len() as Step, last - first + 1);
+            assert!(first >= 0 && last < config.steps as Step);
+            for (_, state) in trajectory.points() {
+                for &value in state {
+                    assert!((0.0..=config.region_size).contains(&value));
+                    // Rounded to 3 decimals: 1000 * value is an integer up to float error.
+                    let scaled = value * 1000.0;
+                    assert!((scaled - scaled.round()).abs() < 1e-6, "{value}");
+                }
+            }
+        }
+        // Ids come in order of first appearance.
+        let firsts: Vec<Step> = truth.trajectories().iter().map(|t| t.steps()[0]).collect();
+        assert!(firsts.windows(2).all(|pair| pair[0] <= pair[1]));
+    }
+
+    #[test]
+    fn preset_scenes_keep_the_target_count() {
+        // With the pull of 20 steps the count stays within about one object of the target
+        // (its spread is about sqrt(target * 20 / life)); 15% off the target would be a fault.
+        for (preset, target) in [(ScenePreset::Small, 8.0), (ScenePreset::Medium, 15.0)] {
+            let config = SceneConfig::preset(preset);
+            for seed in 1..=3 {
+                let truth = generate_truth(&config, seed).unwrap();
+                let per_step = truth.object_steps() as f64 / config.steps as f64;
+                assert!(
+                    (per_step - target).abs() < 0.15 * target,
+                    "{preset:?} seed {seed}: {per_step} objects a step"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn steady_birth_rate_meets_the_target_without_the_pull() {
+        // Short lives and a long scene: 2,000 steps of lives of about 10 give a mean count whose
+        // standard deviation is about sqrt(target * 2 * 10 / 2000) = 0.32; allow 1.0 (3 sigma).
+        let config = SceneConfig {
+            steps: 2_000,
+            mean_lifetime: 10.0,
+            relaxation_steps: None,
+            ..SceneConfig::spaced(2_000, 10.0)
+        };
+        for seed in 1..=2 {
+            let truth = generate_truth(&config, seed).unwrap();
+            let per_step = truth.object_steps() as f64 / 2_000.0;
+            assert!((per_step - 10.0).abs() < 1.0, "seed {seed}: {per_step}");
+        }
+    }
+
+    #[test]
+    fn preset_track_counts_are_near_the_benchmark_sizes() {
+        // The medium benchmark is meant to have about 45 truths and 250 tracks; allow a third
+        // either way for the seed.
+        let (truth, estimate) = generate_scene(ScenePreset::Medium, 1);
+        assert!((30..=60).contains(&truth.len()), "{} truths", truth.len());
+        assert!(
+            (170..=330).contains(&estimate.len()),
+            "{} tracks",
+            estimate.len()
+        );
+    }
+
+    #[test]
+    fn perfect_tracker_reproduces_the_truth_under_other_ids() {
+        let truth = medium_truth();
+        let estimate = imitate_tracker(&truth, &TrackerConfig::perfect(), 1).unwrap();
+        assert_eq!(estimate.len(), truth.len());
+        // Tracks start in the truths' order, so E(k) follows T(k).
+        for (index, (track, object)) in estimate
+            .trajectories()
+            .iter()
+            .zip(truth.trajectories())
+            .enumerate()
+        {
+            assert_eq!(track.id(), format!("E{}", index + 1));
+            assert_eq!(points(track), points(object));
+        }
+    }
+
+    #[test]
+    fn missed_detections_leave_gaps_at_their_rate() {
+        let truth = medium_truth();
+        let config = TrackerConfig {
+            miss_probability: 0.1,
+            ..TrackerConfig::perfect()
+        };
+        let estimate = imitate_tracker(&truth, &config, 1).unwrap();
+        // About 7,500 object steps: the kept fraction has a standard deviation of
+        // sqrt(0.09 / 7500) = 0.0035; allow 0.02.
+        let kept = estimate.object_steps() as f64 / truth.object_steps() as f64;
+        assert!((kept - 0.9).abs() < 0.02, "{kept}");
+        // Every reported point is a truth's point, and some tracks have gaps.
+        let truth_points: std::collections::HashSet<String> = all_points(&truth)
+            .iter()
+            .flatten()
+            .map(|p| format!("{p:?}"))
+            .collect();
+        let mut gaps = 0;
+        for track in estimate.trajectories() {
+            assert!(points(track)
+                .iter()
+                .all(|p| truth_points.contains(&format!("{p:?}"))));
+            let (first, last) = track.span().unwrap();
+            gaps += (last - first + 1) as usize - track.len();
+        }
+        assert!(gaps > 0);
+    }
+
+    #[test]
+    fn position_noise_has_its_standard_deviation() {
+        let truth = medium_truth();
+        let config = TrackerConfig {
+            position_noise: 2.0,
+            ..TrackerConfig::perfect()
+        };
+        let estimate = imitate_tracker(&truth, &config, 1).unwrap();
+        let mut errors = Vec::new();
+        for (track, object) in estimate.trajectories().iter().zip(truth.trajectories()) {
+            assert_eq!(track.steps(), object.steps());
+            for index in 0..track.len() {
+                for (a, b) in track.state(index).iter().zip(object.state(index)) {
+                    errors.push(a - b);
+                }
+            }
+        }
+        // About 15,000 errors: the sample mean's standard deviation is 2 / sqrt(15000) = 0.016
+        // and the sample deviation's 2 / sqrt(30000) = 0.012; allow 0.08 and 0.06 (5 sigma).
+        let n = errors.len() as f64;
+        let mean = errors.iter().sum::<f64>() / n;
+        let deviation = (errors.iter().map(|e| (e - mean) * (e - mean)).sum::<f64>() / n).sqrt();
+        assert!(mean.abs() < 0.08, "{mean}");
+        assert!((deviation - 2.0).abs() < 0.06, "{deviation}");
+    }
+
+    #[test]
+    fn clutter_adds_false_tracks_and_leaves_the_others_alone() {
+        let truth = medium_truth();
+        let clean = imitate_tracker(&truth, &TrackerConfig::perfect(), 1).unwrap();
+        let config = TrackerConfig {
+            clutter_rate: 0.5,
+            clutter_mean_lifetime: 5.0,
+            clutter_speed: 2.0,
+            ..TrackerConfig::perfect()
+        };
+        let cluttered = imitate_tracker(&truth, &config, 1).unwrap();
+        // 500 steps at 0.5 a step: 250 false tracks, Poisson with deviation 15.8; allow 50.
+        let extra = cluttered.len() as f64 - clean.len() as f64;
+        assert!((extra - 250.0).abs() < 50.0, "{extra}");
+        // The tracks that follow truths are the same points as without clutter.
+        let mut with: Vec<Points> = all_points(&cluttered);
+        let without = all_points(&clean);
+        with.retain(|track| without.contains(track));
+        assert_eq!(with.len(), without.len());
+        // False tracks start inside the box that bounds the truth.
+        let (lower, upper) = bounding_box(&truth);
+        for track in cluttered.trajectories() {
+            let start = track.state(0);
+            for axis in 0..2 {
+                assert!(start[axis] >= lower[axis] - 1e-9 && start[axis] <= upper[axis] + 1e-9);
+            }
+        }
+    }
+
+    #[test]
+    fn fragmentation_starts_new_ids_at_its_rate() {
+        let truth = medium_truth();
+        let always = TrackerConfig {
+            fragment_probability: 1.0,
+            ..TrackerConfig::perfect()
+        };
+        let estimate = imitate_tracker(&truth, &always, 1).unwrap();
+        // Every step of every object starts a new track: one track per object step.
+        assert_eq!(estimate.len(), truth.object_steps());
+        assert!(estimate.trajectories().iter().all(|t| t.len() == 1));
+
+        let some = TrackerConfig {
+            fragment_probability: 0.02,
+            ..TrackerConfig::perfect()
+        };
+        let estimate = imitate_tracker(&truth, &some, 1).unwrap();
+        // Each object step after an object's first can break its track: expect 2% of them, a
+        // binomial count of about 150 with deviation 12; allow 40.
+        let chances = (truth.object_steps() - truth.len()) as f64;
+        let breaks = (estimate.len() - truth.len()) as f64;
+        assert!(
+            (breaks - 0.02 * chances).abs() < 40.0,
+            "{breaks} of {chances}"
+        );
+        assert_eq!(estimate.object_steps(), truth.object_steps());
+    }
+
+    #[test]
+    fn birth_delay_hides_the_first_steps_of_each_object() {
+        let truth = medium_truth();
+        let config = TrackerConfig {
+            birth_delay: 3,
+            ..TrackerConfig::perfect()
+        };
+        let estimate = imitate_tracker(&truth, &config, 1).unwrap();
+        let expected: Vec<Points> = all_points(&truth)
+            .into_iter()
+            .map(|mut p| p.split_off(p.len().min(3)))
+            .filter(|p| !p.is_empty())
+            .collect();
+        let mut got = all_points(&estimate);
+        let mut expected = expected;
+        got.sort_by(|a, b| a.partial_cmp(b).unwrap());
+        expected.sort_by(|a, b| a.partial_cmp(b).unwrap());
+        assert_eq!(got, expected);
+    }
+
+    #[test]
+    fn tracks_swap_once_where_two_objects_cross() {
+        let truth = crossing();
+        let config = TrackerConfig {
+            swap_distance: 2.0,
+            swap_probability: 1.0,
+            ..TrackerConfig::perfect()
+        };
+        let estimate = imitate_tracker(&truth, &config, 1).unwrap();
+        assert_eq!(estimate.len(), 2);
+        // E1 follows T1 until the pass starts at step 9, then T2 to the end; the objects stay
+        // close at steps 10 and 11 without a second swap.
+        let e1 = estimate.get(0);
+        assert_eq!(e1.id(), "E1");
+        for (step, state) in e1.points() {
+            let k = step as f64;
+            let expected = if step < 9 { [k, k] } else { [k, 20.0 - k] };
+            assert!((state[0] - expected[0]).abs() < 1e-12, "step {step}");
+            assert!((state[1] - expected[1]).abs() < 1e-12, "step {step}");
+        }
+        // Without swaps the tracks are the truths.
+        let no_swap = TrackerConfig {
+            swap_probability: 0.0,
+            ..config
+        };
+        let estimate = imitate_tracker(&truth, &no_swap, 1).unwrap();
+        assert_eq!(all_points(&estimate), all_points(&truth));
+    }
+
+    #[test]
+    fn the_swap_tracker_swaps_on_a_generated_scene() {
+        let truth = medium_truth();
+        let config = TrackerConfig {
+            position_noise: 0.0,
+            miss_probability: 0.0,
+            birth_delay: 0,
+            decimals: None,
+            ..TrackerConfig::styled(ScenePreset::Medium, TrackerStyle::Swaps)
+        };
+        let estimate = imitate_tracker(&truth, &config, 1).unwrap();
+        assert_eq!(estimate.len(), truth.len());
+        // Without noise each point names its truth; a track whose points belong to two truths
+        // has swapped.
+        let owner: std::collections::HashMap<String, usize> = all_points(&truth)
+            .iter()
+            .enumerate()
+            .flat_map(|(object, p)| p.iter().map(move |q| (format!("{q:?}"), object)))
+            .collect();
+        let swapped = all_points(&estimate)
+            .iter()
+            .filter(|track| {
+                let first = owner[&format!("{:?}", track[0])];
+                track.iter().any(|p| owner[&format!("{p:?}")] != first)
+            })
+            .count();
+        assert!(swapped >= 1, "no track swapped");
+    }
+
+    #[test]
+    fn every_preset_is_valid_and_empty_inputs_give_empty_sets() {
+        for preset in [
+            ScenePreset::Small,
+            ScenePreset::Medium,
+            ScenePreset::Large,
+            ScenePreset::Harbour,
+        ] {
+            SceneConfig::preset(preset).validate().unwrap();
+            for style in [
+                TrackerStyle::Mixed,
+                TrackerStyle::Swaps,
+                TrackerStyle::Fragments,
+            ] {
+                TrackerConfig::styled(preset, style).validate().unwrap();
+            }
+        }
+        SceneConfig::default().validate().unwrap();
+        TrackerConfig::default().validate().unwrap();
+        let none = SceneConfig {
+            objects_per_step: 0.0,
+            ..SceneConfig::default()
+        };
+        let truth = generate_truth(&none, 1).unwrap();
+        assert!(truth.is_empty());
+        let estimate = imitate_tracker(&truth, &TrackerConfig::default(), 1).unwrap();
+        assert!(estimate.is_empty());
+    }
+
+    #[test]
+    fn out_of_range_settings_are_refused() {
+        let scenes = [
+            SceneConfig {
+                region_size: 0.0,
+                ..SceneConfig::default()
+            },
+            SceneConfig {
+                speed_max: 0.5,
+                ..SceneConfig::default()
+            },
+            SceneConfig {
+                relaxation_steps: Some(0.5),
+                ..SceneConfig::default()
+            },
+            SceneConfig {
+                decimals: Some(12),
+                ..SceneConfig::default()
+            },
+            SceneConfig {
+                objects_per_step: f64::NAN,
+                ..SceneConfig::default()
+            },
+        ];
+        for scene in scenes {
+            assert!(matches!(
+                generate_truth(&scene, 1),
+                Err(Error::Parameter(_))
+            ));
+        }
+        let truth = crossing();
+        let trackers = [
+            TrackerConfig {
+                miss_probability: 1.5,
+                ..TrackerConfig::perfect()
+            },
+            TrackerConfig {
+                position_noise: -1.0,
+                ..TrackerConfig::perfect()
+            },
+            TrackerConfig {
+                clutter_mean_lifetime: 0.0,
+                ..TrackerConfig::perfect()
+            },
+        ];
+        for tracker in trackers {
+            assert!(matches!(
+                imitate_tracker(&truth, &tracker, 1),
+                Err(Error::Parameter(_))
+            ));
+        }
     }
 }

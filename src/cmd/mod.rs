@@ -17,6 +17,7 @@ use switchyard::Error;
 
 mod score;
 mod steps;
+mod synth;
 
 /// Score multi-object trackers against ground truth with GOSPA and trajectory GOSPA.
 #[derive(Parser, Debug)]
@@ -33,6 +34,8 @@ enum Command {
     /// Trajectory GOSPA: one score for whole trajectories, split into localisation, missed,
     /// false and switching.
     Score(score::ScoreArgs),
+    /// Write a seeded synthetic ground truth and an imaginary tracker's output as CSV files.
+    Synth(synth::SynthArgs),
 }
 
 /// Where the inputs are and how to read them.
@@ -225,12 +228,34 @@ impl OutputArgs {
                     .with_context(|| format!("{}: cannot create a file here", dir.display()))?;
                 file.write_all(&buffer)
                     .with_context(|| format!("{}: write failed", path.display()))?;
+                // A temporary file is private; give the result the permissions of the file it
+                // replaces, or those of an ordinary new file.
+                let permissions = match std::fs::metadata(path) {
+                    Ok(existing) => existing.permissions(),
+                    Err(_) => ordinary_permissions(file.as_file())?,
+                };
+                file.as_file()
+                    .set_permissions(permissions)
+                    .with_context(|| format!("{}: cannot set permissions", path.display()))?;
                 file.persist(path)
                     .with_context(|| format!("{}: cannot write the file", path.display()))?;
                 Ok(())
             }
         }
     }
+}
+
+#[cfg(unix)]
+fn ordinary_permissions(file: &std::fs::File) -> anyhow::Result<std::fs::Permissions> {
+    use std::os::unix::fs::PermissionsExt;
+    let mut permissions = file.metadata()?.permissions();
+    permissions.set_mode(0o644);
+    Ok(permissions)
+}
+
+#[cfg(not(unix))]
+fn ordinary_permissions(file: &std::fs::File) -> anyhow::Result<std::fs::Permissions> {
+    Ok(file.metadata()?.permissions())
 }
 
 /// Runs the command line and maps errors to exit codes.
@@ -245,6 +270,7 @@ pub fn main() -> ExitCode {
     let result = match cli.command {
         Command::Steps(args) => steps::run(&args),
         Command::Score(args) => score::run(&args),
+        Command::Synth(args) => synth::run(&args),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -284,7 +284,9 @@ fn event_cuts(
         let pair = &pairs[m];
         for close in &pair.close {
             *truth_steps.entry((pair.truth, close.step)).or_default() += 1;
-            *estimate_steps.entry((pair.estimate, close.step)).or_default() += 1;
+            *estimate_steps
+                .entry((pair.estimate, close.step))
+                .or_default() += 1;
         }
     }
     let mut result = Vec::with_capacity(members.len());

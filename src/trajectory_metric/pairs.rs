@@ -68,7 +68,7 @@ pub fn candidate_pairs(
             }
         }
     }
-    events.sort_unstable_by(|a, b| (a.0, a.1, a.2).cmp(&(b.0, b.1, b.2)));
+    events.sort_unstable_by_key(|a| (a.0, a.1, a.2));
     let mut pairs: Vec<CandidatePair> = Vec::new();
     for (i, j, step, cost) in events {
         match pairs.last_mut() {

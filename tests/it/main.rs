@@ -4,3 +4,4 @@ mod metric_cases;
 mod reductions;
 mod references;
 mod support;
+mod synth;

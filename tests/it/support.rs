@@ -4,20 +4,11 @@ use proptest::prelude::*;
 use proptest::test_runner::{Config, RngSeed};
 use switchyard::trajectory::{Step, Trajectory, TrajectorySet};
 
-/// A set from `(id, [(step, state)])` lists.
-pub fn set(dim: usize, objects: &[(&str, Vec<(Step, Vec<f64>)>)]) -> TrajectorySet {
-    TrajectorySet::new(
-        dim,
-        objects
-            .iter()
-            .map(|(id, points)| Trajectory::new(*id, dim, points.clone()).unwrap())
-            .collect(),
-    )
-    .unwrap()
-}
+/// An object as `(id, [(step, state)])`.
+pub type Object = (String, Vec<(Step, Vec<f64>)>);
 
 /// A one-dimensional trajectory present at `steps` with the given positions.
-pub fn line(id: &str, first: Step, positions: &[f64]) -> (String, Vec<(Step, Vec<f64>)>) {
+pub fn line(id: &str, first: Step, positions: &[f64]) -> Object {
     (
         id.to_string(),
         positions
@@ -29,7 +20,7 @@ pub fn line(id: &str, first: Step, positions: &[f64]) -> (String, Vec<(Step, Vec
 }
 
 /// A set of one-dimensional trajectories from [`line`] results.
-pub fn lines(objects: Vec<(String, Vec<(Step, Vec<f64>)>)>) -> TrajectorySet {
+pub fn lines(objects: Vec<Object>) -> TrajectorySet {
     TrajectorySet::new(
         1,
         objects
