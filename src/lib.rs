@@ -40,6 +40,7 @@
 //! ```
 #![warn(missing_docs)]
 
+pub mod audit;
 pub mod distance;
 pub mod error;
 pub mod input;

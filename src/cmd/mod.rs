@@ -15,8 +15,10 @@ use switchyard::distance::Distance;
 use switchyard::input::{read_csv_path, CsvLayout, TrajectoryFile};
 use switchyard::Error;
 
+mod audit;
 mod score;
 mod steps;
+mod switches;
 mod synth;
 
 /// Score multi-object trackers against ground truth with GOSPA and trajectory GOSPA.
@@ -34,6 +36,11 @@ enum Command {
     /// Trajectory GOSPA: one score for whole trajectories, split into localisation, missed,
     /// false and switching.
     Score(score::ScoreArgs),
+    /// Every identity switch: when, which truth, which tracks before and after; and every
+    /// track that passes from one truth to another.
+    Switches(switches::SwitchesArgs),
+    /// How each true object was covered over time, worst first, and what each track followed.
+    Audit(audit::AuditArgs),
     /// Write a seeded synthetic ground truth and an imaginary tracker's output as CSV files.
     Synth(synth::SynthArgs),
 }
@@ -270,6 +277,8 @@ pub fn main() -> ExitCode {
     let result = match cli.command {
         Command::Steps(args) => steps::run(&args),
         Command::Score(args) => score::run(&args),
+        Command::Switches(args) => switches::run(&args),
+        Command::Audit(args) => audit::run(&args),
         Command::Synth(args) => synth::run(&args),
     };
     match result {

@@ -3,6 +3,7 @@
 use clap::Args;
 
 use switchyard::report::{score, InputInfo};
+use switchyard::switches::{jump_events, switch_events};
 use switchyard::trajectory_metric::{score_with, SolveOptions, TrajectoryScore};
 
 use super::{Format, Inputs, OutputArgs, TrajectoryArgs};
@@ -49,7 +50,11 @@ pub fn run(args: &ScoreArgs) -> anyhow::Result<()> {
     args.output.emit(|out| {
         match args.format {
             Format::Json => {
-                score::write_json(out, &score::ScoreDocument::new(&result, &info, engine))?
+                let (truth, estimate) = (&inputs.truth.set, &inputs.estimate.set);
+                let switches = switch_events(&result.assignment, truth, estimate, &result.params);
+                let jumps = jump_events(&result.assignment, truth, estimate, &result.params);
+                let document = score::ScoreDocument::new(&result, &info, engine, &switches, &jumps);
+                score::write_json(out, &document)?
             }
             _ => score::write_text(out, &result, &info, engine)?,
         }

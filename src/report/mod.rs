@@ -2,8 +2,10 @@
 //! takes any `impl Write`, so tests compare bytes in memory. Number formats are fixed, so the
 //! same input gives the same bytes.
 
+pub mod audit;
 pub mod score;
 pub mod steps;
+pub mod switches;
 
 use serde::Serialize;
 

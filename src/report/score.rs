@@ -5,6 +5,7 @@ use std::io::Write;
 use serde::Serialize;
 
 use super::{fixed, InputInfo};
+use crate::switches::{JumpEvent, SwitchEvent};
 use crate::trajectory::Window;
 use crate::trajectory_metric::{SolveStats, TrajectoryParams, TrajectoryScore};
 
@@ -46,11 +47,21 @@ pub struct ScoreDocument<'a> {
     pub engine: &'a str,
     /// LP sizes.
     pub lp: &'a SolveStats,
+    /// Switches seen from the truths (keys: time, truth, from, to, weight, cost).
+    pub switches: &'a [SwitchEvent],
+    /// Jumps seen from the estimates (keys: time, estimate, from, to, weight, cost).
+    pub jumps: &'a [JumpEvent],
 }
 
 impl<'a> ScoreDocument<'a> {
     /// The document for a score.
-    pub fn new(score: &'a TrajectoryScore, inputs: &'a InputInfo, engine: &'a str) -> Self {
+    pub fn new(
+        score: &'a TrajectoryScore,
+        inputs: &'a InputInfo,
+        engine: &'a str,
+        switches: &'a [SwitchEvent],
+        jumps: &'a [JumpEvent],
+    ) -> Self {
         ScoreDocument {
             metric: score.metric,
             total: score.total,
@@ -69,6 +80,8 @@ impl<'a> ScoreDocument<'a> {
             window: score.window,
             engine,
             lp: &score.stats,
+            switches,
+            jumps,
         }
     }
 }
