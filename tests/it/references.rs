@@ -172,3 +172,39 @@ fn trajectory_lp_matches_scipy_highs_on_the_full_model() {
         file.cases.len()
     );
 }
+
+#[test]
+fn switch_events_account_for_fractional_solutions() {
+    // On the reference scenes whose LP optimum is fractional (found by the scripts' seed
+    // search), the events must still add up: costs to the switching part, moved weight to the
+    // total weight change.
+    let file: TrajectoryFile = read("trajectory_cases.json");
+    let mut fractional = 0;
+    for case in &file.cases {
+        let dim = dimension(case);
+        let (x, y) = (to_set(&case.truth, dim), to_set(&case.estimate, dim));
+        let params = TrajectoryParams::new(case.cutoff, case.order, case.switch_penalty).unwrap();
+        let s = score(&x, &y, &params, &Distance::default()).unwrap();
+        if s.integral {
+            continue;
+        }
+        fractional += 1;
+        let events = switchyard::switches::switch_events(&s.assignment, &x, &y, &params);
+        let cost: f64 = events.iter().map(|e| e.cost).sum();
+        assert_relative_eq!(cost, s.switching, epsilon = 1e-9, max_relative = 1e-9);
+        let moved: f64 = events
+            .iter()
+            .map(|e| if e.from.is_some() && e.to.is_some() { 2.0 } else { 1.0 } * e.weight)
+            .sum();
+        assert_relative_eq!(
+            moved,
+            2.0 * s.switch_count,
+            epsilon = 1e-9,
+            max_relative = 1e-9
+        );
+    }
+    assert!(
+        fractional >= 3,
+        "expected fractional reference scenes, found {fractional}"
+    );
+}

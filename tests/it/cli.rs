@@ -1,0 +1,274 @@
+//! The commands `steps`, `score`, `switches` and `audit` through the real binary on the demo
+//! data: output contracts (JSON keys, CSV rows), internal consistency, and the same bytes on
+//! every run. Values checked against the library are independent of the printing path only;
+//! the metric itself is checked in `references.rs` and `metric_cases.rs`.
+
+use assert_cmd::Command;
+use serde_json::Value;
+
+fn demo(name: &str) -> String {
+    format!("{}/demo-data/{name}", env!("CARGO_MANIFEST_DIR"))
+}
+
+fn run(args: &[&str]) -> Vec<u8> {
+    let output = Command::cargo_bin("switchyard")
+        .unwrap()
+        .args(args)
+        .output()
+        .unwrap();
+    assert!(
+        output.status.success(),
+        "switchyard {args:?} failed: {}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+    output.stdout
+}
+
+fn json(args: &[&str]) -> Value {
+    serde_json::from_slice(&run(args)).unwrap()
+}
+
+fn number(value: &Value, key: &str) -> f64 {
+    value[key]
+        .as_f64()
+        .unwrap_or_else(|| panic!("{key} is not a number in {value}"))
+}
+
+#[test]
+fn score_json_keeps_its_contract_and_its_parts_add_up() {
+    let (truth, estimate) = (demo("truth.csv"), demo("tracker-fragments.csv"));
+    let doc = json(&[
+        "score",
+        "--truth",
+        &truth,
+        "--estimate",
+        &estimate,
+        "--cutoff",
+        "20",
+        "--format",
+        "json",
+    ]);
+    for key in [
+        "metric",
+        "total",
+        "per_step",
+        "steps",
+        "localization",
+        "missed",
+        "false",
+        "switching",
+        "missed_count",
+        "false_count",
+        "switch_count",
+        "integral",
+        "params",
+        "switches",
+        "jumps",
+    ] {
+        assert!(doc.get(key).is_some(), "missing key {key}");
+    }
+    for key in ["cutoff", "order", "switch_penalty"] {
+        assert!(doc["params"].get(key).is_some(), "missing params.{key}");
+    }
+    // The default switching penalty is the cut-off (specs/metric.md).
+    assert_eq!(number(&doc["params"], "switch_penalty"), 20.0);
+    let parts = ["localization", "missed", "false", "switching"]
+        .iter()
+        .map(|k| number(&doc, k))
+        .sum::<f64>();
+    let total = number(&doc, "total");
+    assert!((parts - total).abs() <= 1e-9 * total);
+    // d^p with p = 1, per step = total / steps; missed part = (c/2) x missed object-steps.
+    assert!((number(&doc, "metric") - total).abs() <= 1e-9 * total);
+    assert!((number(&doc, "per_step") - total / number(&doc, "steps")).abs() <= 1e-9 * total);
+    assert!((number(&doc, "missed") - 10.0 * number(&doc, "missed_count")).abs() <= 1e-9 * total);
+    let event_cost: f64 = doc["switches"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|e| number(e, "cost"))
+        .sum();
+    assert!((event_cost - number(&doc, "switching")).abs() <= 1e-9 * total.max(1.0));
+    for event in doc["switches"].as_array().unwrap() {
+        let keys: Vec<&str> = event
+            .as_object()
+            .unwrap()
+            .keys()
+            .map(String::as_str)
+            .collect();
+        assert_eq!(keys, vec!["cost", "from", "time", "to", "truth", "weight"]);
+    }
+}
+
+#[test]
+fn switches_on_the_swapping_tracker_are_the_generated_swaps() {
+    // The demo tracker "swaps" keeps whole tracks and only exchanges boats between two tracks
+    // when two boats pass close (demo-data/README.md). So every switch is full and has a mirror
+    // image at the same step: truth a passes from track p to q while truth b passes from q to p.
+    let (truth, estimate) = (demo("truth.csv"), demo("tracker-swaps.csv"));
+    let doc = json(&[
+        "switches",
+        "--truth",
+        &truth,
+        "--estimate",
+        &estimate,
+        "--cutoff",
+        "20",
+        "--format",
+        "json",
+    ]);
+    let switches = doc["switches"].as_array().unwrap();
+    assert!(!switches.is_empty() && switches.len() % 2 == 0);
+    assert!(switches
+        .iter()
+        .all(|e| e["from"].is_string() && e["to"].is_string() && e["weight"] == 1.0));
+    for e in switches {
+        let mirrored = switches.iter().any(|m| {
+            m["time"] == e["time"]
+                && m["truth"] != e["truth"]
+                && m["from"] == e["to"]
+                && m["to"] == e["from"]
+        });
+        assert!(mirrored, "no mirror image for {e}");
+    }
+    assert_eq!(number(&doc, "switch_count"), switches.len() as f64);
+    let n = switches.len();
+    let csv = String::from_utf8(run(&[
+        "switches",
+        "--truth",
+        &truth,
+        "--estimate",
+        &estimate,
+        "--cutoff",
+        "20",
+        "--format",
+        "csv",
+    ]))
+    .unwrap();
+    assert_eq!(
+        csv.lines().next(),
+        Some("side,time,object,from,to,weight,cost")
+    );
+    assert_eq!(csv.lines().count(), 1 + 2 * n);
+}
+
+#[test]
+fn audit_ranks_worst_first_and_top_limits_the_list() {
+    let (truth, estimate) = (demo("truth.csv"), demo("tracker-fragments.csv"));
+    let doc = json(&[
+        "audit",
+        "--truth",
+        &truth,
+        "--estimate",
+        &estimate,
+        "--cutoff",
+        "20",
+        "--format",
+        "json",
+        "--top",
+        "5",
+    ]);
+    let truths = doc["truths"].as_array().unwrap();
+    assert_eq!(truths.len(), 5);
+    for pair in truths.windows(2) {
+        let key = |t: &Value| (number(t, "switches"), t["longest_missed"].as_u64().unwrap());
+        let (a, b) = (key(&pair[0]), key(&pair[1]));
+        assert!(
+            a.0 > b.0 || (a.0 == b.0 && a.1 >= b.1),
+            "not worst first: {a:?} then {b:?}"
+        );
+    }
+    for t in truths {
+        let covered: u64 = t["covered"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|s| s["steps"].as_u64().unwrap())
+            .sum();
+        let missed: u64 = t["missed"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|s| s["steps"].as_u64().unwrap())
+            .sum();
+        assert_eq!(covered + missed, t["present_steps"].as_u64().unwrap());
+    }
+}
+
+#[test]
+fn steps_csv_has_one_row_per_step_of_the_window() {
+    let (truth, estimate) = (demo("truth.csv"), demo("tracker-swaps.csv"));
+    let csv = String::from_utf8(run(&[
+        "steps",
+        "--truth",
+        &truth,
+        "--estimate",
+        &estimate,
+        "--cutoff",
+        "20",
+        "--format",
+        "csv",
+    ]))
+    .unwrap();
+    // The demo covers scans 0 to 299 (demo-data/README.md).
+    assert_eq!(csv.lines().count(), 1 + 300);
+    let doc = json(&[
+        "steps",
+        "--truth",
+        &truth,
+        "--estimate",
+        &estimate,
+        "--cutoff",
+        "20",
+        "--format",
+        "json",
+    ]);
+    let steps = doc["steps"].as_array().unwrap();
+    for key in [
+        "time",
+        "gospa",
+        "localization",
+        "missed",
+        "false",
+        "missed_count",
+        "false_count",
+    ] {
+        assert!(steps[0].get(key).is_some(), "missing steps[].{key}");
+    }
+    // Each step's parts add up to gospa^p (p = 1).
+    for s in steps {
+        let parts = number(s, "localization") + number(s, "missed") + number(s, "false");
+        assert!((parts - number(s, "gospa")).abs() <= 1e-9 * parts.max(1.0));
+    }
+}
+
+#[test]
+fn same_input_same_bytes_whatever_the_thread_count() {
+    let (truth, estimate) = (demo("truth.csv"), demo("tracker-fragments.csv"));
+    let args = [
+        "score",
+        "--truth",
+        &truth,
+        "--estimate",
+        &estimate,
+        "--cutoff",
+        "20",
+        "--format",
+        "json",
+    ];
+    let outputs: Vec<Vec<u8>> = ["1", "2", "1"]
+        .iter()
+        .map(|threads| {
+            Command::cargo_bin("switchyard")
+                .unwrap()
+                .env("RAYON_NUM_THREADS", threads)
+                .args(args)
+                .output()
+                .unwrap()
+                .stdout
+        })
+        .collect();
+    assert!(!outputs[0].is_empty());
+    assert_eq!(outputs[0], outputs[1]);
+    assert_eq!(outputs[0], outputs[2]);
+}
