@@ -14,7 +14,7 @@ use serde::Deserialize;
 use switchyard::distance::Distance;
 use switchyard::per_step::{gospa_between, GospaParams};
 use switchyard::trajectory::{Step, Trajectory, TrajectorySet};
-use switchyard::trajectory_metric::{score, TrajectoryParams};
+use switchyard::trajectory_metric::{score, score_with, Engine, SolveOptions, TrajectoryParams};
 
 #[derive(Deserialize)]
 struct PerStepFile {
