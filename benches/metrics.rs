@@ -4,6 +4,7 @@
 //! - the trajectory LP, whole pipeline, on the small (200 steps, ~8 objects a step) and medium
 //!   (500 steps, ~15 objects a step) scenes, c = 10, p = 1, gamma = 10, with the default engine
 //!   (and HiGHS when built with `--features highs`).
+//!
 //! The large scene takes too long for repeated sampling; `examples/scale.rs` times it once.
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};

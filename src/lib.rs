@@ -18,6 +18,8 @@
 //! - [`per_step`]: GOSPA at each step, with its parts;
 //! - [`trajectory_metric`]: trajectory GOSPA as a linear program, reduced exactly;
 //! - [`synth`]: seeded synthetic scenes: a ground truth and an imaginary tracker's output;
+//! - [`compare`]: several trackers over sequences and Monte Carlo runs: rankings, paired
+//!   bootstrap intervals, parameter sweeps;
 //! - [`error`]: the error type.
 //!
 //! # Example
@@ -41,6 +43,7 @@
 #![warn(missing_docs)]
 
 pub mod audit;
+pub mod compare;
 pub mod distance;
 pub mod error;
 pub mod input;

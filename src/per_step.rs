@@ -68,9 +68,15 @@ pub(crate) fn check_cutoff_order(cutoff: f64, order: f64) -> Result<()> {
             "the order must be a finite number >= 1, got {order}"
         )));
     }
-    if !power(cutoff, order).is_finite() {
+    let cutoff_power = power(cutoff, order);
+    if !cutoff_power.is_finite() {
         return Err(Error::Parameter(format!(
             "the cut-off {cutoff} raised to the order {order} overflows"
+        )));
+    }
+    if cutoff_power < f64::MIN_POSITIVE {
+        return Err(Error::Parameter(format!(
+            "the cut-off {cutoff} raised to the order {order} underflows (below 2.2e-308)"
         )));
     }
     Ok(())
@@ -147,7 +153,8 @@ impl Workspace {
         pairs.sort_by_key(|&(i, j, _)| (i, j));
         let gain: f64 = pairs.iter().map(|&(_, _, dp)| dp - cp).sum();
         let assigned = pairs.len();
-        let localization: f64 = pairs.iter().map(|&(_, _, dp)| dp).sum();
+        // Folded from +0.0: `Sum` for f64 starts from -0.0, which would print as "-0".
+        let localization: f64 = pairs.iter().fold(0.0, |sum, &(_, _, dp)| sum + dp);
         let missed_count = m - assigned;
         let false_count = n - assigned;
         let (power, parts) = if params.alpha == 2.0 {
@@ -344,7 +351,8 @@ pub struct StepSeries {
 /// Per-step GOSPA for every step of the window covering both sets.
 ///
 /// # Errors
-/// Sets of different dimensions, or a window too long to hold.
+/// Sets of different dimensions, a window too long to hold, a distance that does not fit the
+/// states or the cut-off ([`Distance::check_inputs`]).
 pub fn per_step(
     truth: &TrajectorySet,
     estimate: &TrajectorySet,
@@ -352,6 +360,7 @@ pub fn per_step(
     distance: &Distance,
 ) -> Result<StepSeries> {
     let window = crate::trajectory::evaluation_window(truth, estimate)?;
+    distance.check_inputs(truth, estimate, params.cutoff)?;
     let mut steps = Vec::new();
     if let Some(window) = window {
         let truth_frames = Frames::new(truth, window);
@@ -387,6 +396,16 @@ pub fn per_step(
         }
     }
     let summary = summarise(&steps, params);
+    let parts = [summary.localization, summary.missed, summary.false_];
+    if !(summary.sum.is_finite()
+        && summary.root_mean_power.is_finite()
+        && parts.iter().all(|part| part.is_none_or(f64::is_finite)))
+    {
+        return Err(Error::Parameter(format!(
+            "the cut-off {} is too large for these inputs: the sums over the steps overflow",
+            params.cutoff
+        )));
+    }
     Ok(StepSeries {
         window,
         steps,
@@ -396,10 +415,13 @@ pub fn per_step(
 
 fn summarise(steps: &[StepScore], params: &GospaParams) -> StepSummary {
     let count = steps.len();
-    let sum: f64 = steps.iter().map(|s| s.gospa).sum();
-    let power_sum: f64 = steps.iter().map(|s| power(s.gospa, params.order)).sum();
+    // Sums fold from +0.0 (`Sum` for f64 starts from -0.0, which would print as "-0").
+    let sum: f64 = steps.iter().fold(0.0, |sum, s| sum + s.gospa);
+    let power_sum: f64 = steps
+        .iter()
+        .fold(0.0, |sum, s| sum + power(s.gospa, params.order));
     let part = |f: fn(&StepScore) -> Option<f64>| -> Option<f64> {
-        steps.iter().map(f).sum::<Option<f64>>()
+        steps.iter().try_fold(0.0, |sum, s| f(s).map(|v| sum + v))
     };
     let divide = |x: f64| if count == 0 { 0.0 } else { x / count as f64 };
     let with_parts = params.alpha == 2.0;

@@ -5,7 +5,7 @@ use clap::Args;
 
 use switchyard::audit::audit;
 use switchyard::report::audit::{write_csv, write_json, write_text, AuditDocument};
-use switchyard::report::InputInfo;
+use switchyard::report::{Exactness, InputInfo};
 use switchyard::switches::switch_events;
 
 use super::score::compute;
@@ -40,6 +40,7 @@ pub fn run(args: &AuditArgs) -> anyhow::Result<()> {
         inputs: &info,
         truths: &report.truths,
         estimates: &report.estimates,
+        exactness: Exactness::new(&result),
     };
     args.output.emit(|out| {
         match args.format {

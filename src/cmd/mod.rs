@@ -11,11 +11,14 @@ use std::process::ExitCode;
 use anyhow::{bail, Context};
 use clap::{Args, Parser, Subcommand, ValueEnum};
 
-use switchyard::distance::Distance;
+use switchyard::distance::{BoxLayout, Distance};
 use switchyard::input::{read_csv_path, CsvLayout, TrajectoryFile};
+use switchyard::trajectory_metric::ExactBudget;
 use switchyard::Error;
 
 mod audit;
+mod compare;
+mod report;
 mod score;
 mod steps;
 mod switches;
@@ -41,6 +44,12 @@ enum Command {
     Switches(switches::SwitchesArgs),
     /// How each true object was covered over time, worst first, and what each track followed.
     Audit(audit::AuditArgs),
+    /// Compare several trackers over sequences and Monte Carlo runs: rankings, paired
+    /// bootstrap intervals against the best, parameter sweeps, per-step summaries over runs.
+    Compare(compare::CompareArgs),
+    /// One self-contained HTML page to look at: errors over time, which track covered each
+    /// true object, a top view of the paths, and a summary; several trackers side by side.
+    Report(report::ReportArgs),
     /// Write a seeded synthetic ground truth and an imaginary tracker's output as CSV files.
     Synth(synth::SynthArgs),
 }
@@ -54,6 +63,15 @@ pub struct InputArgs {
     /// The tracker's output as CSV (`-` for standard input).
     #[arg(long, value_name = "FILE")]
     pub estimate: String,
+    #[command(flatten)]
+    pub csv: CsvOptions,
+    #[command(flatten)]
+    pub distance: DistanceOptions,
+}
+
+/// How CSV files are read: the columns, the times and the delimiter.
+#[derive(Args, Debug, Clone)]
+pub struct CsvOptions {
     /// Name of the time column.
     #[arg(long, value_name = "NAME", default_value = "time")]
     pub time_column: String,
@@ -70,12 +88,23 @@ pub struct InputArgs {
     /// Field delimiter, one character (use `tab` for tabs).
     #[arg(long, value_name = "CHAR", default_value = ",")]
     pub delimiter: String,
-    /// Base distance between states.
+}
+
+/// The base distance between states (`specs/distances.md`).
+#[derive(Args, Debug, Clone)]
+pub struct DistanceOptions {
+    /// Base distance between states. iou and geodesic need --state-columns: the box's 4 or 6
+    /// columns in the --box layout, or latitude then longitude in degrees.
     #[arg(long, value_enum, default_value_t = DistanceKind::Euclidean)]
     pub distance: DistanceKind,
     /// Per-column weights for euclidean, manhattan and chebyshev, comma-separated.
     #[arg(long, value_name = "W", value_delimiter = ',')]
     pub weights: Option<Vec<f64>>,
+    /// How iou reads a box from the state columns: corner-size (x, y, width, height),
+    /// corners (x1, y1, x2, y2) or centre-size (cx, cy, width, height); 3-D boxes have 6
+    /// columns (x, y, z, width, height, depth, and so on) [default: corner-size].
+    #[arg(long = "box", value_enum, value_name = "LAYOUT")]
+    pub box_layout: Option<BoxKind>,
 }
 
 /// The base distances offered on the command line.
@@ -87,6 +116,32 @@ pub enum DistanceKind {
     Manhattan,
     /// Largest absolute difference (optionally weighted).
     Chebyshev,
+    /// 1 - IoU of axis-aligned boxes, 2-D or 3-D (cut-off in (0, 1]).
+    Iou,
+    /// Great-circle distance in metres between latitude/longitude points in degrees.
+    Geodesic,
+}
+
+/// Box layouts on the command line.
+#[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
+pub enum BoxKind {
+    /// A corner and the sizes: x, y, width, height (3-D: x, y, z, width, height, depth).
+    CornerSize,
+    /// Two opposite corners: x1, y1, x2, y2 (3-D: x1, y1, z1, x2, y2, z2).
+    Corners,
+    /// The centre and the sizes: cx, cy, width, height (3-D: cx, cy, cz, width, height, depth).
+    #[value(alias = "center-size")]
+    CentreSize,
+}
+
+impl From<BoxKind> for BoxLayout {
+    fn from(kind: BoxKind) -> Self {
+        match kind {
+            BoxKind::CornerSize => BoxLayout::CornerSize,
+            BoxKind::Corners => BoxLayout::Corners,
+            BoxKind::CentreSize => BoxLayout::CentreSize,
+        }
+    }
 }
 
 /// The two inputs, read and checked.
@@ -96,8 +151,9 @@ pub struct Inputs {
     pub distance: Distance,
 }
 
-impl InputArgs {
-    fn layout(&self) -> anyhow::Result<CsvLayout> {
+impl CsvOptions {
+    /// The layout these options describe.
+    pub fn layout(&self) -> anyhow::Result<CsvLayout> {
         let delimiter = match self.delimiter.as_str() {
             "tab" | "\\t" => b'\t',
             text if text.len() == 1 && text.is_ascii() => text.as_bytes()[0],
@@ -109,24 +165,75 @@ impl InputArgs {
             state_columns: self.state_columns.clone(),
             time_step: self.time_step,
             delimiter,
+            distance: None,
         })
     }
+}
 
+impl DistanceOptions {
+    /// The distance these options describe, with the options that do not go together refused:
+    /// `--weights` other than with euclidean, manhattan or chebyshev, `--box` other than with
+    /// iou, iou or geodesic without `--state-columns`, or with the wrong number of them. The
+    /// caller still checks the cut-off and the data ([`Distance::validate`]; per row with
+    /// [`CsvLayout::distance`]).
+    pub fn build(&self, csv: &CsvOptions) -> anyhow::Result<Distance> {
+        let name = self
+            .distance
+            .to_possible_value()
+            .map_or_else(String::new, |value| value.get_name().to_string());
+        let weights = self.weights.clone();
+        if weights.is_some() && matches!(self.distance, DistanceKind::Iou | DistanceKind::Geodesic)
+        {
+            bail!(
+                "invalid parameter: --weights applies to the euclidean, manhattan and chebyshev \
+                 distances, not to {name}"
+            );
+        }
+        if self.box_layout.is_some() && self.distance != DistanceKind::Iou {
+            bail!("invalid parameter: --box applies to the iou distance, not to {name}");
+        }
+        let distance = match self.distance {
+            DistanceKind::Euclidean => Distance::Euclidean { weights },
+            DistanceKind::Manhattan => Distance::Manhattan { weights },
+            DistanceKind::Chebyshev => Distance::Chebyshev { weights },
+            DistanceKind::Iou => {
+                Distance::Iou(self.box_layout.unwrap_or(BoxKind::CornerSize).into())
+            }
+            DistanceKind::Geodesic => Distance::Geodesic,
+        };
+        match (&distance, &csv.state_columns) {
+            (Distance::Iou(layout), None) => bail!(
+                "invalid parameter: the iou distance needs --state-columns naming the box's \
+                 4 columns ({}) or 6 ({}) in the {} layout",
+                layout.columns(2),
+                layout.columns(3),
+                layout.name()
+            ),
+            (Distance::Geodesic, None) => bail!(
+                "invalid parameter: the geodesic distance needs --state-columns naming the \
+                 latitude and the longitude columns, in that order (for example \
+                 --state-columns lat,lon)"
+            ),
+            (_, Some(columns)) => distance.check_dimension(columns.len())?,
+            _ => {}
+        }
+        Ok(distance)
+    }
+}
+
+impl InputArgs {
     /// Reads both files and checks they can be compared with the chosen distance.
     pub fn read(&self, cutoff: f64) -> anyhow::Result<Inputs> {
         if self.truth == "-" && self.estimate == "-" {
             bail!("invalid parameter: only one of --truth and --estimate can read standard input");
         }
-        let layout = self.layout()?;
+        let distance = self.distance.build(&self.csv)?;
+        distance.check_cutoff(cutoff)?;
+        let mut layout = self.csv.layout()?;
+        layout.distance = Some(distance.clone());
         let truth = read_csv_path(&self.truth, &layout)?;
         let estimate = read_csv_path(&self.estimate, &layout)?;
         truth.check_comparable(&estimate)?;
-        let weights = self.weights.clone();
-        let distance = match self.distance {
-            DistanceKind::Euclidean => Distance::Euclidean { weights },
-            DistanceKind::Manhattan => Distance::Manhattan { weights },
-            DistanceKind::Chebyshev => Distance::Chebyshev { weights },
-        };
         distance.validate(truth.set.dim(), cutoff)?;
         Ok(Inputs {
             truth,
@@ -141,6 +248,13 @@ impl InputArgs {
 pub struct TrajectoryArgs {
     #[command(flatten)]
     pub input: InputArgs,
+    #[command(flatten)]
+    pub metric: MetricArgs,
+}
+
+/// The trajectory metric's parameters and how it is solved, without the inputs.
+#[derive(Args, Debug, Clone)]
+pub struct MetricArgs {
     /// Cut-off c > 0: the most one object can cost at one step.
     #[arg(long, short = 'c', value_name = "C")]
     pub cutoff: f64,
@@ -150,14 +264,49 @@ pub struct TrajectoryArgs {
     /// Switching penalty gamma >= 0: a full switch costs gamma^p [default: the cut-off].
     #[arg(long, short = 'g', value_name = "G")]
     pub switch_penalty: Option<f64>,
-    /// LP engine (highs only in builds with the `highs` feature).
-    #[arg(long, value_enum, default_value_t = EngineKind::Microlp)]
+    /// LP engine: auto picks HiGHS when this build has it (`--features highs`), else microlp.
+    #[arg(long, value_enum, default_value_t = EngineKind::Auto)]
     pub engine: EngineKind,
+    /// Compute the exact trajectory GOSPA: groups whose LP optimum is fractional are solved
+    /// again as integer programs (branch and bound).
+    #[arg(long)]
+    pub exact: bool,
+    /// Stop the integer programs after this budget: seconds (`30s`, counted after the LP; a
+    /// result stopped by it depends on the machine's speed) or branch-and-bound nodes per group
+    /// (`5000nodes`). A search stopped early is reported as not proven, with its bounds.
+    /// [default: no limit]
+    #[arg(long, value_name = "BUDGET", requires = "exact", value_parser = parse_budget)]
+    pub exact_budget: Option<ExactBudget>,
+}
+
+/// Reads `--exact-budget`: `<seconds>s` or `<count>nodes`.
+fn parse_budget(text: &str) -> Result<ExactBudget, String> {
+    let text = text.trim();
+    let bad = || {
+        format!(
+            "expected seconds (like `30s` or `0.5s`) or a node count (like `5000nodes`), got {text:?}"
+        )
+    };
+    if let Some(count) = text.strip_suffix("nodes") {
+        let nodes: u64 = count.trim().parse().map_err(|_| bad())?;
+        return Ok(ExactBudget::Nodes(nodes));
+    }
+    let seconds: f64 = text
+        .strip_suffix('s')
+        .ok_or_else(bad)?
+        .trim()
+        .parse()
+        .map_err(|_| bad())?;
+    std::time::Duration::try_from_secs_f64(seconds)
+        .map(ExactBudget::Seconds)
+        .map_err(|_| format!("the seconds must be a number >= 0 and below 10^19, got {text:?}"))
 }
 
 /// LP engines on the command line.
 #[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
 pub enum EngineKind {
+    /// HiGHS if built in, else microlp.
+    Auto,
     /// microlp, pure Rust (always available).
     Microlp,
     /// HiGHS (builds with `--features highs`).
@@ -167,6 +316,7 @@ pub enum EngineKind {
 impl From<EngineKind> for switchyard::trajectory_metric::Engine {
     fn from(kind: EngineKind) -> Self {
         match kind {
+            EngineKind::Auto => switchyard::trajectory_metric::Engine::default(),
             EngineKind::Microlp => switchyard::trajectory_metric::Engine::Microlp,
             EngineKind::Highs => switchyard::trajectory_metric::Engine::Highs,
         }
@@ -176,11 +326,34 @@ impl From<EngineKind> for switchyard::trajectory_metric::Engine {
 impl TrajectoryArgs {
     /// The checked parameters; the switching penalty defaults to the cut-off.
     pub fn params(&self) -> anyhow::Result<switchyard::trajectory_metric::TrajectoryParams> {
+        self.metric.params()
+    }
+
+    /// The exact-metric budget, when `--exact` is given.
+    pub fn exact(&self) -> Option<ExactBudget> {
+        self.metric.exact()
+    }
+
+    /// The engine's name for output.
+    pub fn engine_name(&self) -> &'static str {
+        self.metric.engine_name()
+    }
+}
+
+impl MetricArgs {
+    /// The checked parameters; the switching penalty defaults to the cut-off.
+    pub fn params(&self) -> anyhow::Result<switchyard::trajectory_metric::TrajectoryParams> {
         Ok(switchyard::trajectory_metric::TrajectoryParams::new(
             self.cutoff,
             self.order,
             self.switch_penalty.unwrap_or(self.cutoff),
         )?)
+    }
+
+    /// The exact-metric budget, when `--exact` is given.
+    pub fn exact(&self) -> Option<ExactBudget> {
+        self.exact
+            .then(|| self.exact_budget.unwrap_or(ExactBudget::Unlimited))
     }
 
     /// The engine's name for output.
@@ -204,7 +377,7 @@ pub enum Format {
 #[derive(Args, Debug, Clone)]
 pub struct OutputArgs {
     /// Write to FILE instead of standard output; the file appears only when complete.
-    #[arg(long, short = 'o', value_name = "FILE")]
+    #[arg(long, short = 'o', value_name = "FILE", visible_alias = "out")]
     pub output: Option<PathBuf>,
 }
 
@@ -279,6 +452,8 @@ pub fn main() -> ExitCode {
         Command::Score(args) => score::run(&args),
         Command::Switches(args) => switches::run(&args),
         Command::Audit(args) => audit::run(&args),
+        Command::Compare(args) => compare::run(&args),
+        Command::Report(args) => report::run(&args),
         Command::Synth(args) => synth::run(&args),
     };
     match result {
@@ -305,5 +480,28 @@ mod tests {
     #[test]
     fn command_line_definition_is_consistent() {
         Cli::command().debug_assert();
+    }
+
+    #[test]
+    fn exact_budgets_parse_or_explain() {
+        assert_eq!(
+            parse_budget("30s"),
+            Ok(ExactBudget::Seconds(std::time::Duration::from_secs(30)))
+        );
+        assert_eq!(
+            parse_budget("0.5s"),
+            Ok(ExactBudget::Seconds(std::time::Duration::from_millis(500)))
+        );
+        assert_eq!(
+            parse_budget("0s"),
+            Ok(ExactBudget::Seconds(std::time::Duration::ZERO))
+        );
+        assert_eq!(parse_budget("5000nodes"), Ok(ExactBudget::Nodes(5000)));
+        assert_eq!(parse_budget("0nodes"), Ok(ExactBudget::Nodes(0)));
+        for bad in [
+            "", "30", "-1s", "nans", "infs", "1e30s", "1.5nodes", "-3nodes", "s", "nodes", "3m",
+        ] {
+            assert!(parse_budget(bad).is_err(), "{bad:?} was accepted");
+        }
     }
 }

@@ -25,7 +25,8 @@ pub fn compute(args: &TrajectoryArgs) -> anyhow::Result<(Inputs, TrajectoryScore
     let params = args.params()?;
     let inputs = args.input.read(params.cutoff)?;
     let options = SolveOptions {
-        engine: args.engine.into(),
+        engine: args.metric.engine.into(),
+        exact: args.exact(),
         ..SolveOptions::default()
     };
     let result = score_with(

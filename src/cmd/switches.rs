@@ -3,7 +3,7 @@
 use clap::Args;
 
 use switchyard::report::switches::{write_csv, write_json, write_text, SwitchesDocument};
-use switchyard::report::InputInfo;
+use switchyard::report::{Exactness, InputInfo};
 use switchyard::switches::{jump_events, switch_events};
 
 use super::score::compute;
@@ -34,6 +34,7 @@ pub fn run(args: &SwitchesArgs) -> anyhow::Result<()> {
         switch_count: result.switch_count,
         switches: &switches,
         jumps: &jumps,
+        exactness: Exactness::new(&result),
     };
     args.output.emit(|out| {
         match args.format {

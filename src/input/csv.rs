@@ -5,19 +5,31 @@
 //! step indices; decimal timestamps need a step size, and then step = round(t / step size).
 //! Fields are trimmed of surrounding white space; quoted fields, CRLF line ends and a UTF-8
 //! byte-order mark are accepted. Rows of one id may come in any order. The reader streams:
-//! memory grows with the number of points kept, not with the size of the text.
+//! memory grows with the number of points kept, not with the size of the text, and one row may
+//! hold at most [`MAX_RECORD_BYTES`].
 
+use std::cell::{Cell, RefCell};
+use std::collections::VecDeque;
 use std::fs::File;
 use std::io::{self, Read};
+use std::rc::Rc;
 
 use indexmap::IndexMap;
 
+use crate::distance::Distance;
 use crate::error::{Error, Location, Result};
 use crate::trajectory::{Step, Trajectory, TrajectorySet};
 
 /// The largest magnitude accepted for a step index: beyond it, steps are no longer exact
 /// integers in floating point.
 const MAX_STEP: f64 = 9_007_199_254_740_992.0; // 2^53
+
+/// The longest row accepted, in bytes (1 MiB): a longer one is an error rather than a buffer
+/// that grows with the file (a file with no line ends, or a quote that is never closed).
+pub const MAX_RECORD_BYTES: u64 = 1 << 20;
+
+/// The CSV parser's read buffer, in bytes.
+pub(crate) const READ_BUFFER: usize = 1 << 16;
 
 /// Which columns hold what, and how times become steps.
 #[derive(Clone, Debug, PartialEq)]
@@ -32,6 +44,10 @@ pub struct CsvLayout {
     pub time_step: Option<f64>,
     /// The field delimiter (a comma by default).
     pub delimiter: u8,
+    /// The base distance the states are for, when known: each row's state is then checked
+    /// with [`Distance::check_state`], and a value it cannot read (a box of negative width, a
+    /// latitude beyond a pole) is an error naming the line and column.
+    pub distance: Option<Distance>,
 }
 
 impl Default for CsvLayout {
@@ -42,6 +58,7 @@ impl Default for CsvLayout {
             state_columns: None,
             time_step: None,
             delimiter: b',',
+            distance: None,
         }
     }
 }
@@ -101,18 +118,28 @@ pub fn read_csv_path(path: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
     read_csv(io::BufReader::with_capacity(1 << 16, file), path, layout)
 }
 
-struct Columns {
-    time: usize,
-    id: usize,
-    state: Vec<usize>,
-    names: Vec<String>,
-    header_len: usize,
+pub(crate) struct Columns {
+    pub(crate) time: usize,
+    pub(crate) id: usize,
+    pub(crate) state: Vec<usize>,
+    pub(crate) names: Vec<String>,
+    pub(crate) header_len: usize,
 }
 
-fn find_columns(header: &csv::ByteRecord, source: &str, layout: &CsvLayout) -> Result<Columns> {
+pub(crate) fn find_columns(
+    header: &csv::ByteRecord,
+    source: &str,
+    layout: &CsvLayout,
+) -> Result<Columns> {
     let names: Vec<String> = header
         .iter()
         .map(|field| String::from_utf8_lossy(field).trim().to_string())
+        .collect();
+    let not_utf8: Vec<String> = header
+        .iter()
+        .enumerate()
+        .filter(|(_, field)| std::str::from_utf8(field).is_err())
+        .map(|(position, _)| (position + 1).to_string())
         .collect();
     if names.is_empty() || (names.len() == 1 && names[0].is_empty()) {
         return Err(Error::input(
@@ -125,13 +152,35 @@ fn find_columns(header: &csv::ByteRecord, source: &str, layout: &CsvLayout) -> R
     }
     let find = |wanted: &str| names.iter().position(|name| name == wanted);
     let missing = |wanted: &str| {
-        Error::input(
-            Location::line(source, 1),
+        let mut message = if names.len() == 1 {
+            format!(
+                "the header has no column {wanted:?} (it has one column, {:?})",
+                names[0]
+            )
+        } else {
             format!(
                 "the header has no column {wanted:?} (it has: {})",
                 names.join(", ")
-            ),
-        )
+            )
+        };
+        if names.len() == 1 {
+            if let Some(other) = [';', '\t', '|', ',']
+                .into_iter()
+                .find(|&c| c != char::from(layout.delimiter) && names[0].contains(c))
+            {
+                message.push_str(&format!(
+                    "; the file seems to be delimited by {other:?}, not {:?}",
+                    char::from(layout.delimiter)
+                ));
+            }
+        }
+        if !not_utf8.is_empty() {
+            message.push_str(&format!(
+                "; the name in column {} is not valid UTF-8",
+                not_utf8.join(", ")
+            ));
+        }
+        Error::input(Location::line(source, 1), message)
     };
     let time = find(&layout.time_column).ok_or_else(|| missing(&layout.time_column))?;
     let id = find(&layout.id_column).ok_or_else(|| missing(&layout.id_column))?;
@@ -175,13 +224,17 @@ fn find_columns(header: &csv::ByteRecord, source: &str, layout: &CsvLayout) -> R
 }
 
 /// Parses a finite number from a trimmed field.
-fn parse_number(field: &[u8]) -> std::result::Result<f64, String> {
-    let text = std::str::from_utf8(field).map_err(|_| "invalid UTF-8".to_string())?;
+pub(crate) fn parse_number(field: &[u8]) -> std::result::Result<f64, String> {
+    let text = std::str::from_utf8(field)
+        .map_err(|_| "expected a number, found bytes that are not valid UTF-8".to_string())?;
     if text.is_empty() {
         return Err("expected a number, found an empty field".into());
     }
     match text.parse::<f64>() {
         Ok(value) if value.is_finite() => Ok(value),
+        Ok(value) if value.is_infinite() && !text.to_ascii_lowercase().contains("inf") => Err(
+            format!("the number {text} is out of range (the largest is about 1.8e308)"),
+        ),
         Ok(_) => Err(format!(
             "expected a finite number, found {text:?} (NaN and infinite values are not accepted)"
         )),
@@ -189,7 +242,10 @@ fn parse_number(field: &[u8]) -> std::result::Result<f64, String> {
     }
 }
 
-fn parse_step(field: &[u8], time_step: Option<f64>) -> std::result::Result<Step, String> {
+pub(crate) fn parse_step(
+    field: &[u8],
+    time_step: Option<f64>,
+) -> std::result::Result<Step, String> {
     if time_step.is_none() {
         if let Ok(text) = std::str::from_utf8(field) {
             if let Ok(step) = text.parse::<i64>() {
@@ -221,10 +277,10 @@ fn parse_step(field: &[u8], time_step: Option<f64>) -> std::result::Result<Step,
 }
 
 #[derive(Default)]
-struct ObjectPoints {
-    steps: Vec<Step>,
-    lines: Vec<u64>,
-    states: Vec<f64>,
+pub(crate) struct ObjectPoints {
+    pub(crate) steps: Vec<Step>,
+    pub(crate) lines: Vec<u64>,
+    pub(crate) states: Vec<f64>,
 }
 
 /// Reads trajectories from CSV text. `source` names the input in messages.
@@ -232,7 +288,8 @@ struct ObjectPoints {
 /// # Errors
 /// Every problem names `source`, and the line and column where it applies: no header or a
 /// missing column, a ragged row, invalid UTF-8, an empty id, a time that is not a step, a state
-/// value that is not a finite number, two rows of one id at one step.
+/// value that is not a finite number or that the layout's distance cannot read, two rows of one
+/// id at one step.
 pub fn read_csv<R: Read>(reader: R, source: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
     if let Some(dt) = layout.time_step {
         if !(dt.is_finite() && dt > 0.0) {
@@ -241,38 +298,52 @@ pub fn read_csv<R: Read>(reader: R, source: &str, layout: &CsvLayout) -> Result<
             )));
         }
     }
+    let budget = Rc::new(Cell::new(RECORD_BUDGET));
+    let lines = Rc::new(RefCell::new(LineIndex::new()));
     let mut reader = csv::ReaderBuilder::new()
         .delimiter(layout.delimiter)
         .has_headers(true)
         .flexible(true)
         .trim(csv::Trim::All)
-        .from_reader(reader);
+        .buffer_capacity(READ_BUFFER)
+        .from_reader(Budgeted {
+            inner: LineTracked {
+                inner: reader,
+                index: Rc::clone(&lines),
+            },
+            budget: Rc::clone(&budget),
+        });
     let header = reader
         .byte_headers()
-        .map_err(|e| csv_error(e, source))?
+        .map_err(|e| read_error(e, source, 1))?
         .clone();
     let columns = find_columns(&header, source, layout)?;
     let dim = columns.state.len();
     let mut objects: IndexMap<String, ObjectPoints> = IndexMap::new();
     let mut record = csv::ByteRecord::new();
     let mut last_id: Option<usize> = None;
-    while reader
-        .read_byte_record(&mut record)
-        .map_err(|e| csv_error(e, source))?
-    {
-        let line = record.position().map_or(0, |p| p.line());
+    loop {
+        let start = reader.position().byte();
+        budget.set(RECORD_BUDGET);
+        if !reader
+            .read_byte_record(&mut record)
+            .map_err(|e| read_error(e, source, lines.borrow_mut().line_at(start)))?
+        {
+            break;
+        }
+        let line = lines
+            .borrow_mut()
+            .line_at(record.position().map_or(start, |p| p.byte()));
         if record.len() != columns.header_len {
             if record.len() == 1 && record.get(0) == Some(b"") {
                 continue; // a blank line
             }
-            return Err(Error::input(
-                Location::line(source, line),
-                format!(
-                    "the row has {} fields but the header has {}",
-                    record.len(),
-                    columns.header_len
-                ),
-            ));
+            // A quote left open swallows the rest of the file into one short row.
+            let at_end = matches!(
+                reader.read_byte_record(&mut csv::ByteRecord::new()),
+                Ok(false)
+            );
+            return Err(ragged(&record, &header, &columns, source, line, at_end));
         }
         let at = |position: usize| {
             let name = String::from_utf8_lossy(&header[position])
@@ -308,6 +379,12 @@ pub fn read_csv<R: Read>(reader: R, source: &str, layout: &CsvLayout) -> Result<
                 .map_err(|message| Error::input(at(position), message))?;
             points.states.push(value);
         }
+        if let Some(distance) = &layout.distance {
+            let state = &points.states[points.states.len() - dim..];
+            if let Err((index, message)) = distance.check_state(state) {
+                return Err(Error::input(at(columns.state[index]), message));
+            }
+        }
     }
     let time_name = layout.time_column.as_str();
     let mut trajectories = Vec::with_capacity(objects.len());
@@ -328,7 +405,7 @@ pub fn read_csv<R: Read>(reader: R, source: &str, layout: &CsvLayout) -> Result<
 }
 
 /// Sorts an object's points by step and rejects two points at one step.
-fn finish_object(
+pub(crate) fn finish_object(
     id: String,
     dim: usize,
     points: ObjectPoints,
@@ -360,10 +437,181 @@ fn finish_object(
     Ok(Trajectory::from_checked_parts(id, dim, steps, states))
 }
 
+/// The bytes the parser may pull while reading one row: the row itself plus one buffer of
+/// read-ahead.
+pub(crate) const RECORD_BUDGET: u64 = MAX_RECORD_BYTES + READ_BUFFER as u64;
+
+/// A reader that fails once more than the budget set before each row has been read.
+pub(crate) struct Budgeted<R> {
+    pub(crate) inner: R,
+    pub(crate) budget: Rc<Cell<u64>>,
+}
+
+/// Line numbers of the rows the CSV parser returns, counted from the bytes it reads.
+///
+/// The parser's own line count is one short after each CRLF and never moves on CR-only line
+/// ends, and the byte offset it gives a row is where it began to read for it: possibly at the
+/// LF of the previous CRLF or before blank lines. So this index keeps the offset and line
+/// number of each line holding something other than line ends, within the bytes read ahead
+/// and not yet asked for; a row's line is that of the first such line at or after its offset.
+/// CR, LF and CRLF each end a line.
+pub(crate) struct LineIndex {
+    /// Bytes seen so far.
+    position: u64,
+    /// The line number at `position`.
+    line: u64,
+    /// Nothing but line ends seen on the current line yet.
+    at_line_start: bool,
+    /// The last byte seen was a CR (a following LF ends no other line).
+    after_cr: bool,
+    /// (offset of the first byte, line number) of lines holding more than line ends.
+    starts: VecDeque<(u64, u64)>,
+}
+
+impl LineIndex {
+    /// An index at the start of a file.
+    pub(crate) fn new() -> Self {
+        LineIndex {
+            position: 0,
+            line: 1,
+            at_line_start: true,
+            after_cr: false,
+            starts: VecDeque::new(),
+        }
+    }
+
+    fn feed(&mut self, bytes: &[u8]) {
+        for (k, &byte) in bytes.iter().enumerate() {
+            match byte {
+                b'\n' if self.after_cr => self.after_cr = false,
+                b'\n' | b'\r' => {
+                    self.line += 1;
+                    self.at_line_start = true;
+                    self.after_cr = byte == b'\r';
+                }
+                _ => {
+                    if self.at_line_start {
+                        self.starts.push_back((self.position + k as u64, self.line));
+                        self.at_line_start = false;
+                    }
+                    self.after_cr = false;
+                }
+            }
+        }
+        self.position += bytes.len() as u64;
+    }
+
+    /// The line of the row the parser placed at byte `offset`. Offsets asked for must not
+    /// decrease: the lines before are forgotten.
+    pub(crate) fn line_at(&mut self, offset: u64) -> u64 {
+        while self
+            .starts
+            .front()
+            .is_some_and(|&(start, _)| start < offset)
+        {
+            self.starts.pop_front();
+        }
+        self.starts.front().map_or(self.line, |&(_, line)| line)
+    }
+}
+
+/// A reader that feeds every byte it passes on to a [`LineIndex`].
+pub(crate) struct LineTracked<R> {
+    pub(crate) inner: R,
+    pub(crate) index: Rc<RefCell<LineIndex>>,
+}
+
+impl<R: Read> Read for LineTracked<R> {
+    fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
+        let read = self.inner.read(buf)?;
+        self.index.borrow_mut().feed(&buf[..read]);
+        Ok(read)
+    }
+}
+
+/// The error a [`Budgeted`] reader returns when a row exceeds its budget.
+#[derive(Debug)]
+struct RowTooLong;
+
+impl std::fmt::Display for RowTooLong {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "row too long")
+    }
+}
+
+impl std::error::Error for RowTooLong {}
+
+impl<R: Read> Read for Budgeted<R> {
+    fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
+        let left = self.budget.get();
+        if left == 0 && !buf.is_empty() {
+            return Err(io::Error::new(io::ErrorKind::InvalidData, RowTooLong));
+        }
+        let take = buf.len().min(usize::try_from(left).unwrap_or(usize::MAX));
+        let read = self.inner.read(&mut buf[..take])?;
+        self.budget.set(left - read as u64);
+        Ok(read)
+    }
+}
+
+/// The error for a row whose field count differs from the header's.
+pub(crate) fn ragged(
+    record: &csv::ByteRecord,
+    header: &csv::ByteRecord,
+    columns: &Columns,
+    source: &str,
+    line: u64,
+    at_end: bool,
+) -> Error {
+    let fields = record.len();
+    let expected = columns.header_len;
+    let location = Location::line(source, line);
+    if at_end
+        && record
+            .iter()
+            .next_back()
+            .is_some_and(|f| f.contains(&b'\n'))
+    {
+        return Error::input(
+            location,
+            "a quoted field opened on this line is not closed before the end of the file",
+        );
+    }
+    if fields < expected {
+        let name = String::from_utf8_lossy(&header[fields]).trim().to_string();
+        return Error::input(
+            location.with_column(fields + 1, &name),
+            format!("the row ends after {fields} fields but the header has {expected}"),
+        );
+    }
+    Error::input(
+        location,
+        format!("the row has {fields} fields but the header has {expected}"),
+    )
+}
+
+/// Maps an error met while reading the row that starts on `line`.
+pub(crate) fn read_error(error: csv::Error, source: &str, line: u64) -> Error {
+    if let csv::ErrorKind::Io(io_error) = error.kind() {
+        if io_error
+            .get_ref()
+            .is_some_and(|inner| inner.is::<RowTooLong>())
+        {
+            return Error::input(
+                Location::line(source, line),
+                format!(
+                    "the row starting here is longer than {} MiB (is a line end or a closing quote missing?)",
+                    MAX_RECORD_BYTES >> 20
+                ),
+            );
+        }
+    }
+    csv_error(error, source)
+}
+
 fn csv_error(error: csv::Error, source: &str) -> Error {
-    let line = error.position().map(|p| p.line());
-    let location = match line {
-        Some(line) => Location::line(source, line),
+    let location = match error.position() {
+        Some(position) => Location::line(source, position.line()),
         None => Location::file(source),
     };
     match error.into_kind() {

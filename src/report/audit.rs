@@ -4,7 +4,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{fixed, write_table, InputInfo};
+use super::{fixed, write_table, Exactness, InputInfo};
 use crate::audit::{EstimateAudit, TruthAudit};
 use crate::trajectory_metric::TrajectoryParams;
 
@@ -19,6 +19,10 @@ pub struct AuditDocument<'a> {
     pub truths: &'a [TruthAudit],
     /// Estimates, in input order.
     pub estimates: &'a [EstimateAudit],
+    /// Whether the solution is integral or exact (`integral`, `lp_total`, `exact_total`,
+    /// `exact`).
+    #[serde(flatten)]
+    pub exactness: Exactness<'a>,
 }
 
 /// JSON: one object (see [`AuditDocument`]).
@@ -218,5 +222,7 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
         out,
         &["track", "present", "false", "truths", "followed"],
         &rows,
-    )
+    )?;
+    writeln!(out)?;
+    document.exactness.write_text(out)
 }

@@ -3,6 +3,8 @@
 //! same input gives the same bytes.
 
 pub mod audit;
+pub mod compare;
+pub mod html;
 pub mod score;
 pub mod steps;
 pub mod switches;
@@ -69,6 +71,95 @@ pub fn write_table<W: std::io::Write>(
         writeln!(out, "{}", line(row.iter().map(String::as_str).collect()))?;
     }
     Ok(())
+}
+
+/// How a trajectory GOSPA value relates to the exact (integral) metric: in the JSON of every
+/// command built on the trajectory LP (keys `integral`, `lp_total`, `exact_total`, `exact`).
+#[derive(Clone, Copy, Debug, Serialize)]
+pub struct Exactness<'a> {
+    /// True when the LP optimum is integral (the LP value is then the exact metric).
+    pub integral: bool,
+    /// d^p of the LP relaxation.
+    pub lp_total: f64,
+    /// d^p of the exact metric when `--exact` was given and the result is proven; else null.
+    pub exact_total: Option<f64>,
+    /// The certificate of `--exact` (null without it).
+    pub exact: Option<&'a crate::trajectory_metric::ExactSummary>,
+}
+
+impl<'a> Exactness<'a> {
+    /// The exactness of a score.
+    pub fn new(score: &'a crate::trajectory_metric::TrajectoryScore) -> Self {
+        Exactness {
+            integral: score.integral,
+            lp_total: score.lp_total,
+            exact_total: score.exact_total,
+            exact: score.exact.as_ref(),
+        }
+    }
+
+    /// Text: one line saying whether the value is exact, two when an exact computation was
+    /// stopped by its budget.
+    pub fn write_text<W: std::io::Write>(&self, out: &mut W) -> std::io::Result<()> {
+        let Some(exact) = self.exact else {
+            return if self.integral {
+                writeln!(
+                    out,
+                    "The LP optimum is integral: d is the exact trajectory GOSPA."
+                )
+            } else {
+                writeln!(
+                    out,
+                    "The LP optimum is fractional: d is a lower bound of the exact trajectory GOSPA; --exact computes the exact value."
+                )
+            };
+        };
+        let groups = |n: usize| {
+            if n == 1 {
+                "1 group".to_string()
+            } else {
+                format!("{n} groups")
+            }
+        };
+        let programs = |n: usize| {
+            if n == 1 {
+                "an integer program"
+            } else {
+                "integer programs"
+            }
+        };
+        if exact.components == 0 {
+            return writeln!(
+                out,
+                "The LP optimum is integral: d is the exact trajectory GOSPA (no integer program needed)."
+            );
+        }
+        if exact.proven {
+            return writeln!(
+                out,
+                "Exact: LP d^p = {}; {} with a fractional LP optimum solved as {} ({} branch-and-bound nodes): d is the exact trajectory GOSPA, proven (d^p = {}).",
+                fixed(self.lp_total, 4),
+                groups(exact.components),
+                programs(exact.components),
+                exact.nodes,
+                fixed(exact.upper, 4)
+            );
+        }
+        writeln!(
+            out,
+            "NOT PROVEN: the budget ({}) stopped {} of {} integer programs; the exact d^p lies between {} and {} (LP d^p = {}).",
+            exact.budget,
+            exact.unproven_components,
+            exact.components,
+            fixed(exact.lower, 4),
+            fixed(exact.upper, 4),
+            fixed(self.lp_total, 4)
+        )?;
+        writeln!(
+            out,
+            "d, its parts and the switches are those of the best integral solution found: an upper bound, not the exact value."
+        )
+    }
 }
 
 impl InputInfo {

@@ -4,7 +4,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{fixed, InputInfo};
+use super::{fixed, Exactness, InputInfo};
 use crate::switches::{JumpEvent, SwitchEvent};
 use crate::trajectory::Window;
 use crate::trajectory_metric::{SolveStats, TrajectoryParams, TrajectoryScore};
@@ -35,8 +35,10 @@ pub struct ScoreDocument<'a> {
     pub false_count: f64,
     /// Full switches count 1, half switches 0.5.
     pub switch_count: f64,
-    /// True when the LP optimum is integral (the value is then the exact metric).
-    pub integral: bool,
+    /// Whether the LP optimum is integral, the LP value, and the exact value with its
+    /// certificate (`integral`, `lp_total`, `exact_total`, `exact`).
+    #[serde(flatten)]
+    pub exactness: Exactness<'a>,
     /// The parameters.
     pub params: &'a TrajectoryParams,
     /// The inputs.
@@ -74,7 +76,7 @@ impl<'a> ScoreDocument<'a> {
             missed_count: score.missed_count,
             false_count: score.false_count,
             switch_count: score.switch_count,
-            integral: score.integral,
+            exactness: Exactness::new(score),
             params: &score.params,
             inputs,
             window: score.window,
@@ -202,15 +204,5 @@ pub fn write_text<W: Write>(
         "LP ({engine}): {} candidate pairs in {} groups, {} solved as LPs ({} variables, {} rows)",
         s.candidate_pairs, s.components, s.lp_components, s.variables, s.constraints
     )?;
-    if score.integral {
-        writeln!(
-            out,
-            "The LP optimum is integral: d is the exact trajectory GOSPA."
-        )
-    } else {
-        writeln!(
-            out,
-            "The LP optimum is fractional: d is a lower bound of the exact trajectory GOSPA (use --exact)."
-        )
-    }
+    Exactness::new(score).write_text(out)
 }

@@ -4,7 +4,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{fixed, write_table, InputInfo};
+use super::{fixed, write_table, Exactness, InputInfo};
 use crate::switches::{JumpEvent, SwitchEvent};
 use crate::trajectory_metric::TrajectoryParams;
 
@@ -23,6 +23,10 @@ pub struct SwitchesDocument<'a> {
     pub switches: &'a [SwitchEvent],
     /// Jumps seen from the estimates.
     pub jumps: &'a [JumpEvent],
+    /// Whether the solution is integral or exact (`integral`, `lp_total`, `exact_total`,
+    /// `exact`).
+    #[serde(flatten)]
+    pub exactness: Exactness<'a>,
 }
 
 /// JSON: one object (see [`SwitchesDocument`]).
@@ -168,5 +172,6 @@ pub fn write_text<W: Write>(out: &mut W, document: &SwitchesDocument) -> std::io
         "switching part {} = {} switches (full = 1, half = 0.5) x gamma^p",
         fixed(document.switching, 4),
         fixed(document.switch_count, 3)
-    )
+    )?;
+    document.exactness.write_text(out)
 }

@@ -10,15 +10,23 @@
 //! The LP is solved after exact reductions ([`pairs`], [`model`]; proofs in
 //! specs/trajectory-lp.md): pairs never close are fixed to zero, the rest split into connected
 //! components solved independently (in parallel), and each component is event-compressed.
+//!
+//! With [`SolveOptions::exact`], components whose LP optimum is fractional are solved again as
+//! integer programs ([`exact`]), and the score reports the exact metric with its certificate.
 
+pub mod checks;
+pub mod exact;
 pub mod model;
 pub mod pairs;
 pub mod solve;
 
+use std::time::Instant;
+
 use rayon::prelude::*;
 use serde::Serialize;
 
-use self::model::{build, Reduction, Segment};
+pub use self::exact::ExactBudget;
+use self::model::{build, ComponentModel, Reduction, Segment};
 use self::pairs::{candidate_pairs, components, CandidatePair, CloseStep};
 pub use self::solve::Engine;
 use crate::distance::{power, root, Distance};
@@ -90,6 +98,9 @@ pub struct SolveOptions {
     /// Keep every truth-estimate pair, close or not (only with [`Reduction::PerStep`] or
     /// [`Reduction::ActiveSteps`]; for checking the reductions).
     pub keep_far_pairs: bool,
+    /// Compute the exact (integral) metric within this budget: components whose LP optimum is
+    /// fractional are solved again as integer programs. `None`: the LP only.
+    pub exact: Option<ExactBudget>,
 }
 
 impl Default for SolveOptions {
@@ -99,6 +110,7 @@ impl Default for SolveOptions {
             reduction: Reduction::Events,
             split_components: true,
             keep_far_pairs: false,
+            exact: None,
         }
     }
 }
@@ -235,10 +247,19 @@ pub struct TrajectoryScore {
     pub false_count: f64,
     /// Full switches count 1, half switches 0.5.
     pub switch_count: f64,
-    /// True when every LP weight is 0 or 1: then d is also the exact (assignment) metric.
+    /// True when every weight of the LP optimum is 0 or 1: then the LP value is also the exact
+    /// (assignment) metric. With [`SolveOptions::exact`] the weights reported are integral
+    /// whatever this says.
     pub integral: bool,
     /// The LP's optimal objective plus the constant, as the engine reported it.
     pub lp_objective: f64,
+    /// d^p of the LP relaxation (equal to `total` unless the exact metric was computed from a
+    /// fractional LP optimum).
+    pub lp_total: f64,
+    /// d^p of the exact metric, when it was asked for and proven (then equal to `total`).
+    pub exact_total: Option<f64>,
+    /// How the exact metric was computed, when it was asked for.
+    pub exact: Option<ExactSummary>,
     /// LP sizes.
     pub stats: SolveStats,
     /// The per-step weights.
@@ -246,10 +267,31 @@ pub struct TrajectoryScore {
     pub assignment: Assignment,
 }
 
+/// The certificate of an exact computation ([`SolveOptions::exact`]).
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct ExactSummary {
+    /// True when `total` is proven to be the exact metric (`lower == upper`).
+    pub proven: bool,
+    /// A proven lower bound of the exact d^p: the LP value, raised by the integer searches.
+    pub lower: f64,
+    /// d^p of the integral solution reported (`total`): an upper bound of the exact d^p.
+    pub upper: f64,
+    /// Components whose LP optimum was fractional, solved as integer programs.
+    pub components: usize,
+    /// Of those, the components whose search the budget stopped before a proof.
+    pub unproven_components: usize,
+    /// Branch-and-bound nodes solved over all components (0 when the engine does not report
+    /// them).
+    pub nodes: u64,
+    /// The budget given.
+    pub budget: ExactBudget,
+}
+
 /// Trajectory GOSPA with the default solve options.
 ///
 /// # Errors
-/// Sets of different dimensions, a window too long, an LP engine failure.
+/// Sets of different dimensions, a window too long, a distance that does not fit the states or
+/// the cut-off ([`Distance::check_inputs`]), an LP engine failure.
 pub fn score(
     truth: &TrajectorySet,
     estimate: &TrajectorySet,
@@ -263,6 +305,26 @@ struct ComponentSolution {
     pairs: Vec<PairAssignment>,
     objective: f64,
     stats: SolveStats,
+    /// With [`SolveOptions::exact`], a component whose LP optimum is fractional, kept for the
+    /// integer pass.
+    fractional: Option<Fractional>,
+}
+
+/// What the integer pass needs of a component with a fractional LP optimum.
+struct Fractional {
+    members: Vec<usize>,
+    model: ComponentModel,
+    values: Vec<f64>,
+    objective: f64,
+}
+
+/// A component's integral solution and how far it is from proven.
+struct ExactComponent {
+    pairs: Vec<PairAssignment>,
+    /// Upper bound (the solution's objective) minus the proven lower bound, >= 0.
+    gap: f64,
+    proven: bool,
+    nodes: u64,
 }
 
 /// Trajectory GOSPA with chosen solve options.
@@ -288,16 +350,10 @@ pub fn score_with(
         )));
     }
     let window = evaluation_window(truth, estimate)?;
+    distance.check_inputs(truth, estimate, params.cutoff)?;
     let Some(window) = window else {
-        return Ok(finish(
-            params,
-            None,
-            Vec::new(),
-            0.0,
-            SolveStats::default(),
-            0,
-            0,
-        ));
+        let empty = finish(params, None, Vec::new(), 0.0, SolveStats::default(), 0, 0);
+        return Ok(with_exact(empty, Vec::new(), options, params, (0, 0)));
     };
     let mut pairs = candidate_pairs(
         truth,
@@ -343,7 +399,9 @@ pub fn score_with(
     };
     let mut objective = 0.0;
     let mut assignments = Vec::with_capacity(pairs.len());
+    let mut fractional = Vec::new();
     for component in solved {
+        fractional.extend(component.fractional);
         objective += component.objective;
         stats.lp_components += component.stats.lp_components;
         stats.variables += component.stats.variables;
@@ -355,7 +413,7 @@ pub fn score_with(
     assignments.sort_by_key(|p| (p.truth, p.estimate));
     let truth_points = truth.object_steps();
     let estimate_points = estimate.object_steps();
-    Ok(finish(
+    let result = finish(
         params,
         Some(window),
         assignments,
@@ -363,7 +421,108 @@ pub fn score_with(
         stats,
         truth_points,
         estimate_points,
-    ))
+    );
+    checks::check_consistency(&result, &checks::bounds(truth, estimate, params, distance)?)?;
+    // The integer pass, on the components whose LP optimum is fractional, in parallel; a time
+    // budget counts from here.
+    let exact_parts = match options.exact {
+        Some(budget) => {
+            let limit = exact::Limit::new(budget, Instant::now());
+            fractional
+                .par_iter()
+                .map(|f| solve_fractional(f, &pairs, window, params, options.engine, limit))
+                .collect::<Result<Vec<_>>>()?
+        }
+        None => Vec::new(),
+    };
+    let points = (truth_points, estimate_points);
+    Ok(with_exact(result, exact_parts, options, params, points))
+}
+
+/// Solves a component with a fractional LP optimum as an integer program.
+fn solve_fractional(
+    fractional: &Fractional,
+    pairs: &[CandidatePair],
+    window: Window,
+    params: &TrajectoryParams,
+    engine: Engine,
+    limit: exact::Limit,
+) -> Result<ExactComponent> {
+    let Fractional {
+        members,
+        model,
+        values,
+        objective,
+    } = fractional;
+    let decode_all = |values: &[f64]| -> Vec<PairAssignment> {
+        members
+            .iter()
+            .zip(&model.segments)
+            .map(|(&m, segments)| decode(&pairs[m], segments, values))
+            .collect()
+    };
+    let cost = |values: &[f64]| component_cost(&decode_all(values), window, params);
+    let solution = exact::solve_integer(model, values, *objective, engine, limit, cost)?;
+    Ok(ExactComponent {
+        pairs: decode_all(&solution.values),
+        gap: (solution.objective - solution.bound).max(0.0),
+        proven: solution.proven,
+        nodes: solution.nodes,
+    })
+}
+
+/// With [`SolveOptions::exact`]: puts the integral weights of the components re-solved as
+/// integer programs in place of their LP weights, recomputes the parts from them, and fills in
+/// the LP value and the certificate. Without it, returns the LP score unchanged. `points` are
+/// the truth and estimate object-steps.
+fn with_exact(
+    lp: TrajectoryScore,
+    components: Vec<ExactComponent>,
+    options: &SolveOptions,
+    params: &TrajectoryParams,
+    points: (usize, usize),
+) -> TrajectoryScore {
+    let Some(budget) = options.exact else {
+        return lp;
+    };
+    let count = components.len();
+    let unproven = components.iter().filter(|c| !c.proven).count();
+    let gap: f64 = components.iter().map(|c| c.gap).sum();
+    let nodes = components.iter().map(|c| c.nodes).sum();
+    let mut score = if components.is_empty() {
+        lp
+    } else {
+        let mut pairs = lp.assignment.pairs.clone();
+        for pair in components.into_iter().flat_map(|c| c.pairs) {
+            // Every pair of a component is a candidate pair of the LP score, sorted by key.
+            if let Ok(index) =
+                pairs.binary_search_by_key(&(pair.truth, pair.estimate), |p| (p.truth, p.estimate))
+            {
+                pairs[index] = pair;
+            }
+        }
+        let mut score = finish(params, lp.window, pairs, 0.0, lp.stats, points.0, points.1);
+        score.lp_objective = lp.lp_objective;
+        score.lp_total = lp.total;
+        score.integral = lp.integral;
+        score
+    };
+    let lower = if unproven == 0 {
+        score.total
+    } else {
+        (score.total - gap).clamp(score.lp_total.min(score.total), score.total)
+    };
+    score.exact_total = (unproven == 0).then_some(score.total);
+    score.exact = Some(ExactSummary {
+        proven: unproven == 0,
+        lower,
+        upper: score.total,
+        components: count,
+        unproven_components: unproven,
+        nodes,
+        budget,
+    });
+    score
 }
 
 fn solve_component(
@@ -392,6 +551,7 @@ fn solve_component(
             }],
             objective,
             stats: SolveStats::default(),
+            fractional: None,
         });
     }
     let model = build(
@@ -410,21 +570,30 @@ fn solve_component(
         .zip(&values)
         .map(|(c, v)| c * v)
         .sum();
-    let decoded = members
+    let decoded: Vec<PairAssignment> = members
         .iter()
         .zip(&model.segments)
         .map(|(&m, segments)| decode(&pairs[m], segments, &values))
         .collect();
+    let stats = SolveStats {
+        lp_components: 1,
+        variables: model.program.variables(),
+        constraints: model.program.rows.len(),
+        nonzeros: model.program.nonzeros(),
+        ..SolveStats::default()
+    };
+    let fractional =
+        (options.exact.is_some() && !decoded.iter().all(is_integral)).then(|| Fractional {
+            members: members.to_vec(),
+            model,
+            values,
+            objective,
+        });
     Ok(ComponentSolution {
         pairs: decoded,
+        fractional,
         objective,
-        stats: SolveStats {
-            lp_components: 1,
-            variables: model.program.variables(),
-            constraints: model.program.rows.len(),
-            nonzeros: model.program.nonzeros(),
-            ..SolveStats::default()
-        },
+        stats,
     })
 }
 
@@ -436,6 +605,34 @@ fn snap(value: f64) -> f64 {
     } else {
         value.clamp(0.0, 1.0)
     }
+}
+
+/// The cost of a component's weights relative to leaving its objects unassigned (the units of
+/// the LP objective): gains at close steps plus gamma^p / 2 per unit of weight change.
+fn component_cost(pairs: &[PairAssignment], window: Window, params: &TrajectoryParams) -> f64 {
+    let cutoff_power = params.cutoff_power();
+    let frame = Assignment {
+        window: Some(window),
+        pairs: Vec::new(),
+    };
+    pairs
+        .iter()
+        .map(|pair| {
+            let gain: f64 = pair
+                .close
+                .iter()
+                .map(|c| pair.weight_at(c.step) * (c.cost - cutoff_power))
+                .sum();
+            gain + params.switch_cost() * frame.variation(pair)
+        })
+        .sum()
+}
+
+/// Whether every weight of a pair is within [`INTEGRAL_TOLERANCE`] of 0 or 1.
+fn is_integral(pair: &PairAssignment) -> bool {
+    pair.spans
+        .iter()
+        .all(|s| (s.weight - 1.0).abs() < INTEGRAL_TOLERANCE || s.weight < INTEGRAL_TOLERANCE)
 }
 
 /// Reads a pair's segment values into maximal runs of equal non-zero weight.
@@ -489,10 +686,7 @@ fn finish(
             assigned += weight;
         }
         variation += assignment.variation(pair);
-        integral &= pair
-            .spans
-            .iter()
-            .all(|s| (s.weight - 1.0).abs() < INTEGRAL_TOLERANCE || s.weight < INTEGRAL_TOLERANCE);
+        integral &= is_integral(pair);
     }
     let missed_count = (truth_points as f64 - assigned).max(0.0);
     let false_count = (estimate_points as f64 - assigned).max(0.0);
@@ -522,6 +716,9 @@ fn finish(
         switch_count: variation / 2.0,
         integral,
         lp_objective: half * (truth_points + estimate_points) as f64 + objective,
+        lp_total: total,
+        exact_total: None,
+        exact: None,
         stats,
         assignment,
     }

@@ -11,14 +11,24 @@ use super::model::{LinearProgram, Sense};
 use crate::error::{Error, Result};
 
 /// The LP engines switchyard can use.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Engine {
     /// microlp: pure Rust, always available.
-    #[default]
     Microlp,
     /// HiGHS, with the cargo feature `highs`.
     Highs,
+}
+
+impl Default for Engine {
+    /// HiGHS when the build has it (it is much faster on large scenes), else microlp.
+    fn default() -> Self {
+        if cfg!(feature = "highs") {
+            Engine::Highs
+        } else {
+            Engine::Microlp
+        }
+    }
 }
 
 impl Engine {

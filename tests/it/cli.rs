@@ -118,7 +118,7 @@ fn switches_on_the_swapping_tracker_are_the_generated_swaps() {
         "json",
     ]);
     let switches = doc["switches"].as_array().unwrap();
-    assert!(!switches.is_empty() && switches.len() % 2 == 0);
+    assert!(!switches.is_empty() && switches.len().is_multiple_of(2));
     assert!(switches
         .iter()
         .all(|e| e["from"].is_string() && e["to"].is_string() && e["weight"] == 1.0));

@@ -137,13 +137,22 @@ fn trajectory_lp_matches_scipy_highs_on_the_full_model() {
     for (n, case) in file.cases.iter().enumerate() {
         let dim = dimension(case);
         let params = TrajectoryParams::new(case.cutoff, case.order, case.switch_penalty).unwrap();
-        let s = score(
-            &to_set(&case.truth, dim),
-            &to_set(&case.estimate, dim),
-            &params,
-            &Distance::default(),
-        )
-        .unwrap();
+        let (x, y) = (to_set(&case.truth, dim), to_set(&case.estimate, dim));
+        let s = score(&x, &y, &params, &Distance::default()).unwrap();
+        if Engine::Highs.available() {
+            // Built with `--features highs` (as CI does): both engines give the same value.
+            let options = SolveOptions {
+                engine: Engine::Microlp,
+                ..SolveOptions::default()
+            };
+            let m = score_with(&x, &y, &params, &Distance::default(), &options).unwrap();
+            assert!(
+                (m.total - s.total).abs() <= 1e-7 * s.total.max(1.0),
+                "case {n}: HiGHS {} vs microlp {}",
+                s.total,
+                m.total
+            );
+        }
         assert_eq!(s.steps, case.steps, "case {n}");
         assert!(
             (s.total - case.lp_total).abs() <= 1e-6 * case.lp_total.max(1.0),

@@ -1,0 +1,318 @@
+//! `switchyard compare`: several trackers over sequences and Monte Carlo runs, ranked, each set
+//! against the best with a paired bootstrap interval; lists of parameters make a sweep.
+
+use std::io::IsTerminal;
+use std::path::Path;
+
+use anyhow::bail;
+use clap::{Args, ValueEnum};
+use indicatif::{ProgressBar, ProgressStyle};
+use rayon::prelude::*;
+
+use switchyard::compare::{
+    job_count, run as run_comparison, settings_grid, BootstrapOptions, CompareOptions, Dataset,
+    ResampleBy,
+};
+use switchyard::distance::Distance;
+use switchyard::input::grouped::{read_grouped_csv_path, GroupColumns, GroupedFile};
+use switchyard::input::manifest::read_manifest_path;
+use switchyard::report::compare::{self as report, CompareInputs, Sections, TrackerSource};
+use switchyard::trajectory_metric::{Engine, SolveOptions};
+
+use super::{CsvOptions, DistanceOptions, EngineKind, Format, OutputArgs};
+
+/// What the bootstrap resamples, on the command line.
+#[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ResampleKind {
+    /// Sequences when there are two or more, runs otherwise.
+    Auto,
+    /// Whole sequences with all their runs.
+    Sequence,
+    /// Each (sequence, run) on its own.
+    Run,
+}
+
+/// Options of `compare`.
+#[derive(Args, Debug)]
+pub struct CompareArgs {
+    /// Ground-truth CSV file; rows may carry sequence and run columns.
+    #[arg(
+        long,
+        value_name = "FILE",
+        required_unless_present = "manifest",
+        conflicts_with = "manifest"
+    )]
+    truth: Option<String>,
+    /// One tracker's output: NAME=FILE, or FILE alone (named after the file without its
+    /// extension). Repeat for each tracker.
+    #[arg(long, value_name = "NAME=FILE", requires = "truth")]
+    estimate: Vec<String>,
+    /// A manifest listing, per tracker, sequence and run, the truth and estimate files: CSV
+    /// with the columns tracker, sequence, run (optional), truth, estimate, or a JSON array of
+    /// such objects when the name ends in .json. Paths are relative to the manifest's folder.
+    #[arg(long, value_name = "FILE")]
+    manifest: Option<String>,
+    /// The column that names each row's sequence, used when a file has it.
+    #[arg(long, value_name = "NAME", default_value = "sequence")]
+    sequence_column: String,
+    /// The column that names each row's Monte Carlo run, used when a file has it.
+    #[arg(long, value_name = "NAME", default_value = "run")]
+    run_column: String,
+    #[command(flatten)]
+    csv: CsvOptions,
+    #[command(flatten)]
+    distance: DistanceOptions,
+    /// Cut-off c > 0; a comma-separated list evaluates each (a sweep).
+    #[arg(
+        long,
+        short = 'c',
+        value_name = "C,...",
+        value_delimiter = ',',
+        required = true
+    )]
+    cutoff: Vec<f64>,
+    /// Order p >= 1; a comma-separated list evaluates each.
+    #[arg(
+        long,
+        short = 'p',
+        value_name = "P,...",
+        value_delimiter = ',',
+        default_value = "1"
+    )]
+    order: Vec<f64>,
+    /// Switching penalty gamma >= 0; a comma-separated list evaluates each [default: each
+    /// cut-off].
+    #[arg(long, short = 'g', value_name = "G,...", value_delimiter = ',')]
+    switch_penalty: Option<Vec<f64>>,
+    /// LP engine (highs only in builds with the `highs` feature).
+    #[arg(long, value_enum, default_value_t = EngineKind::Microlp)]
+    engine: EngineKind,
+    /// Also rank the trackers within each sequence.
+    #[arg(long)]
+    per_sequence: bool,
+    /// Also summarise over the runs of each sequence: per-step GOSPA (mean, RMS and parts)
+    /// and the trajectory metric (mean and RMS).
+    #[arg(long)]
+    monte_carlo: bool,
+    /// Bootstrap resamples.
+    #[arg(long, value_name = "N", default_value_t = 10_000)]
+    bootstrap_resamples: usize,
+    /// Seed of the bootstrap's random numbers.
+    #[arg(long, value_name = "S", default_value_t = 0)]
+    seed: u64,
+    /// Confidence level of the bootstrap intervals, in (0, 1).
+    #[arg(long, value_name = "LEVEL", default_value_t = 0.95)]
+    confidence: f64,
+    /// What the bootstrap resamples.
+    #[arg(long, value_enum, default_value_t = ResampleKind::Auto)]
+    resample: ResampleKind,
+    /// Output format; csv holds one table: the ranking, or the per-sequence rankings with
+    /// --per-sequence, or the per-step summaries with --monte-carlo.
+    #[arg(long, short = 'f', value_enum, default_value_t = Format::Text)]
+    format: Format,
+    #[command(flatten)]
+    output: OutputArgs,
+}
+
+/// Splits `NAME=FILE`; a value without `=` is named after the file's stem.
+pub(super) fn tracker_name(value: &str) -> anyhow::Result<(String, String)> {
+    match value.split_once('=') {
+        Some((name, file)) => {
+            let name = name.trim();
+            if name.is_empty() || file.is_empty() {
+                bail!("invalid parameter: --estimate {value:?}: expected NAME=FILE");
+            }
+            Ok((name.to_string(), file.to_string()))
+        }
+        None => {
+            let stem = Path::new(value)
+                .file_stem()
+                .map(|s| s.to_string_lossy().to_string())
+                .filter(|s| !s.is_empty() && value != "-");
+            match stem {
+                Some(name) => Ok((name, value.to_string())),
+                None => bail!("invalid parameter: --estimate {value:?} needs a name: NAME=FILE"),
+            }
+        }
+    }
+}
+
+/// Reads the data by group columns or through a manifest, each state checked for `distance`;
+/// returns it with the input description (without the distance and engine).
+fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset, CompareInputs)> {
+    let mut layout = args.csv.layout()?;
+    layout.distance = Some(distance.clone());
+    if let Some(manifest_path) = &args.manifest {
+        let manifest = read_manifest_path(manifest_path)?;
+        let data = Dataset::from_manifest(&manifest, &layout)?;
+        let trackers = data
+            .trackers()
+            .iter()
+            .map(|t| TrackerSource {
+                name: t.name.clone(),
+                estimate: None,
+            })
+            .collect();
+        let inputs = CompareInputs {
+            truth: None,
+            manifest: Some(manifest_path.clone()),
+            trackers,
+            sequences: data.sequences().len(),
+            cases: data.cases().len(),
+            distance: String::new(),
+            engine: String::new(),
+        };
+        return Ok((data, inputs));
+    }
+    let truth = args
+        .truth
+        .clone()
+        .expect("clap requires --truth without --manifest");
+    if args.estimate.is_empty() {
+        bail!("invalid parameter: give at least one --estimate NAME=FILE");
+    }
+    let named: Vec<(String, String)> = args
+        .estimate
+        .iter()
+        .map(|v| tracker_name(v))
+        .collect::<anyhow::Result<_>>()?;
+    for (i, (name, _)) in named.iter().enumerate() {
+        if named[..i].iter().any(|(n, _)| n == name) {
+            bail!("invalid parameter: two trackers are named {name:?}; name them with NAME=FILE");
+        }
+    }
+    let stdin_users = std::iter::once(&truth)
+        .chain(named.iter().map(|(_, f)| f))
+        .filter(|f| *f == "-")
+        .count();
+    if stdin_users > 1 {
+        bail!("invalid parameter: only one input can read standard input");
+    }
+    let columns = GroupColumns {
+        sequence: args.sequence_column.clone(),
+        run: args.run_column.clone(),
+    };
+    let paths: Vec<&String> = std::iter::once(&truth)
+        .chain(named.iter().map(|(_, f)| f))
+        .collect();
+    let mut files: Vec<GroupedFile> = paths
+        .par_iter()
+        .map(|path| read_grouped_csv_path(path, &layout, &columns))
+        .collect::<Vec<_>>()
+        .into_iter()
+        .collect::<Result<_, _>>()?;
+    let estimates: Vec<(String, GroupedFile)> = named
+        .iter()
+        .map(|(n, _)| n.clone())
+        .zip(files.drain(1..))
+        .collect();
+    let truth_file = files.pop().expect("the truth was read");
+    let data = Dataset::from_columns(truth_file, estimates)?;
+    let inputs = CompareInputs {
+        truth: Some(truth),
+        manifest: None,
+        trackers: named
+            .into_iter()
+            .map(|(name, file)| TrackerSource {
+                name,
+                estimate: Some(file),
+            })
+            .collect(),
+        sequences: data.sequences().len(),
+        cases: data.cases().len(),
+        distance: String::new(),
+        engine: String::new(),
+    };
+    Ok((data, inputs))
+}
+
+/// A progress bar on standard error when it is a terminal, hidden otherwise.
+fn progress_bar(length: usize) -> ProgressBar {
+    if !std::io::stderr().is_terminal() {
+        return ProgressBar::hidden();
+    }
+    let bar = ProgressBar::new(length as u64);
+    if let Ok(style) = ProgressStyle::with_template(
+        "{elapsed_precise} [{bar:40}] {pos}/{len} evaluations ({per_sec}, {eta} left)",
+    ) {
+        bar.set_style(style.progress_chars("=> "));
+    }
+    bar
+}
+
+pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
+    if args.format == Format::Csv && args.per_sequence && args.monte_carlo {
+        bail!(
+            "invalid parameter: csv holds one table: give --per-sequence or --monte-carlo, not both"
+        );
+    }
+    let settings = settings_grid(&args.cutoff, &args.order, args.switch_penalty.as_deref())?;
+    let bootstrap = BootstrapOptions {
+        resamples: args.bootstrap_resamples,
+        seed: args.seed,
+        confidence: args.confidence,
+    };
+    bootstrap.validate()?;
+    let distance = args.distance.build(&args.csv)?;
+    for s in &settings {
+        distance.check_cutoff(s.cutoff)?;
+    }
+    let (data, mut inputs) = read_data(args, &distance)?;
+    for s in &settings {
+        distance.validate(data.dim(), s.cutoff)?;
+    }
+    let engine = Engine::from(args.engine);
+    inputs.distance = distance.name().to_string();
+    inputs.engine = engine.name().to_string();
+    let options = CompareOptions {
+        settings,
+        solve: SolveOptions {
+            engine,
+            ..SolveOptions::default()
+        },
+        bootstrap,
+        resample_by: match args.resample {
+            ResampleKind::Auto => ResampleBy::Auto,
+            ResampleKind::Sequence => ResampleBy::Sequence,
+            ResampleKind::Run => ResampleBy::Run,
+        },
+        monte_carlo: args.monte_carlo,
+    };
+    let bar = progress_bar(job_count(&data, &options));
+    let result = run_comparison(&data, &distance, &options, &|| bar.inc(1));
+    bar.finish_and_clear();
+    let comparison = result?;
+    let sections = Sections {
+        per_sequence: args.per_sequence,
+        monte_carlo: args.monte_carlo,
+    };
+    args.output.emit(|out| {
+        match args.format {
+            Format::Text => report::write_text(out, &comparison, &inputs, sections)?,
+            Format::Json => report::write_json(out, &comparison, &inputs, sections)?,
+            Format::Csv if args.per_sequence => report::write_sequences_csv(out, &comparison)?,
+            Format::Csv if args.monte_carlo => report::write_steps_csv(out, &comparison)?,
+            Format::Csv => report::write_csv(out, &comparison)?,
+        }
+        Ok(())
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn tracker_names_come_from_the_value_or_the_file() {
+        assert_eq!(
+            tracker_name("fast=out/a=b.csv").unwrap(),
+            ("fast".to_string(), "out/a=b.csv".to_string())
+        );
+        assert_eq!(
+            tracker_name("out/slow.csv").unwrap(),
+            ("slow".to_string(), "out/slow.csv".to_string())
+        );
+        assert!(tracker_name("=a.csv").is_err());
+        assert!(tracker_name("-").is_err());
+    }
+}

@@ -1,0 +1,417 @@
+//! Reading one CSV file that holds several sequences and Monte Carlo runs, told apart by group
+//! columns.
+//!
+//! The file is read like any trajectory CSV ([`super::csv`]: same columns, same checks, same
+//! messages), with up to two more columns: the sequence (default name `sequence`) and the run
+//! (default name `run`). A group column is used when the header has it. Every row belongs to
+//! the group named by its values; ids are independent between groups (the object `7` of
+//! sequence `a` and the object `7` of sequence `b` are two objects). Group values are trimmed
+//! strings and may not be empty. Groups are returned in the order of their first row.
+
+use std::fs::File;
+use std::io::{self, Read};
+use std::rc::Rc;
+
+use indexmap::IndexMap;
+
+use super::csv::{
+    find_columns, finish_object, parse_number, parse_step, ragged, read_error, Budgeted, CsvLayout,
+    ObjectPoints, READ_BUFFER, RECORD_BUDGET,
+};
+use crate::error::{Error, Location, Result};
+use crate::trajectory::TrajectorySet;
+
+/// The names of the group columns.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct GroupColumns {
+    /// The column naming the sequence of each row.
+    pub sequence: String,
+    /// The column naming the Monte Carlo run of each row.
+    pub run: String,
+}
+
+impl Default for GroupColumns {
+    /// `sequence` and `run`.
+    fn default() -> Self {
+        GroupColumns {
+            sequence: "sequence".into(),
+            run: "run".into(),
+        }
+    }
+}
+
+/// The rows of one (sequence, run) group, as a trajectory set.
+#[derive(Clone, Debug)]
+pub struct Group {
+    /// The sequence, empty when the file has no sequence column.
+    pub sequence: String,
+    /// The run, empty when the file has no run column.
+    pub run: String,
+    /// The line of the group's first row.
+    pub first_line: u64,
+    /// The group's trajectories, in order of first appearance.
+    pub set: TrajectorySet,
+}
+
+/// A file read with its groups.
+#[derive(Clone, Debug)]
+pub struct GroupedFile {
+    /// The file as the user named it.
+    pub source: String,
+    /// The state columns, in state order.
+    pub state_columns: Vec<String>,
+    /// True when the header has the sequence column.
+    pub has_sequence: bool,
+    /// True when the header has the run column.
+    pub has_run: bool,
+    /// The groups, in order of their first row. A file with no rows has none.
+    pub groups: Vec<Group>,
+}
+
+/// Reads a grouped CSV file, or standard input when `path` is `-`.
+///
+/// # Errors
+/// The file cannot be opened or read, or its content is not valid (see [`read_grouped_csv`]).
+pub fn read_grouped_csv_path(
+    path: &str,
+    layout: &CsvLayout,
+    columns: &GroupColumns,
+) -> Result<GroupedFile> {
+    if path == "-" {
+        return read_grouped_csv(io::stdin().lock(), "<stdin>", layout, columns);
+    }
+    let io_error = |error| Error::Io {
+        source_name: path.to_string(),
+        error,
+    };
+    if std::fs::metadata(path).map_err(io_error)?.is_dir() {
+        return Err(Error::input(
+            Location::file(path),
+            "is a directory, expected a CSV file",
+        ));
+    }
+    let file = File::open(path).map_err(io_error)?;
+    read_grouped_csv(
+        io::BufReader::with_capacity(1 << 16, file),
+        path,
+        layout,
+        columns,
+    )
+}
+
+/// The objects of one group while reading.
+struct GroupPoints {
+    first_line: u64,
+    objects: IndexMap<String, ObjectPoints>,
+}
+
+/// Reads trajectories grouped by sequence and run from CSV text. `source` names the input in
+/// messages.
+///
+/// # Errors
+/// Everything [`read_csv`](super::csv::read_csv) reports, and: group column names that clash
+/// with the other columns or appear twice in the header, an empty or non-UTF-8 group value;
+/// each names the file, the line and the column.
+pub fn read_grouped_csv<R: Read>(
+    reader: R,
+    source: &str,
+    layout: &CsvLayout,
+    groups: &GroupColumns,
+) -> Result<GroupedFile> {
+    if let Some(dt) = layout.time_step {
+        if !(dt.is_finite() && dt > 0.0) {
+            return Err(Error::Parameter(format!(
+                "the time step must be a positive number, got {dt}"
+            )));
+        }
+    }
+    check_group_names(layout, groups)?;
+    let budget = Rc::new(std::cell::Cell::new(RECORD_BUDGET));
+    let mut reader = csv::ReaderBuilder::new()
+        .delimiter(layout.delimiter)
+        .has_headers(true)
+        .flexible(true)
+        .trim(csv::Trim::All)
+        .buffer_capacity(READ_BUFFER)
+        .from_reader(Budgeted {
+            inner: reader,
+            budget: Rc::clone(&budget),
+        });
+    let header = reader
+        .byte_headers()
+        .map_err(|e| read_error(e, source, 1))?
+        .clone();
+    let columns = find_columns(&header, source, layout)?;
+    let names: Vec<String> = header
+        .iter()
+        .map(|field| String::from_utf8_lossy(field).trim().to_string())
+        .collect();
+    let sequence_column = group_position(&names, &groups.sequence, source)?;
+    let run_column = group_position(&names, &groups.run, source)?;
+    let dim = columns.state.len();
+    let mut found: IndexMap<(String, String), GroupPoints> = IndexMap::new();
+    let mut record = csv::ByteRecord::new();
+    let mut last: Option<(usize, usize)> = None;
+    loop {
+        let next_line = reader.position().line();
+        budget.set(RECORD_BUDGET);
+        if !reader
+            .read_byte_record(&mut record)
+            .map_err(|e| read_error(e, source, next_line))?
+        {
+            break;
+        }
+        let line = record.position().map_or(0, |p| p.line());
+        if record.len() != columns.header_len {
+            if record.len() == 1 && record.get(0) == Some(b"") {
+                continue; // a blank line
+            }
+            let at_end = matches!(
+                reader.read_byte_record(&mut csv::ByteRecord::new()),
+                Ok(false)
+            );
+            return Err(ragged(&record, &header, &columns, source, line, at_end));
+        }
+        let at = |position: usize| {
+            Location::line(source, line).with_column(position + 1, &names[position])
+        };
+        let group_value = |position: Option<usize>| -> Result<&str> {
+            let Some(position) = position else {
+                return Ok("");
+            };
+            let value = std::str::from_utf8(&record[position])
+                .map_err(|_| Error::input(at(position), "the group value is not valid UTF-8"))?;
+            if value.is_empty() {
+                return Err(Error::input(at(position), "the group value is empty"));
+            }
+            Ok(value)
+        };
+        let sequence = group_value(sequence_column)?;
+        let run = group_value(run_column)?;
+        let id = std::str::from_utf8(&record[columns.id])
+            .map_err(|_| Error::input(at(columns.id), "the id is not valid UTF-8"))?;
+        if id.is_empty() {
+            return Err(Error::input(at(columns.id), "the id is empty"));
+        }
+        let step = parse_step(&record[columns.time], layout.time_step)
+            .map_err(|message| Error::input(at(columns.time), message))?;
+        let group = match last {
+            Some((group, _))
+                if found
+                    .get_index(group)
+                    .is_some_and(|((s, r), _)| s == sequence && r == run) =>
+            {
+                group
+            }
+            _ => {
+                last = None;
+                let key = (sequence.to_string(), run.to_string());
+                match found.get_index_of(&key) {
+                    Some(group) => group,
+                    None => {
+                        let points = GroupPoints {
+                            first_line: line,
+                            objects: IndexMap::new(),
+                        };
+                        found.insert_full(key, points).0
+                    }
+                }
+            }
+        };
+        let objects = &mut found[group].objects;
+        let index = match last {
+            Some((g, index))
+                if g == group && objects.get_index(index).map(|(k, _)| k.as_str()) == Some(id) =>
+            {
+                index
+            }
+            _ => match objects.get_index_of(id) {
+                Some(index) => index,
+                None => {
+                    objects
+                        .insert_full(id.to_string(), ObjectPoints::default())
+                        .0
+                }
+            },
+        };
+        last = Some((group, index));
+        let points = &mut objects[index];
+        points.steps.push(step);
+        points.lines.push(line);
+        for &position in &columns.state {
+            let value = parse_number(&record[position])
+                .map_err(|message| Error::input(at(position), message))?;
+            points.states.push(value);
+        }
+        if let Some(distance) = &layout.distance {
+            let state = &points.states[points.states.len() - dim..];
+            if let Err((index, message)) = distance.check_state(state) {
+                return Err(Error::input(at(columns.state[index]), message));
+            }
+        }
+    }
+    let time_name = layout.time_column.as_str();
+    let mut result = Vec::with_capacity(found.len());
+    for ((sequence, run), points) in found {
+        let mut trajectories = Vec::with_capacity(points.objects.len());
+        for (id, object) in points.objects {
+            trajectories.push(finish_object(id, dim, object).map_err(|(line, message)| {
+                Error::input(
+                    Location::line(source, line).with_column(columns.time + 1, time_name),
+                    message,
+                )
+            })?);
+        }
+        result.push(Group {
+            sequence,
+            run,
+            first_line: points.first_line,
+            set: TrajectorySet::new(dim, trajectories)?,
+        });
+    }
+    Ok(GroupedFile {
+        source: source.to_string(),
+        state_columns: columns.names,
+        has_sequence: sequence_column.is_some(),
+        has_run: run_column.is_some(),
+        groups: result,
+    })
+}
+
+/// Refuses group column names that are empty, equal, or name a column already used.
+fn check_group_names(layout: &CsvLayout, groups: &GroupColumns) -> Result<()> {
+    for (what, name) in [("sequence", &groups.sequence), ("run", &groups.run)] {
+        if name.trim().is_empty() {
+            return Err(Error::Parameter(format!("the {what} column needs a name")));
+        }
+        let mut used = vec![&layout.time_column, &layout.id_column];
+        if let Some(state) = &layout.state_columns {
+            used.extend(state.iter());
+        }
+        if used.contains(&name) {
+            return Err(Error::Parameter(format!(
+                "the {what} column {name:?} is also the time, id or a state column"
+            )));
+        }
+    }
+    if groups.sequence == groups.run {
+        return Err(Error::Parameter(format!(
+            "the sequence and run columns have one name, {:?}",
+            groups.sequence
+        )));
+    }
+    Ok(())
+}
+
+/// The position of a group column, if the header has it once.
+fn group_position(names: &[String], wanted: &str, source: &str) -> Result<Option<usize>> {
+    let mut positions = names
+        .iter()
+        .enumerate()
+        .filter(|(_, name)| name.as_str() == wanted)
+        .map(|(position, _)| position);
+    let first = positions.next();
+    if let Some(second) = positions.next() {
+        return Err(Error::input(
+            Location::line(source, 1).with_column(second + 1, wanted),
+            format!("the header names the column {wanted:?} twice"),
+        ));
+    }
+    Ok(first)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn read(text: &str) -> Result<GroupedFile> {
+        read_grouped_csv(
+            text.as_bytes(),
+            "g.csv",
+            &CsvLayout::default(),
+            &GroupColumns::default(),
+        )
+    }
+
+    #[test]
+    fn rows_split_by_sequence_and_run() {
+        let file = read(
+            "sequence,run,time,id,x,y\n\
+             a,1,0,p,0,0\n\
+             a,2,0,p,1,0\n\
+             b,1,0,p,2,0\n\
+             a,1,1,p,0,1\n",
+        )
+        .unwrap();
+        assert!(file.has_sequence && file.has_run);
+        let keys: Vec<(&str, &str, u64, usize)> = file
+            .groups
+            .iter()
+            .map(|g| {
+                (
+                    g.sequence.as_str(),
+                    g.run.as_str(),
+                    g.first_line,
+                    g.set.object_steps(),
+                )
+            })
+            .collect();
+        assert_eq!(keys, [("a", "1", 2, 2), ("a", "2", 3, 1), ("b", "1", 4, 1)]);
+        // The same id in two groups is two objects.
+        assert_eq!(file.groups[0].set.get(0).state_at(1), Some(&[0.0, 1.0][..]));
+    }
+
+    #[test]
+    fn a_file_without_group_columns_is_one_group() {
+        let file = read("time,id,x,y\n0,p,0,0\n1,p,0,1\n").unwrap();
+        assert!(!file.has_sequence && !file.has_run);
+        assert_eq!(file.groups.len(), 1);
+        assert_eq!(
+            (
+                file.groups[0].sequence.as_str(),
+                file.groups[0].run.as_str()
+            ),
+            ("", "")
+        );
+        let empty = read("time,id,x,y\n").unwrap();
+        assert!(empty.groups.is_empty());
+    }
+
+    #[test]
+    fn errors_name_file_line_and_column() {
+        let error = read("sequence,time,id,x,y\na,0,p,0,0\n,1,p,0,0\n").unwrap_err();
+        assert_eq!(
+            error.to_string(),
+            "g.csv, line 3, column 1 (\"sequence\"): the group value is empty"
+        );
+        let error = read("sequence,time,id,x,y\na,0,p,0,0\na,0,p,0,1\n").unwrap_err();
+        assert!(
+            error
+                .to_string()
+                .starts_with("g.csv, line 3, column 2 (\"time\")"),
+            "{error}"
+        );
+        let error = read("run,time,id,x,y,run\n").unwrap_err();
+        assert!(error.to_string().contains("column 6"), "{error}");
+        let error = read("run,time,id,x,y\n1,0,p,zero,0\n").unwrap_err();
+        assert_eq!(
+            error.to_string(),
+            "g.csv, line 2, column 4 (\"x\"): expected a number, found \"zero\""
+        );
+    }
+
+    #[test]
+    fn clashing_names_are_refused() {
+        let columns = GroupColumns {
+            sequence: "id".into(),
+            run: "run".into(),
+        };
+        let error = read_grouped_csv(
+            &b"time,id,x,y\n"[..],
+            "g.csv",
+            &CsvLayout::default(),
+            &columns,
+        );
+        assert!(matches!(error, Err(Error::Parameter(_))));
+    }
+}

@@ -1,0 +1,690 @@
+//! Output of tracker comparisons (`switchyard compare`): rankings with paired bootstrap
+//! differences, per-sequence rankings, the ranking across a sweep, and per-step Monte Carlo
+//! summaries. Schemas: `specs/compare.md`.
+
+use std::io::Write;
+
+use serde::Serialize;
+
+use super::{csv_number, fixed, write_table};
+use crate::compare::{
+    Comparison, ResampleBy, SettingResult, StepsOverRuns, Summary, TrackerResult, Verdict,
+};
+use crate::trajectory_metric::TrajectoryParams;
+
+/// A tracker and where its estimates came from.
+#[derive(Clone, Debug, Serialize)]
+pub struct TrackerSource {
+    /// The tracker's name.
+    pub name: String,
+    /// Its estimate file, or `None` when a manifest lists one file per case.
+    pub estimate: Option<String>,
+}
+
+/// What was compared, shown at the top of every output.
+#[derive(Clone, Debug, Serialize)]
+pub struct CompareInputs {
+    /// The truth file (column grouping), or `None` with a manifest.
+    pub truth: Option<String>,
+    /// The manifest, or `None` with column grouping.
+    pub manifest: Option<String>,
+    /// The trackers, in the order given.
+    pub trackers: Vec<TrackerSource>,
+    /// The number of sequences.
+    pub sequences: usize,
+    /// The number of cases (sequence, run).
+    pub cases: usize,
+    /// The base distance.
+    pub distance: String,
+    /// The LP engine.
+    pub engine: String,
+}
+
+/// Which parts a report holds besides the overall ranking.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Sections {
+    /// The ranking of each sequence.
+    pub per_sequence: bool,
+    /// The per-step summaries over runs.
+    pub monte_carlo: bool,
+}
+
+fn resample_name(by: ResampleBy) -> &'static str {
+    match by {
+        ResampleBy::Sequence => "sequence",
+        ResampleBy::Run => "run",
+        ResampleBy::Auto => "auto",
+    }
+}
+
+fn plural(n: usize, one: &str, many: &str) -> String {
+    format!("{n} {}", if n == 1 { one } else { many })
+}
+
+/// "A < B = C": the trackers best first, `=` between exact ties.
+pub fn ranking_line(setting: &SettingResult) -> String {
+    let mut text = String::new();
+    for (i, t) in setting.trackers.iter().enumerate() {
+        if i > 0 {
+            let tied = setting.trackers[i - 1].rank == t.rank;
+            text.push_str(if tied { " = " } else { " < " });
+        }
+        text.push_str(&t.tracker);
+    }
+    text
+}
+
+/// The plain statement for a tracker against the best.
+pub fn verdict_statement(tracker: &str, against: &str, verdict: Verdict, by: ResampleBy) -> String {
+    match verdict {
+        Verdict::Worse => format!("{tracker} is worse than {against}: the interval lies above 0."),
+        Verdict::Better => format!(
+            "{tracker} is better than {against} by the interval, though not by the mean: the \
+             data do not rank them reliably."
+        ),
+        Verdict::Indistinguishable => {
+            format!("The data cannot tell {tracker} and {against} apart: the interval contains 0.")
+        }
+        Verdict::Undetermined => format!(
+            "Only one {}: no interval, and the data cannot tell {tracker} and {against} apart.",
+            resample_name(by)
+        ),
+    }
+}
+
+fn settings_line(p: &TrajectoryParams) -> String {
+    format!(
+        "cut-off c = {}   order p = {}   switching penalty gamma = {}",
+        p.cutoff, p.order, p.switch_penalty
+    )
+}
+
+fn count(value: f64) -> String {
+    if value.fract() == 0.0 {
+        format!("{value:.0}")
+    } else {
+        fixed(value, 3)
+    }
+}
+
+const SUMMARY_HEADER: [&str; 11] = [
+    "mean d",
+    "RMS d",
+    "mean d^p",
+    "localisation",
+    "missed",
+    "false",
+    "switching",
+    "missed obj-steps",
+    "false obj-steps",
+    "switches",
+    "fractional",
+];
+
+fn summary_cells(s: &Summary) -> Vec<String> {
+    vec![
+        fixed(s.metric_mean, 4),
+        fixed(s.metric_rms, 4),
+        fixed(s.total_mean, 4),
+        fixed(s.localization, 4),
+        fixed(s.missed, 4),
+        fixed(s.false_, 4),
+        fixed(s.switching, 4),
+        count(s.missed_count),
+        count(s.false_count),
+        count(s.switch_count),
+        s.fractional_cases.to_string(),
+    ]
+}
+
+fn ranking_table<W: Write>(
+    out: &mut W,
+    trackers: &[TrackerResult],
+    first: &[&str],
+    lead: impl Fn(&TrackerResult) -> Vec<String>,
+) -> std::io::Result<()> {
+    let mut header: Vec<&str> = first.to_vec();
+    header.extend_from_slice(&SUMMARY_HEADER);
+    let rows: Vec<Vec<String>> = trackers
+        .iter()
+        .map(|t| {
+            let mut row = lead(t);
+            row.extend(summary_cells(&t.summary));
+            row
+        })
+        .collect();
+    write_table(out, &header, &rows)
+}
+
+/// Below this many resampling units the text warns that the intervals are rough.
+const FEW_UNITS: usize = 10;
+
+/// A table of right-aligned numbers followed by one left-aligned text column, indented.
+fn write_table_with_text<W: Write>(
+    out: &mut W,
+    header: &[&str],
+    rows: &[Vec<String>],
+    text_header: &str,
+    texts: &[String],
+) -> std::io::Result<()> {
+    let mut buffer = Vec::new();
+    write_table(&mut buffer, header, rows)?;
+    let table = String::from_utf8_lossy(&buffer);
+    let texts = std::iter::once(text_header).chain(texts.iter().map(String::as_str));
+    for (line, text) in table.lines().zip(texts) {
+        writeln!(out, "  {line}  {text}")?;
+    }
+    Ok(())
+}
+
+/// Text: for each setting the ranking and the differences with the best, then (when asked)
+/// the per-sequence rankings, the ranking across the settings, and the Monte Carlo tables.
+pub fn write_text<W: Write>(
+    out: &mut W,
+    comparison: &Comparison,
+    inputs: &CompareInputs,
+    sections: Sections,
+) -> std::io::Result<()> {
+    writeln!(
+        out,
+        "Tracker comparison   {}, {}, {}   distance: {}   LP: {}",
+        plural(inputs.trackers.len(), "tracker", "trackers"),
+        plural(inputs.sequences, "sequence", "sequences"),
+        plural(inputs.cases, "case", "cases"),
+        inputs.distance,
+        inputs.engine
+    )?;
+    if let Some(truth) = &inputs.truth {
+        writeln!(out, "truth     {truth}")?;
+    }
+    if let Some(manifest) = &inputs.manifest {
+        writeln!(out, "manifest  {manifest}")?;
+    }
+    let trackers: Vec<String> = inputs
+        .trackers
+        .iter()
+        .map(|t| match &t.estimate {
+            Some(file) => format!("{} ({file})", t.name),
+            None => t.name.clone(),
+        })
+        .collect();
+    writeln!(out, "trackers  {}", trackers.join("; "))?;
+    writeln!(
+        out,
+        "Parts are means over the cases in p-th power units (they add up to mean d^p); object-steps\n\
+         and switches are totals; fractional counts the cases whose LP optimum is fractional (d is\n\
+         then a lower bound of the exact metric)."
+    )?;
+    let total = comparison.settings.len();
+    let b = &comparison.bootstrap;
+    for (index, setting) in comparison.settings.iter().enumerate() {
+        writeln!(out)?;
+        if total > 1 {
+            writeln!(
+                out,
+                "Setting {} of {total}: {}",
+                index + 1,
+                settings_line(&setting.params)
+            )?;
+        } else {
+            writeln!(out, "{}", settings_line(&setting.params))?;
+        }
+        writeln!(out)?;
+        ranking_table(out, &setting.trackers, &["rank", "tracker", "cases"], |t| {
+            vec![
+                t.rank.to_string(),
+                t.tracker.clone(),
+                t.summary.cases.to_string(),
+            ]
+        })?;
+        let best = &setting.trackers[0].tracker;
+        if setting.trackers.len() > 1 {
+            writeln!(out)?;
+            writeln!(
+                out,
+                "Against the best ({best}): mean over cases of d(tracker) - d({best}), {}% paired \
+                 percentile bootstrap interval over {} ({} resamples, seed {}):",
+                fixed(100.0 * b.confidence, 1)
+                    .trim_end_matches('0')
+                    .trim_end_matches('.'),
+                plural(
+                    comparison.resampling_units,
+                    resample_name(comparison.resample_by),
+                    &format!("{}s", resample_name(comparison.resample_by))
+                ),
+                b.resamples,
+                b.seed
+            )?;
+            let pairs: Vec<(Vec<String>, String)> = setting
+                .trackers
+                .iter()
+                .filter_map(|t| t.difference.as_ref().map(|d| (t, d)))
+                .map(|(t, d)| {
+                    let (lower, upper) = match d.interval {
+                        Some(i) => (fixed(i.lower, 4), fixed(i.upper, 4)),
+                        None => ("-".into(), "-".into()),
+                    };
+                    let statement = verdict_statement(
+                        &t.tracker,
+                        &d.against,
+                        d.verdict,
+                        comparison.resample_by,
+                    );
+                    (
+                        vec![t.tracker.clone(), fixed(d.mean, 4), lower, upper],
+                        statement,
+                    )
+                })
+                .collect();
+            let (cells, statements): (Vec<Vec<String>>, Vec<String>) = pairs.into_iter().unzip();
+            write_table_with_text(
+                out,
+                &["tracker", "difference", "lower", "upper"],
+                &cells,
+                "verdict",
+                &statements,
+            )?;
+            let units = comparison.resampling_units;
+            if (2..FEW_UNITS).contains(&units) {
+                let name = resample_name(comparison.resample_by);
+                writeln!(
+                    out,
+                    "Only {units} {name}s: percentile intervals from so few tend to be too \
+                     narrow; read them with care."
+                )?;
+            }
+        }
+        if sections.per_sequence {
+            writeln!(out)?;
+            writeln!(out, "Per sequence (over its runs):")?;
+            let mut header: Vec<&str> = vec!["sequence", "rank", "tracker", "runs"];
+            header.extend_from_slice(&SUMMARY_HEADER);
+            let table: Vec<Vec<String>> = setting
+                .sequences
+                .iter()
+                .flat_map(|s| {
+                    s.trackers.iter().map(move |t| {
+                        let mut row = vec![
+                            shown(&s.sequence),
+                            t.rank.to_string(),
+                            t.tracker.clone(),
+                            t.summary.cases.to_string(),
+                        ];
+                        row.extend(summary_cells(&t.summary));
+                        row
+                    })
+                })
+                .collect();
+            write_table(out, &header, &table)?;
+        }
+    }
+    if total > 1 {
+        writeln!(out)?;
+        writeln!(out, "Ranking across the {total} settings (best first):")?;
+        let rows: Vec<Vec<String>> = comparison
+            .settings
+            .iter()
+            .map(|s| {
+                vec![
+                    s.params.cutoff.to_string(),
+                    s.params.order.to_string(),
+                    s.params.switch_penalty.to_string(),
+                ]
+            })
+            .collect();
+        let rankings: Vec<String> = comparison.settings.iter().map(ranking_line).collect();
+        write_table_with_text(out, &["c", "p", "gamma"], &rows, "ranking", &rankings)?;
+        if comparison.ranking_stable {
+            writeln!(out, "The ranking is the same at every setting.")?;
+        } else {
+            writeln!(out, "The ranking changes across the settings.")?;
+        }
+    }
+    if sections.monte_carlo {
+        write_monte_carlo_text(out, comparison)?;
+    }
+    Ok(())
+}
+
+/// A group value for text: `-` when empty.
+fn shown(value: &str) -> String {
+    if value.is_empty() {
+        "-".into()
+    } else {
+        value.to_string()
+    }
+}
+
+fn write_monte_carlo_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+    writeln!(out)?;
+    writeln!(
+        out,
+        "Monte Carlo: trajectory GOSPA over the runs of each sequence"
+    )?;
+    for setting in &comparison.settings {
+        writeln!(out, "{}", settings_line(&setting.params))?;
+        let rows: Vec<Vec<String>> = setting
+            .sequences
+            .iter()
+            .flat_map(|s| {
+                s.trackers.iter().map(move |t| {
+                    vec![
+                        shown(&s.sequence),
+                        t.tracker.clone(),
+                        t.summary.cases.to_string(),
+                        fixed(t.summary.metric_mean, 4),
+                        fixed(t.summary.metric_rms, 4),
+                    ]
+                })
+            })
+            .collect();
+        write_table(
+            out,
+            &["sequence", "tracker", "runs", "mean d", "RMS d"],
+            &rows,
+        )?;
+    }
+    for block in &comparison.monte_carlo {
+        write_steps_block(out, block)?;
+    }
+    Ok(())
+}
+
+fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::Result<()> {
+    writeln!(out)?;
+    writeln!(
+        out,
+        "Per-step GOSPA over runs   cut-off c = {}   order p = {}   sequence {}   tracker {}   {}",
+        block.cutoff,
+        block.order,
+        shown(&block.sequence),
+        block.tracker,
+        plural(block.runs, "run", "runs")
+    )?;
+    let rows: Vec<Vec<String>> = block
+        .steps
+        .iter()
+        .map(|s| {
+            vec![
+                s.time.to_string(),
+                fixed(s.mean, 4),
+                fixed(s.rms, 4),
+                fixed(s.localization, 4),
+                fixed(s.missed, 4),
+                fixed(s.false_, 4),
+                fixed(s.missed_count, 3),
+                fixed(s.false_count, 3),
+            ]
+        })
+        .collect();
+    write_table(
+        out,
+        &[
+            "step",
+            "mean",
+            "RMS",
+            "localisation^p",
+            "missed^p",
+            "false^p",
+            "missed",
+            "false",
+        ],
+        &rows,
+    )
+}
+
+const SUMMARY_CSV: &str = "metric_mean,metric_rms,total_mean,localization,missed,false,switching,missed_count,false_count,switch_count,fractional_cases";
+
+fn summary_csv(s: &Summary) -> String {
+    [
+        s.metric_mean,
+        s.metric_rms,
+        s.total_mean,
+        s.localization,
+        s.missed,
+        s.false_,
+        s.switching,
+        s.missed_count,
+        s.false_count,
+        s.switch_count,
+    ]
+    .iter()
+    .map(|v| v.to_string())
+    .chain(std::iter::once(s.fractional_cases.to_string()))
+    .collect::<Vec<_>>()
+    .join(",")
+}
+
+/// Quotes a name for CSV when it needs it.
+fn csv_text(value: &str) -> String {
+    if value.contains([',', '"', '\n', '\r']) || value.trim() != value {
+        format!("\"{}\"", value.replace('"', "\"\""))
+    } else {
+        value.to_string()
+    }
+}
+
+/// CSV: one row per (setting, tracker), best first within a setting.
+pub fn write_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+    writeln!(
+        out,
+        "cutoff,order,switch_penalty,rank,tracker,cases,{SUMMARY_CSV},against,difference,lower,upper,verdict"
+    )?;
+    for setting in &comparison.settings {
+        let p = &setting.params;
+        for t in &setting.trackers {
+            let (against, difference, lower, upper, verdict) = match &t.difference {
+                Some(d) => (
+                    csv_text(&d.against),
+                    d.mean.to_string(),
+                    csv_number(d.interval.map(|i| i.lower)),
+                    csv_number(d.interval.map(|i| i.upper)),
+                    d.verdict.name().to_string(),
+                ),
+                None => Default::default(),
+            };
+            writeln!(
+                out,
+                "{},{},{},{},{},{},{},{against},{difference},{lower},{upper},{verdict}",
+                p.cutoff,
+                p.order,
+                p.switch_penalty,
+                t.rank,
+                csv_text(&t.tracker),
+                t.summary.cases,
+                summary_csv(&t.summary)
+            )?;
+        }
+    }
+    Ok(())
+}
+
+/// CSV: one row per (setting, sequence, tracker), best first within a sequence.
+pub fn write_sequences_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+    writeln!(
+        out,
+        "cutoff,order,switch_penalty,sequence,rank,tracker,runs,{SUMMARY_CSV}"
+    )?;
+    for setting in &comparison.settings {
+        let p = &setting.params;
+        for s in &setting.sequences {
+            for t in &s.trackers {
+                writeln!(
+                    out,
+                    "{},{},{},{},{},{},{},{}",
+                    p.cutoff,
+                    p.order,
+                    p.switch_penalty,
+                    csv_text(&s.sequence),
+                    t.rank,
+                    csv_text(&t.tracker),
+                    t.summary.cases,
+                    summary_csv(&t.summary)
+                )?;
+            }
+        }
+    }
+    Ok(())
+}
+
+/// CSV: one row per (cut-off and order, sequence, tracker, step) of the Monte Carlo summaries.
+pub fn write_steps_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+    writeln!(
+        out,
+        "cutoff,order,sequence,tracker,time,runs,mean,rms,localization,missed,false,missed_count,false_count"
+    )?;
+    for block in &comparison.monte_carlo {
+        for s in &block.steps {
+            writeln!(
+                out,
+                "{},{},{},{},{},{},{},{},{},{},{},{},{}",
+                block.cutoff,
+                block.order,
+                csv_text(&block.sequence),
+                csv_text(&block.tracker),
+                s.time,
+                s.runs,
+                s.mean,
+                s.rms,
+                s.localization,
+                s.missed,
+                s.false_,
+                s.missed_count,
+                s.false_count
+            )?;
+        }
+    }
+    Ok(())
+}
+
+#[derive(Serialize)]
+struct BootstrapDocument {
+    method: &'static str,
+    resamples: usize,
+    seed: u64,
+    confidence: f64,
+    resample_by: &'static str,
+    units: usize,
+}
+
+#[derive(Serialize)]
+struct DifferenceDocument<'a> {
+    against: &'a str,
+    mean: f64,
+    lower: Option<f64>,
+    upper: Option<f64>,
+    verdict: &'static str,
+}
+
+#[derive(Serialize)]
+struct RowDocument<'a> {
+    rank: usize,
+    tracker: &'a str,
+    #[serde(flatten)]
+    summary: &'a Summary,
+    difference: Option<DifferenceDocument<'a>>,
+}
+
+#[derive(Serialize)]
+struct SequenceDocument<'a> {
+    sequence: &'a str,
+    trackers: Vec<RowDocument<'a>>,
+}
+
+#[derive(Serialize)]
+struct SettingDocument<'a> {
+    cutoff: f64,
+    order: f64,
+    switch_penalty: f64,
+    ranking: String,
+    trackers: Vec<RowDocument<'a>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    sequences: Option<Vec<SequenceDocument<'a>>>,
+}
+
+#[derive(Serialize)]
+struct CompareDocument<'a> {
+    inputs: &'a CompareInputs,
+    bootstrap: BootstrapDocument,
+    settings: Vec<SettingDocument<'a>>,
+    ranking_stable: bool,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    monte_carlo: Option<&'a [StepsOverRuns]>,
+}
+
+fn rows(trackers: &[TrackerResult]) -> Vec<RowDocument<'_>> {
+    trackers
+        .iter()
+        .map(|t| RowDocument {
+            rank: t.rank,
+            tracker: &t.tracker,
+            summary: &t.summary,
+            difference: t.difference.as_ref().map(|d| DifferenceDocument {
+                against: &d.against,
+                mean: d.mean,
+                lower: d.interval.map(|i| i.lower),
+                upper: d.interval.map(|i| i.upper),
+                verdict: d.verdict.name(),
+            }),
+        })
+        .collect()
+}
+
+/// JSON: one document with `inputs`, `bootstrap`, `settings` (each with its ranking, and its
+/// per-sequence rankings when asked), `ranking_stable`, and `monte_carlo` when asked.
+pub fn write_json<W: Write>(
+    out: &mut W,
+    comparison: &Comparison,
+    inputs: &CompareInputs,
+    sections: Sections,
+) -> std::io::Result<()> {
+    let document = CompareDocument {
+        inputs,
+        bootstrap: BootstrapDocument {
+            method: "paired percentile bootstrap",
+            resamples: comparison.bootstrap.resamples,
+            seed: comparison.bootstrap.seed,
+            confidence: comparison.bootstrap.confidence,
+            resample_by: resample_name(comparison.resample_by),
+            units: comparison.resampling_units,
+        },
+        settings: comparison
+            .settings
+            .iter()
+            .map(|s| SettingDocument {
+                cutoff: s.params.cutoff,
+                order: s.params.order,
+                switch_penalty: s.params.switch_penalty,
+                ranking: ranking_line(s),
+                trackers: rows(&s.trackers),
+                sequences: sections.per_sequence.then(|| {
+                    s.sequences
+                        .iter()
+                        .map(|q| SequenceDocument {
+                            sequence: &q.sequence,
+                            trackers: rows(&q.trackers),
+                        })
+                        .collect()
+                }),
+            })
+            .collect(),
+        ranking_stable: comparison.ranking_stable,
+        monte_carlo: sections
+            .monte_carlo
+            .then_some(comparison.monte_carlo.as_slice()),
+    };
+    serde_json::to_writer_pretty(&mut *out, &document)?;
+    writeln!(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn csv_text_quotes_only_when_needed() {
+        assert_eq!(csv_text("plain"), "plain");
+        assert_eq!(csv_text("a,b"), "\"a,b\"");
+        assert_eq!(csv_text("say \"x\""), "\"say \"\"x\"\"\"");
+    }
+}

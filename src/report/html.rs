@@ -1,0 +1,427 @@
+//! The visual report: one self-contained HTML page (inline CSS and SVG, no script, no external
+//! reference) built from result structs. Contents and rules: `specs/report.md`.
+//!
+//! The page opens with a summary (parameters, then the metric, its parts and counts, one column
+//! per tracker, and a bar chart of the parts), followed by a section per tracker with three
+//! charts on a shared time axis: errors over time (per-step GOSPA stacked by its parts, switch
+//! events marked), the identity chart (a row per true object, worst covered first, spans
+//! coloured by the covering track) and, for states of two or more dimensions, a top view of
+//! true and estimated paths with switch locations. What is too large to draw one mark per item
+//! is thinned or grouped ([`Limits`]), and the page says so beside the chart.
+//!
+//! The markup is also well-formed XML (every element closed, no named entities), so it can be
+//! checked with an XML parser; the same result structs give the same bytes.
+
+mod errors;
+mod identity;
+mod style;
+mod summary;
+mod svg;
+mod topview;
+
+use std::fmt::Write;
+
+use crate::audit::{audit, Audit};
+use crate::distance::Distance;
+use crate::error::Result;
+use crate::per_step::{per_step, GospaParams, StepSeries};
+use crate::switches::{switch_events, SwitchEvent};
+use crate::trajectory::{TrajectorySet, Window};
+use crate::trajectory_metric::{score_with, SolveOptions, TrajectoryParams, TrajectoryScore};
+
+use self::style::Style;
+use self::svg::esc;
+
+/// Everything the report shows about one tracker.
+#[derive(Clone, Debug)]
+pub struct TrackerResults {
+    /// A short name for headings and table columns.
+    pub name: String,
+    /// The estimate file as the user named it.
+    pub source: String,
+    /// The tracker's output.
+    pub estimate: TrajectorySet,
+    /// Trajectory GOSPA with its parts and assignment.
+    pub score: TrajectoryScore,
+    /// Per-step GOSPA (alpha = 2, same cut-off and order) with its parts.
+    pub steps: StepSeries,
+    /// The switches seen from the true objects.
+    pub switches: Vec<SwitchEvent>,
+    /// How each true object was covered, worst first.
+    pub audit: Audit,
+}
+
+impl TrackerResults {
+    /// Computes everything the report needs for one tracker: trajectory GOSPA, per-step GOSPA
+    /// with alpha = 2 and the same cut-off and order, the switch events and the audit.
+    ///
+    /// # Errors
+    /// As [`score_with`] and [`per_step`]: sets of different dimensions, a window too long, an
+    /// LP engine failure.
+    pub fn compute(
+        name: impl Into<String>,
+        source: impl Into<String>,
+        truth: &TrajectorySet,
+        estimate: TrajectorySet,
+        params: &TrajectoryParams,
+        distance: &Distance,
+        options: &SolveOptions,
+    ) -> Result<Self> {
+        let score = score_with(truth, &estimate, params, distance, options)?;
+        let gospa = GospaParams::new(params.cutoff, params.order, 2.0)?;
+        let steps = per_step(truth, &estimate, &gospa, distance)?;
+        let switches = switch_events(&score.assignment, truth, &estimate, &score.params);
+        let audit = audit(&score, truth, &estimate, &switches);
+        Ok(TrackerResults {
+            name: name.into(),
+            source: source.into(),
+            estimate,
+            score,
+            steps,
+            switches,
+            audit,
+        })
+    }
+}
+
+/// The whole page's content.
+#[derive(Clone, Debug)]
+pub struct Report {
+    /// The page title.
+    pub title: String,
+    /// The ground truth.
+    pub truth: TrajectorySet,
+    /// The truth file as the user named it.
+    pub truth_source: String,
+    /// Names of the state columns, in state order.
+    pub state_columns: Vec<String>,
+    /// The unit of the state values (for example `m`), shown on axes; `None` when unknown.
+    pub units: Option<String>,
+    /// The base distance's name.
+    pub distance: String,
+    /// The LP engine's name.
+    pub engine: String,
+    /// One entry per tracker, in the order given.
+    pub trackers: Vec<TrackerResults>,
+}
+
+/// Sizes above which a chart thins or groups its marks (and says so on the page).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Limits {
+    /// Errors over time: at most this many columns; longer windows are grouped into bins of
+    /// whole steps, each showing the mean per step.
+    pub max_time_bins: usize,
+    /// Identity chart: at most this many rows (the worst-covered objects).
+    pub max_identity_rows: usize,
+    /// Top view: at most about this many points in all; above it every k-th step is drawn.
+    pub max_top_points: usize,
+    /// Errors over time and top view: at most this many switch marks; above it nearby switches
+    /// share one mark that counts them.
+    pub max_switch_marks: usize,
+    /// Top view: label the start of at most this many true paths.
+    pub max_path_labels: usize,
+}
+
+impl Default for Limits {
+    fn default() -> Self {
+        Limits {
+            max_time_bins: 800,
+            max_identity_rows: 120,
+            max_top_points: 40_000,
+            max_switch_marks: 400,
+            max_path_labels: 60,
+        }
+    }
+}
+
+/// Width of every chart, in CSS pixels (charts scale down with the page).
+pub(crate) const WIDTH: f64 = 960.0;
+/// Right margin of the time charts.
+pub(crate) const RIGHT: f64 = 18.0;
+
+/// What a chart returns: its SVG and the notes on what it thinned or grouped.
+pub(crate) struct Figure {
+    pub svg: String,
+    pub notes: Vec<String>,
+}
+
+/// What the charts of one tracker share.
+pub(crate) struct Context<'a> {
+    /// Unique prefix for SVG ids in this section.
+    pub prefix: String,
+    /// Left margin of the time charts (room for row labels).
+    pub left: f64,
+    /// The time window shared by every tracker's time charts.
+    pub window: Window,
+    /// The unit label ("m", or "state units").
+    pub unit: String,
+    /// The order p.
+    pub order: f64,
+    /// The whole report.
+    pub report: &'a Report,
+    /// The tracker drawn.
+    pub tracker: &'a TrackerResults,
+    /// A style per estimate, by estimate index.
+    pub styles: Vec<Style>,
+    pub limits: &'a Limits,
+}
+
+impl Context<'_> {
+    /// The time scale: step `s` occupies `[x(s - 0.5), x(s + 0.5)]`.
+    pub fn time_scale(&self) -> svg::Scale {
+        svg::Scale::new(
+            self.window.first as f64 - 0.5,
+            self.window.last as f64 + 0.5,
+            self.left,
+            WIDTH - RIGHT,
+        )
+    }
+
+    /// The style of the estimate with this id.
+    pub fn style_of(&self, estimate: &str) -> Style {
+        self.tracker
+            .estimate
+            .trajectories()
+            .iter()
+            .position(|t| t.id() == estimate)
+            .map_or(Style::from_index(0), |j| self.styles[j])
+    }
+
+    /// `value unit` for tooltips.
+    pub fn with_unit(&self, v: f64) -> String {
+        format!("{} {}", svg::short(v), self.unit)
+    }
+}
+
+/// Renders the page. Deterministic: the same report and limits give the same string.
+pub fn render(report: &Report, limits: &Limits) -> String {
+    let mut out = String::with_capacity(1 << 16);
+    out.push_str("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
+    out.push_str(
+        "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n\
+         <meta name=\"generator\" content=\"switchyard ",
+    );
+    out.push_str(env!("CARGO_PKG_VERSION"));
+    out.push_str("\"/>\n");
+    let _ = writeln!(out, "<title>{}</title>", esc(&report.title));
+    out.push_str("<style>\n");
+    out.push_str(CSS);
+    out.push_str("</style>\n</head>\n<body>\n");
+    header(&mut out, report);
+    out.push_str("<main>\n");
+    summary::section(&mut out, report);
+    let window = shared_window(report);
+    let max_id = report
+        .truth
+        .trajectories()
+        .iter()
+        .map(|t| t.id().chars().count())
+        .max()
+        .unwrap_or(1);
+    let left = (svg::text_width(max_id) + 22.0).clamp(64.0, 220.0);
+    let unit = report
+        .units
+        .clone()
+        .filter(|u| !u.trim().is_empty())
+        .unwrap_or_else(|| "state units".to_string());
+    for (index, tracker) in report.trackers.iter().enumerate() {
+        let context = Context {
+            prefix: format!("k{}", index + 1),
+            left,
+            window: window.unwrap_or(Window { first: 0, last: 0 }),
+            unit: unit.clone(),
+            order: tracker.score.params.order,
+            report,
+            tracker,
+            styles: track_styles(tracker),
+            limits,
+        };
+        tracker_section(&mut out, &context, window.is_some());
+    }
+    out.push_str("</main>\n");
+    footer(&mut out);
+    out.push_str("</body>\n</html>\n");
+    out
+}
+
+/// The union of the trackers' windows, so that every time chart shares one axis.
+fn shared_window(report: &Report) -> Option<Window> {
+    report
+        .trackers
+        .iter()
+        .filter_map(|t| t.score.window.or(t.steps.window))
+        .reduce(|a, b| Window {
+            first: a.first.min(b.first),
+            last: a.last.max(b.last),
+        })
+}
+
+/// Styles per estimate: tracks that cover the same true object get different styles.
+fn track_styles(tracker: &TrackerResults) -> Vec<Style> {
+    let estimates = tracker.estimate.trajectories();
+    let index_of = |id: &str| estimates.iter().position(|t| t.id() == id);
+    let mut neighbours: Vec<Vec<usize>> = vec![Vec::new(); estimates.len()];
+    for truth in &tracker.audit.truths {
+        let mut covering: Vec<usize> = truth
+            .covered
+            .iter()
+            .filter_map(|s| index_of(&s.estimate))
+            .collect();
+        covering.sort_unstable();
+        covering.dedup();
+        for &a in &covering {
+            for &b in &covering {
+                if a != b && !neighbours[a].contains(&b) {
+                    neighbours[a].push(b);
+                }
+            }
+        }
+    }
+    style::assign_styles(estimates.len(), &neighbours)
+}
+
+fn header(out: &mut String, report: &Report) {
+    let _ = writeln!(out, "<header>\n<h1>{}</h1>", esc(&report.title));
+    let objects = report.truth.len();
+    let trackers = report.trackers.len();
+    let _ = writeln!(
+        out,
+        "<p class=\"lede\">Ground truth <code>{}</code>: {} true object{}. {} tracker{} compared \
+         with trajectory GOSPA.</p>",
+        esc(&report.truth_source),
+        objects,
+        plural(objects),
+        trackers,
+        plural(trackers)
+    );
+    out.push_str("<nav aria-label=\"Contents\"><ol>\n<li><a href=\"#summary\">Summary</a></li>\n");
+    for (index, tracker) in report.trackers.iter().enumerate() {
+        let id = format!("k{}", index + 1);
+        let _ = writeln!(
+            out,
+            "<li><a href=\"#{id}\">{}</a>: <a href=\"#{id}-errors\">errors over time</a> · \
+             <a href=\"#{id}-identity\">identity chart</a> · <a href=\"#{id}-top\">top view</a></li>",
+            esc(&tracker.name)
+        );
+    }
+    out.push_str("</ol></nav>\n</header>\n");
+}
+
+fn tracker_section(out: &mut String, context: &Context, has_window: bool) {
+    let tracker = context.tracker;
+    let id = &context.prefix;
+    let _ = writeln!(
+        out,
+        "<section class=\"tracker\" id=\"{id}\" data-tracker=\"{}\">\n<h2>{} <span class=\"source\">{}</span></h2>",
+        esc(&tracker.name),
+        esc(&tracker.name),
+        esc(&tracker.source)
+    );
+    let figures: [(&str, &str, String, Option<Figure>); 3] = [
+        (
+            "errors",
+            "Errors over time",
+            errors::caption(context),
+            has_window.then(|| errors::chart(context)),
+        ),
+        (
+            "identity",
+            "Identity chart",
+            identity::caption(context),
+            has_window.then(|| identity::chart(context)),
+        ),
+        (
+            "top",
+            "Top view",
+            topview::caption(context),
+            has_window.then(|| topview::chart(context)),
+        ),
+    ];
+    for (kind, heading, caption, figure) in figures {
+        let _ = writeln!(
+            out,
+            "<figure id=\"{id}-{kind}\" class=\"chart {kind}\">\n<figcaption><h3>{heading}</h3>\
+             <p>{caption}</p></figcaption>"
+        );
+        match figure {
+            Some(figure) => {
+                out.push_str(&figure.svg);
+                out.push('\n');
+                for note in figure.notes {
+                    let _ = writeln!(out, "<p class=\"note\">{note}</p>");
+                }
+            }
+            None => out.push_str("<p class=\"note\">Both sets are empty: nothing to draw.</p>\n"),
+        }
+        out.push_str("</figure>\n");
+    }
+    out.push_str("</section>\n");
+}
+
+fn footer(out: &mut String) {
+    let _ = writeln!(
+        out,
+        "<footer><p>Made by switchyard {}. Everything on this page is inline; it needs no network. \
+         Hover over a mark for its details. Colours: the Okabe–Ito set for colour-vision \
+         deficiency, each also told apart by a texture or dash pattern.</p></footer>",
+        env!("CARGO_PKG_VERSION")
+    );
+}
+
+/// `"s"` unless `count` is 1.
+pub(crate) fn plural(count: usize) -> &'static str {
+    if count == 1 {
+        ""
+    } else {
+        "s"
+    }
+}
+
+/// The page's stylesheet: our own layout, a print stylesheet, no external fonts.
+const CSS: &str = r#":root { --ink: #1d232b; --muted: #5b6470; --rule: #d5dae0; --wash: #f3f5f7; --accent: #1f4e79; }
+* { box-sizing: border-box; }
+html { background: #ffffff; }
+body { margin: 0 auto; max-width: 1000px; padding: 24px 20px 40px; color: var(--ink);
+  font: 15px/1.45 system-ui, "DejaVu Sans", "Liberation Sans", Arial, sans-serif; }
+h1 { font-size: 26px; margin: 0 0 4px; letter-spacing: -0.01em; }
+h2 { font-size: 20px; margin: 36px 0 8px; padding-top: 10px; border-top: 3px solid var(--ink); }
+h2 .source { font: 13px ui-monospace, "DejaVu Sans Mono", monospace; color: var(--muted); font-weight: normal; margin-left: 8px; }
+h3 { font-size: 16px; margin: 0 0 2px; }
+a { color: var(--accent); }
+code { font: 13px ui-monospace, "DejaVu Sans Mono", monospace; }
+.lede { color: var(--muted); margin: 0 0 8px; }
+nav ol { margin: 0; padding-left: 20px; color: var(--muted); font-size: 14px; }
+figure { margin: 22px 0 0; }
+figcaption p { margin: 0 0 6px; color: var(--muted); font-size: 13.5px; max-width: 74ch; }
+svg { display: block; max-width: 100%; height: auto; font: 11px system-ui, "DejaVu Sans", "Liberation Sans", Arial, sans-serif; }
+svg text { fill: var(--ink); }
+svg .axis-label { font-size: 12px; font-weight: 600; }
+svg .tick { fill: var(--muted); }
+svg .row-label { font: 11px ui-monospace, "DejaVu Sans Mono", monospace; }
+svg .bar-label { font-size: 9px; paint-order: stroke; stroke: #ffffff; stroke-width: 2.6px; stroke-linejoin: round; }
+svg .path-label { font-size: 10px; font-weight: 600; paint-order: stroke; stroke: #ffffff; stroke-width: 3px; stroke-linejoin: round; }
+.note { font-size: 13px; margin: 6px 0 0; padding: 4px 10px; border-left: 4px solid #E69F00; background: var(--wash); }
+dl.params { display: grid; grid-template-columns: max-content 1fr; gap: 2px 16px; margin: 8px 0 14px; font-size: 14px; }
+dl.params dt { color: var(--muted); }
+dl.params dd { margin: 0; }
+table.summary { border-collapse: collapse; font-size: 14px; margin: 6px 0 4px; }
+table.summary th, table.summary td { padding: 3px 12px; border-bottom: 1px solid var(--rule); text-align: right; vertical-align: top; }
+table.summary th[scope="row"] { text-align: left; font-weight: normal; color: var(--muted); }
+table.summary thead th { border-bottom: 2px solid var(--ink); text-align: right; }
+table.summary tbody tr.group td, table.summary tbody tr.group th { border-top: 2px solid var(--rule); }
+table.summary td.best { font-weight: 700; }
+table.summary td .share { color: var(--muted); font-size: 12px; margin-left: 6px; }
+table.summary td.file { font: 12px ui-monospace, "DejaVu Sans Mono", monospace; max-width: 28ch; overflow-wrap: anywhere; }
+.table-note { font-size: 12.5px; color: var(--muted); margin: 0 0 10px; }
+footer { margin-top: 40px; padding-top: 8px; border-top: 1px solid var(--rule); color: var(--muted); font-size: 12.5px; }
+@media print {
+  body { max-width: none; padding: 0; font-size: 10pt; }
+  nav { display: none; }
+  a { color: inherit; text-decoration: none; }
+  section.tracker { break-before: page; }
+  figure, table, dl { break-inside: avoid; }
+  h2, h3 { break-after: avoid; }
+  .note { background: none; border-left-color: #000000; }
+  * { print-color-adjust: exact; -webkit-print-color-adjust: exact; }
+}
+"#;

@@ -1,0 +1,747 @@
+//! `switchyard compare`: aggregation checked by hand, the bootstrap on cases with a known
+//! answer, thread-count independence, the sweep on the demonstration data, and the manifest and
+//! the group columns giving the same numbers for the same data.
+
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
+
+use assert_cmd::Command;
+use serde_json::Value;
+use switchyard::compare::bootstrap::{percentile_interval, BootstrapOptions, Unit};
+use switchyard::input::write_csv;
+use switchyard::synth::{
+    generate_truth, imitate_tracker, SceneConfig, ScenePreset, TrackerConfig, TrackerStyle,
+};
+use switchyard::trajectory::TrajectorySet;
+
+fn switchyard() -> Command {
+    Command::cargo_bin("switchyard").unwrap()
+}
+
+/// Runs the binary; returns standard output, failing the test on a non-zero exit.
+fn run_ok(args: &[&str]) -> Vec<u8> {
+    let output = switchyard().args(args).output().unwrap();
+    assert!(
+        output.status.success(),
+        "switchyard {args:?} failed: {}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+    output.stdout
+}
+
+fn json(args: &[&str]) -> Value {
+    serde_json::from_slice(&run_ok(args)).unwrap()
+}
+
+fn write(dir: &Path, name: &str, text: &str) -> String {
+    let path = dir.join(name);
+    std::fs::write(&path, text).unwrap();
+    path.to_str().unwrap().to_string()
+}
+
+fn close(actual: &Value, expected: f64) {
+    let actual = actual
+        .as_f64()
+        .unwrap_or_else(|| panic!("{actual} is not a number"));
+    assert!(
+        (actual - expected).abs() < 1e-9,
+        "{actual} differs from {expected}"
+    );
+}
+
+/// The tiny scene of the hand computation, with sequence columns; c = 2, p = 1, gamma = 2.
+///
+/// Sequence s1: a truth at x = 0 at steps 0 and 1. Tracker A follows it at x = 0.5 (d = 0.5 +
+/// 0.5 = 1, all localisation); tracker B reports nothing (2 missed object-steps at c/2 = 1 each:
+/// d = 2).
+/// Sequence s2: a truth at x = 0 at step 0. A reports x = 1 (d = 1, localisation); B reports
+/// x = 5, beyond c (1 missed and 1 false at 1 each: d = 2).
+fn hand_scene(dir: &Path) -> (String, String, String) {
+    let truth = write(
+        dir,
+        "truth.csv",
+        "sequence,time,id,x\ns1,0,a,0\ns1,1,a,0\ns2,0,b,0\n",
+    );
+    let a = write(
+        dir,
+        "a.csv",
+        "sequence,time,id,x\ns1,0,p,0.5\ns1,1,p,0.5\ns2,0,q,1\n",
+    );
+    let b = write(dir, "b.csv", "sequence,time,id,x\ns2,0,r,5\n");
+    (truth, a, b)
+}
+
+#[test]
+fn aggregation_matches_the_hand_computation() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, a, b) = hand_scene(dir.path());
+    let document = json(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &format!("B={b}"),
+        "--estimate",
+        &format!("A={a}"),
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--per-sequence",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(document["inputs"]["sequences"], 2);
+    assert_eq!(document["inputs"]["cases"], 2);
+    let setting = &document["settings"][0];
+    assert_eq!(setting["ranking"], "A < B");
+    let best = &setting["trackers"][0];
+    assert_eq!(best["tracker"], "A");
+    assert_eq!(best["rank"], 1);
+    // A: d = 1 and 1: mean 1, RMS sqrt((1 + 1) / 2) = 1; localisation mean (1 + 1) / 2 = 1.
+    close(&best["metric_mean"], 1.0);
+    close(&best["metric_rms"], 1.0);
+    close(&best["localization"], 1.0);
+    close(&best["missed"], 0.0);
+    assert!(best["difference"].is_null());
+    let worse = &setting["trackers"][1];
+    assert_eq!(worse["tracker"], "B");
+    // B: d = 2 and 2: mean 2, RMS 2; missed (2 + 1) / 2 = 1.5, false (0 + 1) / 2 = 0.5 (they
+    // add up to the mean d^p 2); 3 missed and 1 false object-steps in total.
+    close(&worse["metric_mean"], 2.0);
+    close(&worse["metric_rms"], 2.0);
+    close(&worse["total_mean"], 2.0);
+    close(&worse["missed"], 1.5);
+    close(&worse["false"], 0.5);
+    close(&worse["missed_count"], 3.0);
+    close(&worse["false_count"], 1.0);
+    close(&worse["switch_count"], 0.0);
+    // B - A per sequence: 2 - 1 = 1 and 2 - 1 = 1. Every resample of two equal differences has
+    // mean 1, so the percentile interval is [1, 1], above 0.
+    let difference = &worse["difference"];
+    assert_eq!(difference["against"], "A");
+    close(&difference["mean"], 1.0);
+    close(&difference["lower"], 1.0);
+    close(&difference["upper"], 1.0);
+    assert_eq!(difference["verdict"], "worse");
+    assert_eq!(document["bootstrap"]["resample_by"], "sequence");
+    assert_eq!(document["bootstrap"]["units"], 2);
+    // Per sequence: s1 alone gives A 1 and B 2.
+    let s1 = &setting["sequences"][0];
+    assert_eq!(s1["sequence"], "s1");
+    close(&s1["trackers"][0]["metric_mean"], 1.0);
+    close(&s1["trackers"][1]["metric_mean"], 2.0);
+    close(&s1["trackers"][1]["missed"], 2.0);
+}
+
+#[test]
+fn monte_carlo_steps_match_the_hand_computation() {
+    // One sequence, a truth shared by two runs (the truth has no run column): an object at x = 0
+    // at steps 0 and 1. c = 2, p = 2, so a missed object costs c^p / 2 = 2 and GOSPA = sqrt(2).
+    // Run 1: the track is at x = 1 at step 0 (GOSPA 1, localisation 1), absent at step 1
+    // (GOSPA sqrt 2, missed 2). Run 2: exact at both steps (GOSPA 0).
+    let dir = tempfile::tempdir().unwrap();
+    let truth = write(dir.path(), "t.csv", "time,id,x\n0,a,0\n1,a,0\n");
+    let estimate = write(
+        dir.path(),
+        "e.csv",
+        "run,time,id,x\n1,0,p,1\n2,0,p,0\n2,1,p,0\n",
+    );
+    let text = run_ok(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &format!("T={estimate}"),
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--order",
+        "2",
+        "--monte-carlo",
+        "--format",
+        "csv",
+    ]);
+    let text = String::from_utf8(text).unwrap();
+    let rows: Vec<Vec<f64>> = text
+        .lines()
+        .skip(1)
+        .map(|line| {
+            line.split(',')
+                .enumerate()
+                .filter(|(i, _)| ![2, 3].contains(i))
+                .map(|(_, v)| v.parse().unwrap())
+                .collect()
+        })
+        .collect();
+    assert!(text.starts_with(
+        "cutoff,order,sequence,tracker,time,runs,mean,rms,localization,missed,false,missed_count,false_count\n"
+    ));
+    assert_eq!(rows.len(), 2);
+    // Columns left: cutoff, order, time, runs, mean, rms, localisation, missed, false, missed
+    // count, false count.
+    // Step 0: values 1 and 0 -> mean 1/2, RMS sqrt(1/2), localisation 1/2.
+    let expected0 = [
+        2.0,
+        2.0,
+        0.0,
+        2.0,
+        0.5,
+        0.5f64.sqrt(),
+        0.5,
+        0.0,
+        0.0,
+        0.0,
+        0.0,
+    ];
+    // Step 1: values sqrt 2 and 0 -> mean sqrt(2)/2, RMS 1, missed 1, missed count 1/2.
+    let expected1 = [
+        2.0,
+        2.0,
+        1.0,
+        2.0,
+        2f64.sqrt() / 2.0,
+        1.0,
+        0.0,
+        1.0,
+        0.0,
+        0.5,
+        0.0,
+    ];
+    for (row, expected) in rows.iter().zip([expected0, expected1]) {
+        for (a, e) in row.iter().zip(expected) {
+            assert!((a - e).abs() < 1e-12, "{row:?} vs {expected:?}");
+        }
+    }
+}
+
+#[test]
+fn bootstrap_interval_equals_the_exact_quantiles_of_the_resampling_distribution() {
+    // Differences 0, 1, 2, 10: the 4^4 = 256 equally likely resamples give the exact
+    // distribution of the resampled mean, enumerated here from the definition. Its 2.5% and
+    // 97.5% quantiles fall strictly inside flat steps of the distribution function (checked
+    // below), so with 100,000 resamples the percentile interval equals them exactly.
+    // (scipy.stats.bootstrap(method='percentile') gives the same (0.5, 7.75) on these values.)
+    let values = [0.0, 1.0, 2.0, 10.0];
+    let mut means = Vec::with_capacity(256);
+    for a in values {
+        for b in values {
+            for c in values {
+                for d in values {
+                    means.push((a + b + c + d) / 4.0);
+                }
+            }
+        }
+    }
+    means.sort_by(f64::total_cmp);
+    let cdf = |x: f64| means.iter().filter(|&&m| m <= x).count() as f64 / 256.0;
+    let quantile = |q: f64| *means.iter().find(|&&m| cdf(m) >= q).unwrap();
+    let (low, high) = (quantile(0.025), quantile(0.975));
+    assert_eq!((low, high), (0.5, 7.75));
+    // The levels are well inside the steps: P(mean < 0.5) = 5/256, P(mean <= 0.5) = 15/256;
+    // P(mean < 7.75) = 247/256, P(mean <= 7.75) = 251/256.
+    assert!(cdf(0.25) < 0.02 && cdf(0.5) > 0.05);
+    assert!(cdf(7.5) < 0.966 && cdf(7.75) > 0.98);
+    let units: Vec<Unit> = values.iter().map(|&sum| Unit { sum, count: 1 }).collect();
+    let options = BootstrapOptions {
+        resamples: 100_000,
+        seed: 7,
+        confidence: 0.95,
+    };
+    let interval = percentile_interval(&units, &options).unwrap();
+    assert!((interval.lower - low).abs() < 1e-12, "{interval:?}");
+    assert!((interval.upper - high).abs() < 1e-12, "{interval:?}");
+}
+
+#[test]
+fn bootstrap_interval_is_close_to_the_normal_interval_for_a_large_sample() {
+    // For the mean of many independent values the bootstrap distribution is close to normal,
+    // so the percentile interval approaches mean +- 1.96 s / sqrt(n) (Efron & Tibshirani 1993,
+    // ch. 13). Values: 400 fixed pseudo-random numbers in [0, 1).
+    let n = 400;
+    let mut state: u64 = 12345;
+    let values: Vec<f64> = (0..n)
+        .map(|_| {
+            // A linear congruential generator (Knuth's MMIX constants): only a fixed sample.
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        })
+        .collect();
+    let mean = values.iter().sum::<f64>() / n as f64;
+    let variance = values.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / n as f64;
+    let half = 1.959964 * (variance / n as f64).sqrt();
+    let units: Vec<Unit> = values.iter().map(|&sum| Unit { sum, count: 1 }).collect();
+    let interval = percentile_interval(&units, &BootstrapOptions::default()).unwrap();
+    // Each end within 10% of the half-width: the bootstrap's Monte Carlo error with 10,000
+    // resamples is about 2%, the remaining skewness of the mean of uniforms is nil.
+    assert!(
+        (interval.lower - (mean - half)).abs() < 0.1 * half,
+        "{interval:?}"
+    );
+    assert!(
+        (interval.upper - (mean + half)).abs() < 0.1 * half,
+        "{interval:?}"
+    );
+}
+
+/// Scenes for the multi-sequence tests: `sequences` seeded truths of 40 steps and 5 objects,
+/// each followed in `runs` runs by two trackers (mixed faults and swaps-only faults).
+struct Scenes {
+    truths: Vec<TrajectorySet>,
+    /// [tracker][sequence][run]
+    estimates: Vec<Vec<Vec<TrajectorySet>>>,
+}
+
+const NAMES: [&str; 2] = ["mixed", "swapper"];
+
+fn scenes(sequences: usize, runs: usize) -> Scenes {
+    let scene = SceneConfig::spaced(40, 5.0);
+    let configs = [
+        TrackerConfig::styled(ScenePreset::Small, TrackerStyle::Mixed),
+        TrackerConfig::styled(ScenePreset::Small, TrackerStyle::Swaps),
+    ];
+    let truths: Vec<TrajectorySet> = (0..sequences)
+        .map(|s| generate_truth(&scene, 100 + s as u64).unwrap())
+        .collect();
+    let estimates = configs
+        .iter()
+        .enumerate()
+        .map(|(t, config)| {
+            truths
+                .iter()
+                .enumerate()
+                .map(|(s, truth)| {
+                    (0..runs)
+                        .map(|r| {
+                            let seed = 1_000 * t as u64 + 10 * s as u64 + r as u64;
+                            imitate_tracker(truth, config, seed).unwrap()
+                        })
+                        .collect()
+                })
+                .collect()
+        })
+        .collect();
+    Scenes { truths, estimates }
+}
+
+/// Appends the rows of a set with leading group values.
+fn grouped_rows(out: &mut String, groups: &[&str], set: &TrajectorySet) {
+    for trajectory in set.trajectories() {
+        for (step, state) in trajectory.points() {
+            for g in groups {
+                write!(out, "{g},").unwrap();
+            }
+            writeln!(out, "{step},{},{},{}", trajectory.id(), state[0], state[1]).unwrap();
+        }
+    }
+}
+
+/// Writes the scenes as grouped files (truth per sequence, estimates per sequence and run);
+/// returns the truth and the estimate arguments.
+fn write_grouped(dir: &Path, scenes: &Scenes) -> (String, Vec<String>) {
+    let mut truth = String::from("sequence,time,id,x,y\n");
+    for (s, set) in scenes.truths.iter().enumerate() {
+        grouped_rows(&mut truth, &[&format!("seq{s}")], set);
+    }
+    let truth = write(dir, "truth.csv", &truth);
+    let mut estimates = Vec::new();
+    for (t, per_sequence) in scenes.estimates.iter().enumerate() {
+        let mut text = String::from("sequence,run,time,id,x,y\n");
+        // Rows in reverse order of runs: the cases are sorted whatever the file order.
+        for (s, runs) in per_sequence.iter().enumerate().rev() {
+            for (r, set) in runs.iter().enumerate().rev() {
+                grouped_rows(&mut text, &[&format!("seq{s}"), &(r + 1).to_string()], set);
+            }
+        }
+        let path = write(dir, &format!("{}.csv", NAMES[t]), &text);
+        estimates.push(format!("{}={path}", NAMES[t]));
+    }
+    (truth, estimates)
+}
+
+/// Writes one file per truth and per (tracker, sequence, run) and a manifest listing them
+/// (relative paths); returns the manifest's path.
+fn write_manifest(dir: &Path, scenes: &Scenes, json: bool) -> PathBuf {
+    let files = dir.join("files");
+    std::fs::create_dir_all(&files).unwrap();
+    let save = |name: &str, set: &TrajectorySet| {
+        let mut bytes = Vec::new();
+        write_csv(set, &["x", "y"], &mut bytes).unwrap();
+        std::fs::write(files.join(name), bytes).unwrap();
+    };
+    let mut csv = String::from("tracker,sequence,run,truth,estimate\n");
+    let mut entries = Vec::new();
+    for (s, truth) in scenes.truths.iter().enumerate() {
+        save(&format!("truth{s}.csv"), truth);
+    }
+    for (t, per_sequence) in scenes.estimates.iter().enumerate() {
+        for (s, runs) in per_sequence.iter().enumerate() {
+            for (r, set) in runs.iter().enumerate() {
+                let name = format!("{}-{s}-{}.csv", NAMES[t], r + 1);
+                save(&name, set);
+                writeln!(
+                    csv,
+                    "{},seq{s},{},files/truth{s}.csv,files/{name}",
+                    NAMES[t],
+                    r + 1
+                )
+                .unwrap();
+                entries.push(serde_json::json!({
+                    "tracker": NAMES[t],
+                    "sequence": format!("seq{s}"),
+                    "run": r + 1,
+                    "truth": format!("files/truth{s}.csv"),
+                    "estimate": format!("files/{name}"),
+                }));
+            }
+        }
+    }
+    if json {
+        let path = dir.join("manifest.json");
+        std::fs::write(&path, serde_json::to_string_pretty(&entries).unwrap()).unwrap();
+        path
+    } else {
+        let path = dir.join("manifest.csv");
+        std::fs::write(&path, csv).unwrap();
+        path
+    }
+}
+
+fn compare_args<'a>(truth: &'a str, estimates: &'a [String], rest: &[&'a str]) -> Vec<&'a str> {
+    let mut args = vec!["compare", "--truth", truth];
+    for e in estimates {
+        args.push("--estimate");
+        args.push(e);
+    }
+    args.extend_from_slice(rest);
+    args
+}
+
+#[test]
+fn manifest_and_group_columns_give_the_same_numbers() {
+    let dir = tempfile::tempdir().unwrap();
+    let data = scenes(3, 2);
+    let (truth, estimates) = write_grouped(dir.path(), &data);
+    let csv_manifest = write_manifest(dir.path(), &data, false);
+    let json_manifest = write_manifest(dir.path(), &data, true);
+    for rest in [
+        &["--cutoff", "10", "--format", "csv"][..],
+        &["--cutoff", "10", "--per-sequence", "--format", "csv"][..],
+        &["--cutoff", "10", "--monte-carlo", "--format", "csv"][..],
+    ] {
+        let by_columns = run_ok(&compare_args(&truth, &estimates, rest));
+        for manifest in [&csv_manifest, &json_manifest] {
+            let mut args = vec!["compare", "--manifest", manifest.to_str().unwrap()];
+            args.extend_from_slice(rest);
+            let by_manifest = run_ok(&args);
+            assert_eq!(
+                String::from_utf8_lossy(&by_columns),
+                String::from_utf8_lossy(&by_manifest),
+                "{rest:?} with {}",
+                manifest.display()
+            );
+        }
+        // 3 sequences x 2 runs x 2 trackers: the ranking has 2 rows, the per-sequence table 6.
+        let lines = String::from_utf8_lossy(&by_columns).lines().count();
+        match rest[2] {
+            "--per-sequence" => assert_eq!(lines, 1 + 6),
+            "--format" => assert_eq!(lines, 1 + 2),
+            // Per-step rows: 2 trackers x 3 sequences x 40 steps.
+            _ => assert_eq!(lines, 1 + 2 * 3 * 40),
+        }
+    }
+}
+
+#[test]
+fn output_does_not_depend_on_the_thread_count() {
+    let dir = tempfile::tempdir().unwrap();
+    let data = scenes(4, 3);
+    let (truth, estimates) = write_grouped(dir.path(), &data);
+    let rest = [
+        "--cutoff",
+        "5,10",
+        "--per-sequence",
+        "--monte-carlo",
+        "--bootstrap-resamples",
+        "2000",
+        "--format",
+        "json",
+    ];
+    let args = compare_args(&truth, &estimates, &rest);
+    let outputs: Vec<Vec<u8>> = ["1", "2", "3"]
+        .iter()
+        .map(|threads| {
+            let output = switchyard()
+                .env("RAYON_NUM_THREADS", threads)
+                .args(&args)
+                .output()
+                .unwrap();
+            assert!(output.status.success());
+            output.stdout
+        })
+        .collect();
+    assert!(!outputs[0].is_empty());
+    assert_eq!(outputs[0], outputs[1], "1 thread vs 2");
+    assert_eq!(outputs[0], outputs[2], "1 thread vs 3");
+}
+
+#[test]
+fn identical_trackers_tie_and_a_perfect_tracker_is_clearly_better() {
+    let dir = tempfile::tempdir().unwrap();
+    let data = scenes(12, 1);
+    let (truth, mut estimates) = write_grouped(dir.path(), &data);
+    // A copy of "mixed" under another name, and a perfect tracker (the truth itself).
+    let mixed_file = estimates[0].split_once('=').unwrap().1.to_string();
+    estimates.push(format!("twin={mixed_file}"));
+    let mut perfect = String::from("sequence,run,time,id,x,y\n");
+    for (s, set) in data.truths.iter().enumerate() {
+        grouped_rows(&mut perfect, &[&format!("seq{s}"), "1"], set);
+    }
+    estimates.push(format!(
+        "perfect={}",
+        write(dir.path(), "perfect.csv", &perfect)
+    ));
+    let document = json(&compare_args(
+        &truth,
+        &estimates,
+        &["--cutoff", "10", "--format", "json"],
+    ));
+    let trackers = document["settings"][0]["trackers"].as_array().unwrap();
+    let find = |name: &str| trackers.iter().find(|t| t["tracker"] == name).unwrap();
+    // The perfect tracker scores d = 0 everywhere and ranks first alone.
+    assert_eq!(trackers[0]["tracker"], "perfect");
+    close(&trackers[0]["metric_mean"], 0.0);
+    // mixed and its twin: the same numbers and one shared rank. Each is compared with the
+    // perfect tracker and is clearly worse: every difference is positive, so the whole
+    // interval is.
+    let (mixed, twin) = (find("mixed"), find("twin"));
+    assert_eq!(mixed["rank"], twin["rank"]);
+    assert_eq!(mixed["metric_mean"], twin["metric_mean"]);
+    for t in [mixed, twin] {
+        let difference = &t["difference"];
+        assert!(difference["lower"].as_f64().unwrap() > 0.0);
+        assert_eq!(difference["verdict"], "worse");
+    }
+    // mixed and its twin alone: they tie at rank 1; the twin's differences are all 0, so its
+    // interval is [0, 0], which contains 0, and the plain statement says the data cannot tell
+    // them apart.
+    let estimates = vec![estimates[0].clone(), format!("twin={mixed_file}")];
+    let document = json(&compare_args(
+        &truth,
+        &estimates,
+        &["--cutoff", "10", "--format", "json"],
+    ));
+    let twin = document["settings"][0]["trackers"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|t| t["tracker"] == "twin")
+        .unwrap()
+        .clone();
+    assert_eq!(twin["rank"], 1);
+    close(&twin["difference"]["lower"], 0.0);
+    close(&twin["difference"]["upper"], 0.0);
+    assert_eq!(twin["difference"]["verdict"], "indistinguishable");
+    let text = String::from_utf8(run_ok(&compare_args(
+        &truth,
+        &estimates,
+        &["--cutoff", "10"],
+    )))
+    .unwrap();
+    assert!(
+        text.contains("The data cannot tell twin and mixed apart"),
+        "{text}"
+    );
+}
+
+#[test]
+fn sweep_on_the_demo_data_matches_score_at_every_setting() {
+    let demo = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
+    let truth = demo.join("truth.csv");
+    let swaps = demo.join("tracker-swaps.csv");
+    let fragments = demo.join("tracker-fragments.csv");
+    let (truth, swaps, fragments) = (
+        truth.to_str().unwrap(),
+        swaps.to_str().unwrap(),
+        fragments.to_str().unwrap(),
+    );
+    let document = json(&[
+        "compare",
+        "--truth",
+        truth,
+        "--estimate",
+        &format!("swaps={swaps}"),
+        "--estimate",
+        &format!("fragments={fragments}"),
+        "--cutoff",
+        "10,20",
+        "--switch-penalty",
+        "5,40",
+        "--format",
+        "json",
+    ]);
+    let settings = document["settings"].as_array().unwrap();
+    let grid: Vec<(f64, f64)> = settings
+        .iter()
+        .map(|s| {
+            (
+                s["cutoff"].as_f64().unwrap(),
+                s["switch_penalty"].as_f64().unwrap(),
+            )
+        })
+        .collect();
+    assert_eq!(grid, [(10.0, 5.0), (10.0, 40.0), (20.0, 5.0), (20.0, 40.0)]);
+    let mut rankings = Vec::new();
+    for setting in settings {
+        let (c, g) = (
+            setting["cutoff"].to_string(),
+            setting["switch_penalty"].to_string(),
+        );
+        for t in setting["trackers"].as_array().unwrap() {
+            let file = if t["tracker"] == "swaps" {
+                swaps
+            } else {
+                fragments
+            };
+            // The same evaluation through `score`: one case, so the mean is the score itself.
+            let score = json(&[
+                "score",
+                "--truth",
+                truth,
+                "--estimate",
+                file,
+                "--cutoff",
+                &c,
+                "--switch-penalty",
+                &g,
+                "--format",
+                "json",
+            ]);
+            assert_eq!(
+                t["metric_mean"], score["metric"],
+                "{c} {g} {}",
+                t["tracker"]
+            );
+            assert_eq!(t["switching"], score["switching"]);
+            assert_eq!(t["switch_count"], score["switch_count"]);
+            // One sequence with one run: no interval.
+            if !t["difference"].is_null() {
+                assert_eq!(t["difference"]["verdict"], "undetermined");
+                assert!(t["difference"]["lower"].is_null());
+            }
+        }
+        rankings.push(setting["ranking"].as_str().unwrap().to_string());
+    }
+    let stable = rankings.iter().all(|r| *r == rankings[0]);
+    assert_eq!(document["ranking_stable"], stable);
+    // The demo's tracker A (swaps) keeps whole tracks; B breaks them and adds false tracks:
+    // B costs more at every one of these settings (demo-data/README.md).
+    assert!(
+        rankings.iter().all(|r| r == "swaps < fragments"),
+        "{rankings:?}"
+    );
+}
+
+#[test]
+fn bad_input_names_file_line_and_column() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = write(dir.path(), "t.csv", "sequence,time,id,x,y\ns1,0,a,0,0\n");
+    let bad = write(
+        dir.path(),
+        "e.csv",
+        "sequence,time,id,x,y\ns1,0,p,0,0\n,1,p,0,0\n",
+    );
+    let unknown = write(
+        dir.path(),
+        "u.csv",
+        "sequence,time,id,x,y\ns1,0,p,0,0\ns9,0,p,0,0\n",
+    );
+    let output = switchyard()
+        .args([
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &bad,
+            "--cutoff",
+            "5",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(1));
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert!(
+        stderr.contains("e.csv, line 3, column 1 (\"sequence\"): the group value is empty"),
+        "{stderr}"
+    );
+    let output = switchyard()
+        .args([
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &unknown,
+            "--cutoff",
+            "5",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(1));
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert!(
+        stderr.contains("u.csv, line 3: sequence \"s9\" is not in the truth"),
+        "{stderr}"
+    );
+    // A manifest in which a tracker lacks a case.
+    let manifest = write(
+        dir.path(),
+        "m.csv",
+        "tracker,sequence,truth,estimate\nA,s1,t.csv,e.csv\nA,s2,t.csv,e.csv\nB,s1,t.csv,e.csv\n",
+    );
+    let output = switchyard()
+        .args(["compare", "--manifest", &manifest, "--cutoff", "5"])
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(1));
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert!(
+        stderr.contains("tracker \"B\" has no entry for sequence \"s2\" (line 3 lists it)"),
+        "{stderr}"
+    );
+    // Two trackers with one name, and csv asked for two tables.
+    let output = switchyard()
+        .args([
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &format!("A={bad}"),
+            "--estimate",
+            &format!("A={unknown}"),
+            "--cutoff",
+            "5",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(1));
+    let output = switchyard()
+        .args([
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &unknown,
+            "--cutoff",
+            "5",
+            "--per-sequence",
+            "--monte-carlo",
+            "--format",
+            "csv",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(1));
+}

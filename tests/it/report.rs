@@ -1,0 +1,663 @@
+//! The HTML report (`switchyard report`, `switchyard::report::html`).
+//!
+//! Structure: the page is parsed as XML by roxmltree (an independent parser; the page is
+//! written to be well-formed XML as well as HTML) and its marks are counted against a small
+//! hand-built scene whose switches and ranking follow from the metric's definition by hand
+//! arithmetic, written next to the assertions. Rendering: headless Chromium (Debian's
+//! `chromium`) draws the demo report; its screenshot is decoded by the `png` crate, and its
+//! own HTML parser's DOM is compared with the XML parser's view.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command as Process, Stdio};
+use std::time::{Duration, Instant};
+
+use assert_cmd::Command;
+use roxmltree::{Document, Node, ParsingOptions};
+use switchyard::distance::Distance;
+use switchyard::report::html::{render, Limits, Report, TrackerResults};
+use switchyard::trajectory::{Step, Trajectory, TrajectorySet};
+use switchyard::trajectory_metric::{SolveOptions, TrajectoryParams};
+
+/// A two-dimensional trajectory: `(step, x, y)` points.
+fn path(id: &str, points: &[(Step, f64, f64)]) -> Trajectory {
+    Trajectory::new(
+        id,
+        2,
+        points.iter().map(|&(t, x, y)| (t, vec![x, y])).collect(),
+    )
+    .unwrap()
+}
+
+/// A straight run along y = `y` from step `first` to `last`, x = step.
+fn run(first: Step, last: Step, y: f64) -> Vec<(Step, f64, f64)> {
+    (first..=last).map(|t| (t, t as f64, y)).collect()
+}
+
+/// The hand-built scene. Cut-off c = 2, order p = 1, switching penalty gamma = 2, euclidean.
+///
+/// Truths over steps 0..=9: `A` along y = 0, `B` along y = 10, `C` along y = 20 for steps
+/// 0..=4, `D<&>"` (an id that needs escaping) along y = 30 for all steps.
+/// Tracks: `p` on A for 0..=4 then on B for 5..=9; `q` on B then on A (a swap at step 5); `r`
+/// on C for 0..=1, nothing at step 2, `s` on C for 3..=4; `u` on D throughout, 0.5 away.
+///
+/// By hand, from the definition of trajectory GOSPA (c^p / 2 = 1 per missed or false
+/// object-step, gamma^p = 2 per full switch): keeping A on p after step 5 would cost a missed A
+/// and a false p at each of 5 steps (10) against one switch (2), so A passes p -> q at step 5
+/// and B passes q -> p at step 5. C: keeping r leaves C missed and s false at steps 3 and 4
+/// (4) against one switch (2) plus the unavoidable miss at step 2; so C passes r -> s, reported
+/// at step 3 where s takes over. Three full switches; C also has one missed step.
+fn scene() -> (TrajectorySet, TrajectorySet) {
+    let truth = TrajectorySet::new(
+        2,
+        vec![
+            path("A", &run(0, 9, 0.0)),
+            path("B", &run(0, 9, 10.0)),
+            path("C", &run(0, 4, 20.0)),
+            path("D<&>\"", &run(0, 9, 30.0)),
+        ],
+    )
+    .unwrap();
+    let mut p = run(0, 4, 0.3);
+    p.extend(run(5, 9, 10.3));
+    let mut q = run(0, 4, 10.3);
+    q.extend(run(5, 9, 0.3));
+    let estimate = TrajectorySet::new(
+        2,
+        vec![
+            path("p", &p),
+            path("q", &q),
+            path("r", &run(0, 1, 20.3)),
+            path("s", &run(3, 4, 20.3)),
+            path("u", &run(0, 9, 30.5)),
+        ],
+    )
+    .unwrap();
+    (truth, estimate)
+}
+
+fn report_of(trackers: Vec<(&str, TrajectorySet)>, truth: TrajectorySet) -> Report {
+    let params = TrajectoryParams::new(2.0, 1.0, 2.0).unwrap();
+    let trackers = trackers
+        .into_iter()
+        .map(|(name, estimate)| {
+            TrackerResults::compute(
+                name,
+                format!("{name}.csv"),
+                &truth,
+                estimate,
+                &params,
+                &Distance::default(),
+                &SolveOptions::default(),
+            )
+            .unwrap()
+        })
+        .collect();
+    Report {
+        title: "Hand-built scene".to_string(),
+        truth,
+        truth_source: "truth.csv".to_string(),
+        state_columns: vec!["x".to_string(), "y".to_string()],
+        units: Some("m".to_string()),
+        distance: "euclidean".to_string(),
+        engine: "microlp".to_string(),
+        trackers,
+    }
+}
+
+/// Parses the page as XML; the `<!DOCTYPE html>` line is a DTD to roxmltree, so allow it.
+fn parse(html: &str) -> Document<'_> {
+    let options = ParsingOptions {
+        allow_dtd: true,
+        ..ParsingOptions::default()
+    };
+    Document::parse_with_options(html, options).expect("the page is well-formed XML")
+}
+
+fn has_class(node: &Node, class: &str) -> bool {
+    node.attribute("class")
+        .is_some_and(|c| c.split_whitespace().any(|word| word == class))
+}
+
+fn with_class<'a, 'input>(root: Node<'a, 'input>, class: &str) -> Vec<Node<'a, 'input>> {
+    root.descendants().filter(|n| has_class(n, class)).collect()
+}
+
+fn one_with_class<'a, 'input>(root: Node<'a, 'input>, class: &str) -> Node<'a, 'input> {
+    let found = with_class(root, class);
+    assert_eq!(found.len(), 1, "expected one element of class {class}");
+    found[0]
+}
+
+/// The text of a node's `<title>` child (an SVG tooltip).
+fn title_of(node: &Node) -> String {
+    node.children()
+        .find(|c| c.has_tag_name("title"))
+        .and_then(|t| t.text())
+        .unwrap_or_default()
+        .to_string()
+}
+
+fn events(root: Node) -> usize {
+    with_class(root, "switch-mark")
+        .iter()
+        .map(|m| {
+            m.attribute("data-events")
+                .unwrap()
+                .parse::<usize>()
+                .unwrap()
+        })
+        .sum()
+}
+
+#[test]
+fn page_has_one_switch_mark_per_switch_and_one_row_per_truth_worst_first() {
+    let (truth, estimate) = scene();
+    let report = report_of(vec![("alpha", estimate)], truth);
+    let html = render(&report, &Limits::default());
+    // Well-formed XML, checked by an independent parser.
+    let doc = parse(&html);
+    let root = doc.root_element();
+    assert!(root.has_tag_name("html"));
+
+    // Switches by hand (see `scene`): (step, truth) = (5, A), (5, B), (3, C), all full.
+    let mut expected = vec![
+        (3, "C".to_string()),
+        (5, "A".to_string()),
+        (5, "B".to_string()),
+    ];
+    expected.sort();
+    for chart in ["errors-chart", "identity-chart", "top-view"] {
+        let svg = one_with_class(root, chart);
+        let marks = with_class(svg, "switch-mark");
+        assert_eq!(marks.len(), 3, "{chart}: one mark per switch");
+        assert!(marks
+            .iter()
+            .all(|m| m.attribute("data-events") == Some("1")));
+        for mark in &marks {
+            let title = title_of(mark);
+            assert!(title.contains("full switch"), "{chart}: {title}");
+        }
+        if chart != "top-view" {
+            let mut seen: Vec<(i64, String)> = marks
+                .iter()
+                .map(|m| {
+                    (
+                        m.attribute("data-step").unwrap().parse().unwrap(),
+                        m.attribute("data-truth").unwrap().to_string(),
+                    )
+                })
+                .collect();
+            seen.sort();
+            assert_eq!(seen, expected, "{chart}");
+        }
+    }
+    // The swap's tooltips name object, both tracks and the step.
+    let identity = one_with_class(root, "identity-chart");
+    let titles: Vec<String> = with_class(identity, "switch-mark")
+        .iter()
+        .map(title_of)
+        .collect();
+    assert!(titles
+        .iter()
+        .any(|t| t.starts_with("A: step 5, track p → q")));
+    assert!(titles
+        .iter()
+        .any(|t| t.starts_with("B: step 5, track q → p")));
+    assert!(titles
+        .iter()
+        .any(|t| t.starts_with("C: step 3, track r → s")));
+
+    // One row per truth, worst first. By the audit's rule (most switches, then the longest
+    // missed run, then input order): A, B and C have one switch each, C also a missed run of 1
+    // step, D none: C, A, B, D.
+    let rows = with_class(identity, "identity-row");
+    let order: Vec<&str> = rows
+        .iter()
+        .map(|r| r.attribute("data-truth").unwrap())
+        .collect();
+    assert_eq!(order, ["C", "A", "B", "D<&>\""]);
+    let ranks: Vec<&str> = rows
+        .iter()
+        .map(|r| r.attribute("data-rank").unwrap())
+        .collect();
+    assert_eq!(ranks, ["1", "2", "3", "4"]);
+
+    // Covered spans, by hand: A p 0-4, q 5-9; B q 0-4, p 5-9; C r 0-1, s 3-4; D u 0-9.
+    let mut covered: Vec<String> = with_class(identity, "covered")
+        .iter()
+        .map(title_of)
+        .collect();
+    covered.sort();
+    let mut wanted = [
+        "A covered by track p, steps 0–4",
+        "A covered by track q, steps 5–9",
+        "B covered by track p, steps 5–9",
+        "B covered by track q, steps 0–4",
+        "C covered by track r, steps 0–1",
+        "C covered by track s, steps 3–4",
+        "D<&>\" covered by track u, steps 0–9",
+    ];
+    wanted.sort();
+    assert_eq!(covered.len(), wanted.len());
+    for (title, prefix) in covered.iter().zip(wanted) {
+        assert!(
+            title.starts_with(prefix),
+            "{title:?} should start {prefix:?}"
+        );
+    }
+    // C was missed at step 2 only.
+    let missed: Vec<String> = with_class(identity, "missed")
+        .iter()
+        .map(title_of)
+        .collect();
+    assert_eq!(missed, ["C missed, step 2 (1 present step)"]);
+
+    // The top view draws every true path and every track.
+    let top = one_with_class(root, "top-view");
+    assert_eq!(with_class(top, "truth-path").len(), 4);
+    assert_eq!(with_class(top, "track").len(), 5);
+    // Notes appear only for what was thinned; nothing is thinned here.
+    assert!(with_class(root, "note").is_empty());
+}
+
+#[test]
+fn page_is_self_contained() {
+    let (truth, estimate) = scene();
+    let html = render(
+        &report_of(vec![("alpha", estimate)], truth),
+        &Limits::default(),
+    );
+    let doc = parse(&html);
+    let lower = html.to_lowercase();
+    // No network: no URL scheme, no protocol-relative reference, no external resource tags.
+    for forbidden in [
+        "http:", "https:", "ftp:", "//", "<script", "<link", "<img", "<iframe", "@import",
+    ] {
+        assert!(
+            !lower.contains(forbidden),
+            "the page contains {forbidden:?}"
+        );
+    }
+    for node in doc.descendants() {
+        assert!(
+            node.attribute("src").is_none(),
+            "src= on <{}>",
+            node.tag_name().name()
+        );
+        for attribute in ["href", "xlink:href"] {
+            if let Some(target) = node.attribute(attribute) {
+                assert!(
+                    target.starts_with('#'),
+                    "{attribute}={target:?} is not in the page"
+                );
+            }
+        }
+    }
+    // Every url(...) points inside the page.
+    for (index, _) in lower.match_indices("url(") {
+        assert_eq!(
+            &lower[index + 4..index + 5],
+            "#",
+            "external url() at byte {index}"
+        );
+    }
+    // Every internal reference resolves.
+    let ids: Vec<&str> = doc
+        .descendants()
+        .filter_map(|n| n.attribute("id"))
+        .collect();
+    for (index, _) in html.match_indices("url(#") {
+        let rest = &html[index + 5..];
+        let id = &rest[..rest.find(')').unwrap()];
+        assert!(ids.contains(&id), "url(#{id}) has no target");
+    }
+    // A print stylesheet.
+    assert!(html.contains("@media print"));
+}
+
+#[test]
+fn several_trackers_sit_side_by_side_and_bytes_repeat() {
+    let (truth, estimate) = scene();
+    let (_, second) = scene();
+    // The second tracker lacks track `s` (so C is also missed at steps 3 and 4).
+    let second = TrajectorySet::new(
+        2,
+        second
+            .trajectories()
+            .iter()
+            .filter(|t| t.id() != "s")
+            .cloned()
+            .collect(),
+    )
+    .unwrap();
+    let report = report_of(vec![("alpha", estimate), ("beta", second)], truth);
+    let html = render(&report, &Limits::default());
+    assert_eq!(
+        html,
+        render(&report, &Limits::default()),
+        "same input, same bytes"
+    );
+    let doc = parse(&html);
+    let table = one_with_class(doc.root_element(), "summary");
+    let header: Vec<String> = table
+        .descendants()
+        .find(|n| n.has_tag_name("thead"))
+        .unwrap()
+        .descendants()
+        .filter(|n| n.has_tag_name("th"))
+        .map(|th| {
+            th.descendants()
+                .filter(|t| t.is_text())
+                .filter_map(|t| t.text())
+                .collect::<String>()
+        })
+        .collect();
+    assert_eq!(header, ["", "alpha", "beta"]);
+    // Each tracker has its own three charts.
+    let sections = with_class(doc.root_element(), "tracker");
+    assert_eq!(sections.len(), 2);
+    for section in sections {
+        for chart in ["errors-chart", "identity-chart", "top-view"] {
+            one_with_class(section, chart);
+        }
+    }
+    // beta, by hand: C keeps r after step 1. A pair whose two members are both absent costs
+    // nothing and an unchanged pairing costs no switch, so C's only cost is a missed object at
+    // steps 2, 3 and 4; its one change would cost gamma^p / 2 = 1 for nothing. So beta has the
+    // swap's two switches only, and its rows rank A, B (one switch each), then C (no switch, a
+    // missed run of 3), then D.
+    let beta = with_class(doc.root_element(), "tracker")[1];
+    let identity = one_with_class(beta, "identity-chart");
+    let marked: Vec<&str> = with_class(identity, "switch-mark")
+        .iter()
+        .map(|m| m.attribute("data-truth").unwrap())
+        .collect();
+    assert_eq!(marked, ["A", "B"]);
+    let rows: Vec<&str> = with_class(identity, "identity-row")
+        .iter()
+        .map(|r| r.attribute("data-truth").unwrap())
+        .collect();
+    assert_eq!(rows, ["A", "B", "C", "D<&>\""]);
+    let missed: Vec<String> = with_class(identity, "missed")
+        .iter()
+        .map(title_of)
+        .collect();
+    assert_eq!(missed, ["C missed, steps 2–4 (3 present steps)"]);
+}
+
+#[test]
+fn large_scenes_are_thinned_and_the_page_says_so() {
+    let (truth, estimate) = scene();
+    let report = report_of(vec![("alpha", estimate)], truth);
+    let limits = Limits {
+        max_time_bins: 4,
+        max_identity_rows: 2,
+        max_top_points: 20,
+        max_switch_marks: 2,
+        max_path_labels: 1,
+    };
+    let html = render(&report, &limits);
+    let doc = parse(&html);
+    let root = doc.root_element();
+    let notes: Vec<String> = with_class(root, "note")
+        .iter()
+        .map(|n| {
+            n.descendants()
+                .filter(|t| t.is_text())
+                .filter_map(|t| t.text())
+                .collect()
+        })
+        .collect();
+    let said = |words: &str| notes.iter().any(|n| n.contains(words));
+    // 10 steps in at most 4 bins: bins of ceil(10 / 4) = 3 steps.
+    assert!(said("grouped in bins of 3 steps"), "{notes:?}");
+    assert!(said("it shows the 2 worst covered"), "{notes:?}");
+    // 69 points (35 true, 34 estimated) over a limit of 20: every 4th step is drawn.
+    assert!(said("it draws every 4th step"), "{notes:?}");
+    assert!(said("too many to label"), "{notes:?}");
+    // Three switches over a limit of 2: grouped marks that still count all three.
+    let errors = one_with_class(root, "errors-chart");
+    assert!(with_class(errors, "switch-mark").len() < 3);
+    assert_eq!(events(errors), 3);
+    let top = one_with_class(root, "top-view");
+    assert_eq!(events(top), 3);
+    // Rows: the two worst only, still worst first.
+    let identity = one_with_class(root, "identity-chart");
+    let rows: Vec<&str> = with_class(identity, "identity-row")
+        .iter()
+        .map(|r| r.attribute("data-truth").unwrap())
+        .collect();
+    assert_eq!(rows, ["C", "A"]);
+    // The errors chart draws one column per bin: 4 bins of 3, 3, 3 and 1 steps, so each part's
+    // outline has 4 horizontal runs on top.
+    let total = with_class(errors, "total")[0].attribute("d").unwrap();
+    assert_eq!(total.matches('H').count(), 4);
+}
+
+fn demo(name: &str) -> String {
+    format!("{}/demo-data/{name}", env!("CARGO_MANIFEST_DIR"))
+}
+
+fn demo_report(out: &Path) {
+    let output = Command::cargo_bin("switchyard")
+        .unwrap()
+        .args([
+            "report",
+            "--truth",
+            &demo("truth.csv"),
+            "--estimate",
+            &format!("swaps={}", demo("tracker-swaps.csv")),
+            "--estimate",
+            &format!("fragments={}", demo("tracker-fragments.csv")),
+            "--cutoff",
+            "20",
+            "--units",
+            "m",
+            "--title",
+            "Harbour radar, two trackers",
+            "--out",
+        ])
+        .arg(out)
+        .output()
+        .unwrap();
+    assert!(
+        output.status.success(),
+        "report failed: {}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+}
+
+#[test]
+fn report_command_writes_the_page_and_refuses_bad_input() {
+    let dir = tempfile::tempdir().unwrap();
+    let page = dir.path().join("report.html");
+    demo_report(&page);
+    let html = std::fs::read_to_string(&page).unwrap();
+    let doc = parse(&html);
+    // The swapping tracker's 12 switches (as `switchyard switches` lists them, see cli.rs)
+    // appear once in each of its three charts.
+    let swaps = with_class(doc.root_element(), "tracker")[0];
+    assert_eq!(swaps.attribute("data-tracker"), Some("swaps"));
+    for chart in ["errors-chart", "identity-chart", "top-view"] {
+        assert_eq!(
+            with_class(one_with_class(swaps, chart), "switch-mark").len(),
+            12
+        );
+    }
+    // 28 boats, one row each.
+    assert_eq!(
+        with_class(one_with_class(swaps, "identity-chart"), "identity-row").len(),
+        28
+    );
+    // Same bytes again.
+    let again = dir.path().join("again.html");
+    demo_report(&again);
+    assert_eq!(
+        std::fs::read(&page).unwrap(),
+        std::fs::read(&again).unwrap()
+    );
+
+    // Two trackers with one name: a clear error, exit code 1, no file.
+    let truth = demo("truth.csv");
+    let swaps_file = demo("tracker-swaps.csv");
+    let bad = dir.path().join("bad.html");
+    let output = Command::cargo_bin("switchyard")
+        .unwrap()
+        .args(["report", "--truth", &truth, "--estimate", &swaps_file])
+        .args(["--estimate", &swaps_file, "-c", "20", "--out"])
+        .arg(&bad)
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&output.stderr).contains("two trackers are named"));
+    assert!(!bad.exists());
+    // A missing file: exit code 1 and its name in the message.
+    let output = Command::cargo_bin("switchyard")
+        .unwrap()
+        .args([
+            "report",
+            "--truth",
+            &truth,
+            "--estimate",
+            "nowhere.csv",
+            "-c",
+            "20",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&output.stderr).contains("nowhere.csv"));
+    // No estimate at all: a command line that does not parse, exit code 2.
+    let output = Command::cargo_bin("switchyard")
+        .unwrap()
+        .args(["report", "--truth", &truth, "-c", "20"])
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(2));
+}
+
+/// Debian's Chromium, if installed.
+fn chromium() -> Option<PathBuf> {
+    let paths = std::env::var_os("PATH")?;
+    std::env::split_paths(&paths)
+        .map(|dir| dir.join("chromium"))
+        .find(|candidate| candidate.is_file())
+}
+
+/// Runs Chromium headless with networking features off; returns its standard output. A run
+/// that has not ended after a generous while is stopped so that a broken browser cannot hang
+/// the suite (nothing here measures speed).
+fn run_chromium(binary: &Path, profile: &Path, args: &[String]) -> Vec<u8> {
+    let mut child = Process::new(binary)
+        .args([
+            "--headless",
+            "--no-sandbox",
+            "--disable-gpu",
+            "--disable-quic",
+            "--no-first-run",
+            "--disable-background-networking",
+            "--disable-component-update",
+            "--disable-sync",
+            "--disable-extensions",
+            "--hide-scrollbars",
+        ])
+        .arg(format!("--user-data-dir={}", profile.display()))
+        .args(args)
+        .stdin(Stdio::null())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::null())
+        .spawn()
+        .expect("chromium starts");
+    let stdout = child.stdout.take().unwrap();
+    let reader = std::thread::spawn(move || {
+        let mut stdout = stdout;
+        let mut bytes = Vec::new();
+        std::io::Read::read_to_end(&mut stdout, &mut bytes).unwrap();
+        bytes
+    });
+    let started = Instant::now();
+    loop {
+        if let Some(status) = child.try_wait().unwrap() {
+            assert!(status.success(), "chromium failed: {status}");
+            break;
+        }
+        if started.elapsed() > Duration::from_secs(300) {
+            let _ = child.kill();
+            panic!("chromium did not finish");
+        }
+        std::thread::sleep(Duration::from_millis(100));
+    }
+    reader.join().unwrap()
+}
+
+#[test]
+fn demo_report_renders_in_headless_chromium() {
+    let Some(binary) = chromium() else {
+        if std::env::var_os("CI").is_some() {
+            panic!("chromium is not installed; CI must install Debian's chromium package");
+        }
+        eprintln!("note: chromium is not installed; the browser test is skipped");
+        return;
+    };
+    let dir = tempfile::tempdir().unwrap();
+    let page = dir.path().join("report.html");
+    demo_report(&page);
+    let url = format!("file://{}", page.display());
+    let png_path = dir.path().join("report.png");
+    run_chromium(
+        &binary,
+        &dir.path().join("profile-shot"),
+        &[
+            format!("--screenshot={}", png_path.display()),
+            "--window-size=1280,2000".to_string(),
+            url.clone(),
+        ],
+    );
+    // The screenshot has the window's size and is not blank (decoded by the png crate).
+    let decoder = png::Decoder::new(std::io::BufReader::new(
+        std::fs::File::open(&png_path).unwrap(),
+    ));
+    let mut reader = decoder.read_info().unwrap();
+    let mut pixels = vec![0; reader.output_buffer_size().unwrap()];
+    let info = reader.next_frame(&mut pixels).unwrap();
+    assert_eq!((info.width, info.height), (1280, 2000));
+    let channels = info.color_type.samples();
+    assert!(channels >= 3, "{:?}", info.color_type);
+    let mut colours = std::collections::HashSet::new();
+    let (mut ink, mut blue) = (0usize, 0usize);
+    for pixel in pixels[..info.buffer_size()].chunks(channels) {
+        let (r, g, b) = (pixel[0], pixel[1], pixel[2]);
+        colours.insert((r, g, b));
+        if (r, g, b) != (255, 255, 255) {
+            ink += 1;
+        }
+        // The localisation part's blue, #0072B2 (Okabe & Ito), fills the summary's bars.
+        if r < 20 && (100..=125).contains(&g) && (165..=190).contains(&b) {
+            blue += 1;
+        }
+    }
+    let total = (info.width * info.height) as usize;
+    assert!(
+        ink * 20 > total,
+        "only {ink} of {total} pixels are not white"
+    );
+    assert!(colours.len() > 100, "only {} colours", colours.len());
+    assert!(blue > 1000, "only {blue} pixels of the localisation blue");
+
+    // Chromium's own HTML parser sees the same marks as the XML parser.
+    let dom = run_chromium(
+        &binary,
+        &dir.path().join("profile-dom"),
+        &["--dump-dom".to_string(), url],
+    );
+    let dom = String::from_utf8(dom).unwrap();
+    let html = std::fs::read_to_string(&page).unwrap();
+    let doc = parse(&html);
+    let marks = with_class(doc.root_element(), "switch-mark").len();
+    let rows = with_class(doc.root_element(), "identity-row").len();
+    // swaps: 12 switches, fragments: 62 (as `switchyard switches` lists them), in 3 charts each.
+    assert_eq!(marks, 3 * (12 + 62));
+    assert_eq!(rows, 2 * 28);
+    assert_eq!(dom.matches("class=\"switch-mark\"").count(), marks);
+    assert_eq!(dom.matches("class=\"identity-row\"").count(), rows);
+}
