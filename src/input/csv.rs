@@ -3,8 +3,9 @@
 //! Columns are found by name; others are ignored. By default the time column is `time`, the id
 //! column `id` and the state columns `x,y` (and `z` when the header has it). Integer times are
 //! step indices; decimal timestamps need a step size, and then step = round(t / step size).
-//! Fields are trimmed of surrounding white space; quoted fields, CRLF line ends and a UTF-8
-//! byte-order mark are accepted. Rows of one id may come in any order. The reader streams:
+//! Fields are trimmed of surrounding white space; quoted fields, LF, CRLF and CR line ends and
+//! a UTF-8 byte-order mark are accepted, and messages give physical line numbers whatever the
+//! line ends ([`LineIndex`]). Rows of one id may come in any order. The reader streams:
 //! memory grows with the number of points kept, not with the size of the text, and one row may
 //! hold at most [`MAX_RECORD_BYTES`].
 

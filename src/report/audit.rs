@@ -4,8 +4,9 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{fixed, write_table, Exactness, InputInfo};
+use super::{fixed, write_run_header, write_table, Exactness, InputInfo};
 use crate::audit::{EstimateAudit, TruthAudit};
+use crate::trajectory::Step;
 use crate::trajectory_metric::TrajectoryParams;
 
 /// The `audit` JSON document.
@@ -49,90 +50,89 @@ pub fn write_csv<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::Re
         "mean_error",
     ])?;
     for t in document.truths {
-        let mut spans: Vec<[String; 9]> = Vec::new();
+        let rank = t.rank.to_string();
+        let row = SpanRow {
+            side: "truth",
+            object: &t.truth,
+            rank: &rank,
+        };
+        let mut spans: Vec<(Step, [String; 9])> = Vec::new();
         for s in &t.covered {
-            spans.push([
-                "truth".into(),
-                t.truth.clone(),
-                t.rank.to_string(),
-                "covered".into(),
-                s.first.to_string(),
-                s.last.to_string(),
-                s.steps.to_string(),
-                s.estimate.clone(),
-                s.mean_error.to_string(),
-            ]);
+            let error = s.mean_error.to_string();
+            spans.push(row.cells("covered", s.first, s.last, s.steps, &s.estimate, &error));
         }
         for s in &t.missed {
-            spans.push([
-                "truth".into(),
-                t.truth.clone(),
-                t.rank.to_string(),
-                "missed".into(),
-                s.first.to_string(),
-                s.last.to_string(),
-                s.steps.to_string(),
-                String::new(),
-                String::new(),
-            ]);
+            spans.push(row.cells("missed", s.first, s.last, s.steps, "", ""));
         }
-        spans.sort_by_key(|row| row[4].parse::<i64>().unwrap_or(0));
-        for row in spans {
-            writer.write_record(&row)?;
-        }
+        write_sorted(&mut writer, spans)?;
     }
     for e in document.estimates {
-        let mut spans: Vec<[String; 9]> = Vec::new();
+        let row = SpanRow {
+            side: "estimate",
+            object: &e.estimate,
+            rank: "",
+        };
+        let mut spans: Vec<(Step, [String; 9])> = Vec::new();
         for s in &e.following {
-            spans.push([
-                "estimate".into(),
-                e.estimate.clone(),
-                String::new(),
-                "following".into(),
-                s.first.to_string(),
-                s.last.to_string(),
-                s.steps.to_string(),
-                s.truth.clone(),
-                String::new(),
-            ]);
+            spans.push(row.cells("following", s.first, s.last, s.steps, &s.truth, ""));
         }
         for s in &e.false_spans {
-            spans.push([
-                "estimate".into(),
-                e.estimate.clone(),
-                String::new(),
-                "false".into(),
-                s.first.to_string(),
-                s.last.to_string(),
-                s.steps.to_string(),
-                String::new(),
-                String::new(),
-            ]);
+            spans.push(row.cells("false", s.first, s.last, s.steps, "", ""));
         }
-        spans.sort_by_key(|row| row[4].parse::<i64>().unwrap_or(0));
-        for row in spans {
-            writer.write_record(&row)?;
-        }
+        write_sorted(&mut writer, spans)?;
     }
     writer.flush()
 }
 
+/// The columns shared by every span of one object in the CSV output.
+struct SpanRow<'a> {
+    side: &'a str,
+    object: &'a str,
+    rank: &'a str,
+}
+
+impl SpanRow<'_> {
+    fn cells(
+        &self,
+        kind: &str,
+        first: Step,
+        last: Step,
+        steps: usize,
+        partner: &str,
+        error: &str,
+    ) -> (Step, [String; 9]) {
+        let cells = [
+            self.side,
+            self.object,
+            self.rank,
+            kind,
+            &first.to_string(),
+            &last.to_string(),
+            &steps.to_string(),
+            partner,
+            error,
+        ]
+        .map(str::to_string);
+        (first, cells)
+    }
+}
+
+/// Writes one object's spans in time order.
+fn write_sorted<W: Write>(
+    writer: &mut csv::Writer<W>,
+    mut spans: Vec<(Step, [String; 9])>,
+) -> std::io::Result<()> {
+    spans.sort_by_key(|(first, _)| *first);
+    for (_, row) in spans {
+        writer.write_record(&row)?;
+    }
+    Ok(())
+}
+
 /// Text: a ranked table of truths with their spans, then the estimates in brief.
 pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::Result<()> {
-    let p = document.params;
-    writeln!(
-        out,
-        "Coverage audit   cut-off c = {}   order p = {}   switching penalty gamma = {}   distance: {}",
-        p.cutoff, p.order, p.switch_penalty, document.inputs.distance
-    )?;
-    writeln!(
-        out,
-        "truth     {} ({} objects)\nestimate  {} ({} tracks)\n",
-        document.inputs.truth,
-        document.inputs.truth_objects,
-        document.inputs.estimate,
-        document.inputs.estimate_tracks
-    )?;
+    write_run_header(out, "Coverage audit", document.params, document.inputs)?;
+    writeln!(out)?;
     writeln!(
         out,
         "Truths, worst first (most switches, then longest missed span):"

@@ -26,6 +26,31 @@ pub struct InputInfo {
     pub distance: String,
 }
 
+/// Writes the opening lines of a trajectory-metric text output: the title with the parameters,
+/// then the two inputs.
+pub fn write_run_header<W: std::io::Write>(
+    out: &mut W,
+    title: &str,
+    params: &crate::trajectory_metric::TrajectoryParams,
+    inputs: &InputInfo,
+) -> std::io::Result<()> {
+    writeln!(
+        out,
+        "{title}   cut-off c = {}   order p = {}   switching penalty gamma = {}   distance: {}",
+        params.cutoff, params.order, params.switch_penalty, inputs.distance
+    )?;
+    writeln!(
+        out,
+        "truth     {} ({} objects)",
+        inputs.truth, inputs.truth_objects
+    )?;
+    writeln!(
+        out,
+        "estimate  {} ({} tracks)",
+        inputs.estimate, inputs.estimate_tracks
+    )
+}
+
 /// Formats a number for text tables: fixed decimals, no negative zero.
 pub fn fixed(value: f64, decimals: usize) -> String {
     let text = format!("{value:.decimals$}");

@@ -4,7 +4,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{fixed, Exactness, InputInfo};
+use super::{fixed, write_run_header, Exactness, InputInfo};
 use crate::switches::{JumpEvent, SwitchEvent};
 use crate::trajectory::Window;
 use crate::trajectory_metric::{SolveStats, TrajectoryParams, TrajectoryScore};
@@ -109,22 +109,7 @@ pub fn write_text<W: Write>(
     inputs: &InputInfo,
     engine: &str,
 ) -> std::io::Result<()> {
-    let p = &score.params;
-    writeln!(
-        out,
-        "Trajectory GOSPA   cut-off c = {}   order p = {}   switching penalty gamma = {}   distance: {}",
-        p.cutoff, p.order, p.switch_penalty, inputs.distance
-    )?;
-    writeln!(
-        out,
-        "truth     {} ({} objects)",
-        inputs.truth, inputs.truth_objects
-    )?;
-    writeln!(
-        out,
-        "estimate  {} ({} tracks)",
-        inputs.estimate, inputs.estimate_tracks
-    )?;
+    write_run_header(out, "Trajectory GOSPA", &score.params, inputs)?;
     match score.window {
         Some(w) => writeln!(
             out,

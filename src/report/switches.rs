@@ -4,8 +4,9 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{fixed, write_table, Exactness, InputInfo};
+use super::{fixed, write_run_header, write_table, Exactness, InputInfo};
 use crate::switches::{JumpEvent, SwitchEvent};
+use crate::trajectory::Step;
 use crate::trajectory_metric::TrajectoryParams;
 
 /// The `switches` JSON document.
@@ -48,33 +49,96 @@ pub fn write_csv<W: Write>(
     jumps: &[JumpEvent],
 ) -> std::io::Result<()> {
     let mut writer = csv::Writer::from_writer(&mut *out);
-    let rows = switches
-        .iter()
-        .map(|e| ("truth", e.time, &e.truth, &e.from, &e.to, e.weight, e.cost))
-        .chain(jumps.iter().map(|e| {
-            (
-                "estimate",
-                e.time,
-                &e.estimate,
-                &e.from,
-                &e.to,
-                e.weight,
-                e.cost,
-            )
-        }));
     writer.write_record(["side", "time", "object", "from", "to", "weight", "cost"])?;
-    for (side, time, object, from, to, weight, cost) in rows {
+    let (truth_rows, track_rows) = event_rows(switches, jumps);
+    for row in truth_rows.iter().chain(&track_rows) {
         writer.write_record([
-            side.to_string(),
-            time.to_string(),
-            object.clone(),
-            id(from).to_string(),
-            id(to).to_string(),
-            weight.to_string(),
-            cost.to_string(),
+            row.side.to_string(),
+            row.time.to_string(),
+            row.object.to_string(),
+            id(row.from).to_string(),
+            id(row.to).to_string(),
+            row.weight.to_string(),
+            row.cost.to_string(),
         ])?;
     }
     writer.flush()
+}
+
+/// One event as the writers show it, from either side.
+struct EventRow<'a> {
+    side: &'static str,
+    time: Step,
+    object: &'a str,
+    from: &'a Option<String>,
+    to: &'a Option<String>,
+    weight: f64,
+    cost: f64,
+}
+
+/// The truth-side and the track-side events as rows.
+fn event_rows<'a>(
+    switches: &'a [SwitchEvent],
+    jumps: &'a [JumpEvent],
+) -> (Vec<EventRow<'a>>, Vec<EventRow<'a>>) {
+    let truth_rows = switches
+        .iter()
+        .map(|e| EventRow {
+            side: "truth",
+            time: e.time,
+            object: &e.truth,
+            from: &e.from,
+            to: &e.to,
+            weight: e.weight,
+            cost: e.cost,
+        })
+        .collect();
+    let track_rows = jumps
+        .iter()
+        .map(|e| EventRow {
+            side: "estimate",
+            time: e.time,
+            object: &e.estimate,
+            from: &e.from,
+            to: &e.to,
+            weight: e.weight,
+            cost: e.cost,
+        })
+        .collect();
+    (truth_rows, track_rows)
+}
+
+/// One titled table of events, or "none".
+fn write_events<W: Write>(
+    out: &mut W,
+    title: &str,
+    object: &str,
+    rows: &[EventRow],
+) -> std::io::Result<()> {
+    writeln!(out, "{title} ({}):", rows.len())?;
+    if rows.is_empty() {
+        return writeln!(out, "  none");
+    }
+    let cells: Vec<Vec<String>> = rows
+        .iter()
+        .map(|e| {
+            vec![
+                e.time.to_string(),
+                e.object.to_string(),
+                label(e.from),
+                "->".to_string(),
+                label(e.to),
+                kind(e.from, e.to).to_string(),
+                fixed(e.weight, 3),
+                fixed(e.cost, 4),
+            ]
+        })
+        .collect();
+    write_table(
+        out,
+        &["step", object, "from", "", "to", "kind", "weight", "cost"],
+        &cells,
+    )
 }
 
 fn label(value: &Option<String>) -> String {
@@ -91,81 +155,12 @@ fn kind(from: &Option<String>, to: &Option<String>) -> &'static str {
 
 /// Text: the switches of the truths, then the jumps of the estimates.
 pub fn write_text<W: Write>(out: &mut W, document: &SwitchesDocument) -> std::io::Result<()> {
-    let p = document.params;
-    writeln!(
-        out,
-        "Identity switches   cut-off c = {}   order p = {}   switching penalty gamma = {}   distance: {}",
-        p.cutoff, p.order, p.switch_penalty, document.inputs.distance
-    )?;
-    writeln!(
-        out,
-        "truth     {} ({} objects)\nestimate  {} ({} tracks)\n",
-        document.inputs.truth,
-        document.inputs.truth_objects,
-        document.inputs.estimate,
-        document.inputs.estimate_tracks
-    )?;
-    writeln!(
-        out,
-        "Truths passing between tracks ({}):",
-        document.switches.len()
-    )?;
-    if document.switches.is_empty() {
-        writeln!(out, "  none")?;
-    } else {
-        let rows: Vec<Vec<String>> = document
-            .switches
-            .iter()
-            .map(|e| {
-                vec![
-                    e.time.to_string(),
-                    e.truth.clone(),
-                    label(&e.from),
-                    "->".to_string(),
-                    label(&e.to),
-                    kind(&e.from, &e.to).to_string(),
-                    fixed(e.weight, 3),
-                    fixed(e.cost, 4),
-                ]
-            })
-            .collect();
-        write_table(
-            out,
-            &["step", "truth", "from", "", "to", "kind", "weight", "cost"],
-            &rows,
-        )?;
-    }
+    write_run_header(out, "Identity switches", document.params, document.inputs)?;
     writeln!(out)?;
-    writeln!(
-        out,
-        "Tracks passing between truths ({}):",
-        document.jumps.len()
-    )?;
-    if document.jumps.is_empty() {
-        writeln!(out, "  none")?;
-    } else {
-        let rows: Vec<Vec<String>> = document
-            .jumps
-            .iter()
-            .map(|e| {
-                vec![
-                    e.time.to_string(),
-                    e.estimate.clone(),
-                    label(&e.from),
-                    "->".to_string(),
-                    label(&e.to),
-                    kind(&e.from, &e.to).to_string(),
-                    fixed(e.weight, 3),
-                    fixed(e.cost, 4),
-                ]
-            })
-            .collect();
-        write_table(
-            out,
-            &["step", "track", "from", "", "to", "kind", "weight", "cost"],
-            &rows,
-        )?;
-    }
+    let (truth_rows, track_rows) = event_rows(document.switches, document.jumps);
+    write_events(out, "Truths passing between tracks", "truth", &truth_rows)?;
+    writeln!(out)?;
+    write_events(out, "Tracks passing between truths", "track", &track_rows)?;
     writeln!(out)?;
     writeln!(
         out,

@@ -272,3 +272,39 @@ fn same_input_same_bytes_whatever_the_thread_count() {
     assert_eq!(outputs[0], outputs[1]);
     assert_eq!(outputs[0], outputs[2]);
 }
+
+#[test]
+fn audit_csv_lists_every_span_of_the_json() {
+    let (truth, estimate) = (demo("truth.csv"), demo("tracker-fragments.csv"));
+    let base = [
+        "audit",
+        "--truth",
+        &truth,
+        "--estimate",
+        &estimate,
+        "--cutoff",
+        "20",
+    ];
+    let doc = json(&[&base[..], &["--format", "json"]].concat());
+    let spans = |items: &Value, keys: [&str; 2]| -> usize {
+        items
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|t| {
+                keys.iter()
+                    .map(|k| t[*k].as_array().unwrap().len())
+                    .sum::<usize>()
+            })
+            .sum()
+    };
+    let expected = spans(&doc["truths"], ["covered", "missed"])
+        + spans(&doc["estimates"], ["following", "false_spans"]);
+    let csv = String::from_utf8(run(&[&base[..], &["--format", "csv"]].concat())).unwrap();
+    let mut lines = csv.lines();
+    assert_eq!(
+        lines.next(),
+        Some("side,object,rank,kind,first,last,steps,partner,mean_error")
+    );
+    assert_eq!(lines.count(), expected);
+}
