@@ -5,7 +5,7 @@
 //! step indices; decimal timestamps need a step size, and then step = round(t / step size).
 //! Fields are trimmed of surrounding white space; quoted fields, LF, CRLF and CR line ends and
 //! a UTF-8 byte-order mark are accepted, and messages give physical line numbers whatever the
-//! line ends ([`LineIndex`]). Rows of one id may come in any order. The reader streams:
+//! line ends (see `LineIndex`). Rows of one id may come in any order. The reader streams:
 //! memory grows with the number of points kept, not with the size of the text, and one row may
 //! hold at most [`MAX_RECORD_BYTES`].
 
@@ -292,74 +292,11 @@ pub(crate) struct ObjectPoints {
 /// value that is not a finite number or that the layout's distance cannot read, two rows of one
 /// id at one step.
 pub fn read_csv<R: Read>(reader: R, source: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
-    if let Some(dt) = layout.time_step {
-        if !(dt.is_finite() && dt > 0.0) {
-            return Err(Error::Parameter(format!(
-                "the time step must be a positive number, got {dt}"
-            )));
-        }
-    }
-    let budget = Rc::new(Cell::new(RECORD_BUDGET));
-    let lines = Rc::new(RefCell::new(LineIndex::new()));
-    let mut reader = csv::ReaderBuilder::new()
-        .delimiter(layout.delimiter)
-        .has_headers(true)
-        .flexible(true)
-        .trim(csv::Trim::All)
-        .buffer_capacity(READ_BUFFER)
-        .from_reader(Budgeted {
-            inner: LineTracked {
-                inner: reader,
-                index: Rc::clone(&lines),
-            },
-            budget: Rc::clone(&budget),
-        });
-    let header = reader
-        .byte_headers()
-        .map_err(|e| read_error(e, source, 1))?
-        .clone();
-    let columns = find_columns(&header, source, layout)?;
-    let dim = columns.state.len();
+    let mut rows = Rows::open(reader, source, layout)?;
     let mut objects: IndexMap<String, ObjectPoints> = IndexMap::new();
-    let mut record = csv::ByteRecord::new();
     let mut last_id: Option<usize> = None;
-    loop {
-        let start = reader.position().byte();
-        budget.set(RECORD_BUDGET);
-        if !reader
-            .read_byte_record(&mut record)
-            .map_err(|e| read_error(e, source, lines.borrow_mut().line_at(start)))?
-        {
-            break;
-        }
-        let line = lines
-            .borrow_mut()
-            .line_at(record.position().map_or(start, |p| p.byte()));
-        if record.len() != columns.header_len {
-            if record.len() == 1 && record.get(0) == Some(b"") {
-                continue; // a blank line
-            }
-            // A quote left open swallows the rest of the file into one short row.
-            let at_end = matches!(
-                reader.read_byte_record(&mut csv::ByteRecord::new()),
-                Ok(false)
-            );
-            return Err(ragged(&record, &header, &columns, source, line, at_end));
-        }
-        let at = |position: usize| {
-            let name = String::from_utf8_lossy(&header[position])
-                .trim()
-                .to_string();
-            Location::line(source, line).with_column(position + 1, &name)
-        };
-        let id_field = &record[columns.id];
-        let id = std::str::from_utf8(id_field)
-            .map_err(|_| Error::input(at(columns.id), "the id is not valid UTF-8"))?;
-        if id.is_empty() {
-            return Err(Error::input(at(columns.id), "the id is empty"));
-        }
-        let step = parse_step(&record[columns.time], layout.time_step)
-            .map_err(|message| Error::input(at(columns.time), message))?;
+    while rows.advance()? {
+        let (id, step) = rows.id_and_step()?;
         let index = match last_id {
             Some(index) if objects.get_index(index).map(|(k, _)| k.as_str()) == Some(id) => index,
             _ => match objects.get_index_of(id) {
@@ -372,37 +309,201 @@ pub fn read_csv<R: Read>(reader: R, source: &str, layout: &CsvLayout) -> Result<
             },
         };
         last_id = Some(index);
-        let points = &mut objects[index];
-        points.steps.push(step);
-        points.lines.push(line);
-        for &position in &columns.state {
-            let value = parse_number(&record[position])
-                .map_err(|message| Error::input(at(position), message))?;
-            points.states.push(value);
-        }
-        if let Some(distance) = &layout.distance {
-            let state = &points.states[points.states.len() - dim..];
-            if let Err((index, message)) = distance.check_state(state) {
-                return Err(Error::input(at(columns.state[index]), message));
-            }
-        }
+        rows.push_point(step, &mut objects[index])?;
     }
-    let time_name = layout.time_column.as_str();
-    let mut trajectories = Vec::with_capacity(objects.len());
-    for (id, points) in objects {
-        trajectories.push(finish_object(id, dim, points).map_err(|(line, message)| {
-            Error::input(
-                Location::line(source, line).with_column(columns.time + 1, time_name),
-                message,
-            )
-        })?);
-    }
-    let set = TrajectorySet::new(dim, trajectories)?;
+    let set = rows.finish_set(objects)?;
     Ok(TrajectoryFile {
         source: source.to_string(),
-        state_columns: columns.names,
+        state_columns: rows.columns.names,
         set,
     })
+}
+
+/// The data rows of a CSV input, read the way every reader here shares: the header and its
+/// columns, physical line numbers, the row length budget, blank and ragged rows, and each row's
+/// id, step and state. [`read_csv`] and the grouped reader differ only in where a row's point
+/// goes.
+pub(crate) struct Rows<'a, R: Read> {
+    reader: csv::Reader<Budgeted<LineTracked<R>>>,
+    budget: Rc<Cell<u64>>,
+    lines: Rc<RefCell<LineIndex>>,
+    layout: &'a CsvLayout,
+    source: &'a str,
+    /// The header row.
+    pub(crate) header: csv::ByteRecord,
+    /// The header's names, trimmed.
+    pub(crate) names: Vec<String>,
+    /// Where the columns the layout names are.
+    pub(crate) columns: Columns,
+    record: csv::ByteRecord,
+    line: u64,
+}
+
+impl<'a, R: Read> Rows<'a, R> {
+    /// Checks the layout, reads the header and finds the columns.
+    pub(crate) fn open(reader: R, source: &'a str, layout: &'a CsvLayout) -> Result<Self> {
+        if let Some(dt) = layout.time_step {
+            if !(dt.is_finite() && dt > 0.0) {
+                return Err(Error::Parameter(format!(
+                    "the time step must be a positive number, got {dt}"
+                )));
+            }
+        }
+        let budget = Rc::new(Cell::new(RECORD_BUDGET));
+        let lines = Rc::new(RefCell::new(LineIndex::new()));
+        let mut reader = csv::ReaderBuilder::new()
+            .delimiter(layout.delimiter)
+            .has_headers(true)
+            .flexible(true)
+            .trim(csv::Trim::All)
+            .buffer_capacity(READ_BUFFER)
+            .from_reader(Budgeted {
+                inner: LineTracked {
+                    inner: reader,
+                    index: Rc::clone(&lines),
+                },
+                budget: Rc::clone(&budget),
+            });
+        let header = reader
+            .byte_headers()
+            .map_err(|e| read_error(e, source, 1))?
+            .clone();
+        let columns = find_columns(&header, source, layout)?;
+        let names = header
+            .iter()
+            .map(|field| String::from_utf8_lossy(field).trim().to_string())
+            .collect();
+        Ok(Rows {
+            reader,
+            budget,
+            lines,
+            layout,
+            source,
+            header,
+            names,
+            columns,
+            record: csv::ByteRecord::new(),
+            line: 1,
+        })
+    }
+
+    /// Moves to the next data row, skipping blank lines; false at the end of the input.
+    ///
+    /// # Errors
+    /// A row longer than the budget, malformed CSV, or a row whose field count differs from the
+    /// header's.
+    pub(crate) fn advance(&mut self) -> Result<bool> {
+        loop {
+            let start = self.reader.position().byte();
+            self.budget.set(RECORD_BUDGET);
+            let more = self
+                .reader
+                .read_byte_record(&mut self.record)
+                .map_err(|e| read_error(e, self.source, self.lines.borrow_mut().line_at(start)))?;
+            if !more {
+                return Ok(false);
+            }
+            self.line = self
+                .lines
+                .borrow_mut()
+                .line_at(self.record.position().map_or(start, |p| p.byte()));
+            if self.record.len() == self.columns.header_len {
+                return Ok(true);
+            }
+            if self.record.len() == 1 && self.record.get(0) == Some(b"") {
+                continue; // a blank line
+            }
+            // A quote left open swallows the rest of the file into one short row.
+            let at_end = matches!(
+                self.reader.read_byte_record(&mut csv::ByteRecord::new()),
+                Ok(false)
+            );
+            return Err(ragged(
+                &self.record,
+                &self.header,
+                &self.columns,
+                self.source,
+                self.line,
+                at_end,
+            ));
+        }
+    }
+
+    /// The physical line of the current row.
+    pub(crate) fn line(&self) -> u64 {
+        self.line
+    }
+
+    /// The current row's field at `position` (trimmed).
+    pub(crate) fn field(&self, position: usize) -> &[u8] {
+        &self.record[position]
+    }
+
+    /// The location of a field of the current row.
+    pub(crate) fn at(&self, position: usize) -> Location {
+        Location::line(self.source, self.line).with_column(position + 1, &self.names[position])
+    }
+
+    /// The current row's id and step.
+    ///
+    /// # Errors
+    /// An id that is empty or not UTF-8, a time that is not a step.
+    pub(crate) fn id_and_step(&self) -> Result<(&str, Step)> {
+        let id_column = self.columns.id;
+        let id = std::str::from_utf8(self.field(id_column))
+            .map_err(|_| Error::input(self.at(id_column), "the id is not valid UTF-8"))?;
+        if id.is_empty() {
+            return Err(Error::input(self.at(id_column), "the id is empty"));
+        }
+        let time_column = self.columns.time;
+        let step = parse_step(self.field(time_column), self.layout.time_step)
+            .map_err(|message| Error::input(self.at(time_column), message))?;
+        Ok((id, step))
+    }
+
+    /// Adds the current row's point at `step` to an object.
+    ///
+    /// # Errors
+    /// A state value that is not a finite number or that the layout's distance cannot read.
+    pub(crate) fn push_point(&self, step: Step, points: &mut ObjectPoints) -> Result<()> {
+        let dim = self.columns.state.len();
+        for &position in &self.columns.state {
+            let value = parse_number(self.field(position))
+                .map_err(|message| Error::input(self.at(position), message))?;
+            points.states.push(value);
+        }
+        if let Some(distance) = &self.layout.distance {
+            let state = &points.states[points.states.len() - dim..];
+            if let Err((index, message)) = distance.check_state(state) {
+                let position = self.columns.state[index];
+                points.states.truncate(points.states.len() - dim);
+                return Err(Error::input(self.at(position), message));
+            }
+        }
+        points.steps.push(step);
+        points.lines.push(self.line);
+        Ok(())
+    }
+
+    /// Turns the objects read into a set; two rows of one object at one step are an error
+    /// naming the second row's line and the time column.
+    pub(crate) fn finish_set(
+        &self,
+        objects: IndexMap<String, ObjectPoints>,
+    ) -> Result<TrajectorySet> {
+        let dim = self.columns.state.len();
+        let time_name = self.layout.time_column.as_str();
+        let mut trajectories = Vec::with_capacity(objects.len());
+        for (id, points) in objects {
+            trajectories.push(finish_object(id, dim, points).map_err(|(line, message)| {
+                Error::input(
+                    Location::line(self.source, line).with_column(self.columns.time + 1, time_name),
+                    message,
+                )
+            })?);
+        }
+        TrajectorySet::new(dim, trajectories)
+    }
 }
 
 /// Sorts an object's points by step and rejects two points at one step.

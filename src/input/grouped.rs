@@ -10,14 +10,10 @@
 
 use std::fs::File;
 use std::io::{self, Read};
-use std::rc::Rc;
 
 use indexmap::IndexMap;
 
-use super::csv::{
-    find_columns, finish_object, parse_number, parse_step, ragged, read_error, Budgeted, CsvLayout,
-    ObjectPoints, READ_BUFFER, RECORD_BUDGET,
-};
+use super::csv::{CsvLayout, ObjectPoints, Rows};
 use crate::error::{Error, Location, Result};
 use crate::trajectory::TrajectorySet;
 
@@ -118,83 +114,28 @@ pub fn read_grouped_csv<R: Read>(
     layout: &CsvLayout,
     groups: &GroupColumns,
 ) -> Result<GroupedFile> {
-    if let Some(dt) = layout.time_step {
-        if !(dt.is_finite() && dt > 0.0) {
-            return Err(Error::Parameter(format!(
-                "the time step must be a positive number, got {dt}"
-            )));
-        }
-    }
     check_group_names(layout, groups)?;
-    let budget = Rc::new(std::cell::Cell::new(RECORD_BUDGET));
-    let mut reader = csv::ReaderBuilder::new()
-        .delimiter(layout.delimiter)
-        .has_headers(true)
-        .flexible(true)
-        .trim(csv::Trim::All)
-        .buffer_capacity(READ_BUFFER)
-        .from_reader(Budgeted {
-            inner: reader,
-            budget: Rc::clone(&budget),
-        });
-    let header = reader
-        .byte_headers()
-        .map_err(|e| read_error(e, source, 1))?
-        .clone();
-    let columns = find_columns(&header, source, layout)?;
-    let names: Vec<String> = header
-        .iter()
-        .map(|field| String::from_utf8_lossy(field).trim().to_string())
-        .collect();
-    let sequence_column = group_position(&names, &groups.sequence, source)?;
-    let run_column = group_position(&names, &groups.run, source)?;
-    let dim = columns.state.len();
+    let mut rows = Rows::open(reader, source, layout)?;
+    let sequence_column = group_position(&rows.names, &groups.sequence, source)?;
+    let run_column = group_position(&rows.names, &groups.run, source)?;
     let mut found: IndexMap<(String, String), GroupPoints> = IndexMap::new();
-    let mut record = csv::ByteRecord::new();
     let mut last: Option<(usize, usize)> = None;
-    loop {
-        let next_line = reader.position().line();
-        budget.set(RECORD_BUDGET);
-        if !reader
-            .read_byte_record(&mut record)
-            .map_err(|e| read_error(e, source, next_line))?
-        {
-            break;
-        }
-        let line = record.position().map_or(0, |p| p.line());
-        if record.len() != columns.header_len {
-            if record.len() == 1 && record.get(0) == Some(b"") {
-                continue; // a blank line
-            }
-            let at_end = matches!(
-                reader.read_byte_record(&mut csv::ByteRecord::new()),
-                Ok(false)
-            );
-            return Err(ragged(&record, &header, &columns, source, line, at_end));
-        }
-        let at = |position: usize| {
-            Location::line(source, line).with_column(position + 1, &names[position])
-        };
+    while rows.advance()? {
         let group_value = |position: Option<usize>| -> Result<&str> {
             let Some(position) = position else {
                 return Ok("");
             };
-            let value = std::str::from_utf8(&record[position])
-                .map_err(|_| Error::input(at(position), "the group value is not valid UTF-8"))?;
+            let value = std::str::from_utf8(rows.field(position)).map_err(|_| {
+                Error::input(rows.at(position), "the group value is not valid UTF-8")
+            })?;
             if value.is_empty() {
-                return Err(Error::input(at(position), "the group value is empty"));
+                return Err(Error::input(rows.at(position), "the group value is empty"));
             }
             Ok(value)
         };
         let sequence = group_value(sequence_column)?;
         let run = group_value(run_column)?;
-        let id = std::str::from_utf8(&record[columns.id])
-            .map_err(|_| Error::input(at(columns.id), "the id is not valid UTF-8"))?;
-        if id.is_empty() {
-            return Err(Error::input(at(columns.id), "the id is empty"));
-        }
-        let step = parse_step(&record[columns.time], layout.time_step)
-            .map_err(|message| Error::input(at(columns.time), message))?;
+        let (id, step) = rows.id_and_step()?;
         let group = match last {
             Some((group, _))
                 if found
@@ -210,7 +151,7 @@ pub fn read_grouped_csv<R: Read>(
                     Some(group) => group,
                     None => {
                         let points = GroupPoints {
-                            first_line: line,
+                            first_line: rows.line(),
                             objects: IndexMap::new(),
                         };
                         found.insert_full(key, points).0
@@ -235,43 +176,20 @@ pub fn read_grouped_csv<R: Read>(
             },
         };
         last = Some((group, index));
-        let points = &mut objects[index];
-        points.steps.push(step);
-        points.lines.push(line);
-        for &position in &columns.state {
-            let value = parse_number(&record[position])
-                .map_err(|message| Error::input(at(position), message))?;
-            points.states.push(value);
-        }
-        if let Some(distance) = &layout.distance {
-            let state = &points.states[points.states.len() - dim..];
-            if let Err((index, message)) = distance.check_state(state) {
-                return Err(Error::input(at(columns.state[index]), message));
-            }
-        }
+        rows.push_point(step, &mut objects[index])?;
     }
-    let time_name = layout.time_column.as_str();
     let mut result = Vec::with_capacity(found.len());
     for ((sequence, run), points) in found {
-        let mut trajectories = Vec::with_capacity(points.objects.len());
-        for (id, object) in points.objects {
-            trajectories.push(finish_object(id, dim, object).map_err(|(line, message)| {
-                Error::input(
-                    Location::line(source, line).with_column(columns.time + 1, time_name),
-                    message,
-                )
-            })?);
-        }
         result.push(Group {
             sequence,
             run,
             first_line: points.first_line,
-            set: TrajectorySet::new(dim, trajectories)?,
+            set: rows.finish_set(points.objects)?,
         });
     }
     Ok(GroupedFile {
         source: source.to_string(),
-        state_columns: columns.names,
+        state_columns: rows.columns.names.clone(),
         has_sequence: sequence_column.is_some(),
         has_run: run_column.is_some(),
         groups: result,
@@ -397,6 +315,16 @@ mod tests {
         assert_eq!(
             error.to_string(),
             "g.csv, line 2, column 4 (\"x\"): expected a number, found \"zero\""
+        );
+    }
+
+    #[test]
+    fn line_numbers_count_physical_lines_whatever_the_line_ends() {
+        // Line 4 holds the bad value after a blank line, with CRLF line ends.
+        let error = read("sequence,time,id,x,y\r\na,0,p,0,0\r\n\r\na,1,p,bad,0\r\n").unwrap_err();
+        assert_eq!(
+            error.to_string(),
+            "g.csv, line 4, column 4 (\"x\"): expected a number, found \"bad\""
         );
     }
 

@@ -73,6 +73,19 @@ pub fn bounds(
 /// finite, a negative part, parts that do not add up to the total, a total that differs from
 /// the engine's objective, a total above the upper or below the lower bound.
 pub fn check_consistency(score: &TrajectoryScore, bounds: &Bounds) -> Result<()> {
+    check_against(score, bounds, Some(score.lp_objective))
+}
+
+/// The same checks for a result whose total is not an LP engine's objective (the exact metric,
+/// assembled from integer solutions): everything but the comparison with the engine.
+///
+/// # Errors
+/// As [`check_consistency`].
+pub fn check_integral(score: &TrajectoryScore, bounds: &Bounds) -> Result<()> {
+    check_against(score, bounds, None)
+}
+
+fn check_against(score: &TrajectoryScore, bounds: &Bounds, objective: Option<f64>) -> Result<()> {
     let fail = |what: String| Err(Error::Solver(format!("consistency check failed: {what}")));
     let parts = [
         ("localisation", score.localization),
@@ -83,7 +96,8 @@ pub fn check_consistency(score: &TrajectoryScore, bounds: &Bounds) -> Result<()>
     let values = parts
         .iter()
         .copied()
-        .chain([("total", score.total), ("LP objective", score.lp_objective)]);
+        .chain([("total", score.total)])
+        .chain(objective.map(|value| ("LP objective", value)));
     for (name, value) in
         values.chain([("lower bound", bounds.lower), ("upper bound", bounds.upper)])
     {
@@ -108,14 +122,15 @@ pub fn check_consistency(score: &TrajectoryScore, bounds: &Bounds) -> Result<()>
             tolerance(sum, score.total)
         ));
     }
-    let gap = (score.lp_objective - score.total).abs();
-    if gap > tolerance(score.lp_objective, score.total) {
-        return fail(format!(
-            "the total {} differs from the engine's objective {} by {gap:e} (tolerance {:e})",
-            score.total,
-            score.lp_objective,
-            tolerance(score.lp_objective, score.total)
-        ));
+    if let Some(objective) = objective {
+        let gap = (objective - score.total).abs();
+        if gap > tolerance(objective, score.total) {
+            return fail(format!(
+                "the total {} differs from the engine's objective {objective} by {gap:e} (tolerance {:e})",
+                score.total,
+                tolerance(objective, score.total)
+            ));
+        }
     }
     let excess = score.total - bounds.upper;
     if excess > tolerance(score.total, bounds.upper) {

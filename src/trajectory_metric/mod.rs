@@ -63,6 +63,12 @@ impl TrajectoryParams {
                 "the switching penalty must be a finite number >= 0, got {switch_penalty}"
             )));
         }
+        if switch_penalty > 0.0 && power(switch_penalty, order) < f64::MIN_POSITIVE {
+            return Err(Error::Parameter(format!(
+                "the switching penalty {switch_penalty} raised to the order {order} underflows; \
+                 use 0 for no penalty"
+            )));
+        }
         if !power(switch_penalty, order).is_finite() {
             return Err(Error::Parameter(format!(
                 "the switching penalty {switch_penalty} raised to the order {order} overflows"
@@ -422,7 +428,8 @@ pub fn score_with(
         truth_points,
         estimate_points,
     );
-    checks::check_consistency(&result, &checks::bounds(truth, estimate, params, distance)?)?;
+    let bounds = checks::bounds(truth, estimate, params, distance)?;
+    checks::check_consistency(&result, &bounds)?;
     // The integer pass, on the components whose LP optimum is fractional, in parallel; a time
     // budget counts from here.
     let exact_parts = match options.exact {
@@ -436,7 +443,17 @@ pub fn score_with(
         None => Vec::new(),
     };
     let points = (truth_points, estimate_points);
-    Ok(with_exact(result, exact_parts, options, params, points))
+    let lp_total = result.total;
+    let score = with_exact(result, exact_parts, options, params, points);
+    if options.exact.is_some() {
+        // The integral optimum can be no lower than the LP's.
+        let bounds = checks::Bounds {
+            lower: bounds.lower.max(lp_total),
+            upper: bounds.upper,
+        };
+        checks::check_integral(&score, &bounds)?;
+    }
+    Ok(score)
 }
 
 /// Solves a component with a fractional LP optimum as an integer program.
