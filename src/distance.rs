@@ -509,6 +509,82 @@ fn great_circle(a: &[f64], b: &[f64]) -> f64 {
     2.0 * EARTH_MEAN_RADIUS * h.sqrt().atan2(h_antipode.sqrt())
 }
 
+impl Distance {
+    /// A factor `k > 0` with `d(a, b) >= k |a_0 - b_0|` for every pair of states, when this
+    /// distance has one: pairs farther apart than `c / k` along the first state column are then
+    /// farther than `c` and need no distance computed.
+    pub fn first_axis_factor(&self) -> Option<f64> {
+        let factor = match self {
+            Distance::Euclidean { weights } => weights.as_ref().map_or(1.0, |w| w[0].sqrt()),
+            Distance::Manhattan { weights } | Distance::Chebyshev { weights } => {
+                weights.as_ref().map_or(1.0, |w| w[0])
+            }
+            Distance::Iou(_) | Distance::Geodesic => return None,
+        };
+        (factor > 0.0 && factor.is_finite()).then_some(factor)
+    }
+}
+
+/// Finds the pairs closer than a cut-off between two lists of states. When the distance has a
+/// [`Distance::first_axis_factor`], the second list is sorted along the first state column and
+/// each state of the first list is compared only with those within reach: O((m + n) log n) plus
+/// the pairs in reach, instead of m x n distances, when objects are spread out.
+#[derive(Debug, Default)]
+pub struct Gate {
+    sorted: Vec<(f64, u32)>,
+}
+
+/// From this many states in the second list on, sorting pays for itself.
+const GATE_MIN: usize = 8;
+
+impl Gate {
+    /// Calls `found(i, j, d)` for every pair with `d(first(i), second(j)) < cutoff`, `i < m`,
+    /// `j < n`, in no set order.
+    pub fn close_pairs<'a>(
+        &mut self,
+        (m, first): (usize, impl Fn(usize) -> &'a [f64]),
+        (n, second): (usize, impl Fn(usize) -> &'a [f64]),
+        cutoff: f64,
+        distance: &Distance,
+        mut found: impl FnMut(usize, usize, f64),
+    ) {
+        let factor = distance
+            .first_axis_factor()
+            .filter(|_| n >= GATE_MIN && m > 0);
+        let Some(factor) = factor else {
+            for i in 0..m {
+                let x = first(i);
+                for j in 0..n {
+                    let d = distance.between(x, second(j));
+                    if d < cutoff {
+                        found(i, j, d);
+                    }
+                }
+            }
+            return;
+        };
+        // Widened a little so that rounding in `x - reach` never drops a pair in reach.
+        let reach = cutoff / factor * (1.0 + 1e-9);
+        self.sorted.clear();
+        self.sorted.extend((0..n).map(|j| (second(j)[0], j as u32)));
+        self.sorted.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
+        for i in 0..m {
+            let x = first(i);
+            let (low, high) = (x[0] - reach, x[0] + reach);
+            let start = self.sorted.partition_point(|&(y, _)| y <= low);
+            for &(y, j) in &self.sorted[start..] {
+                if y >= high {
+                    break;
+                }
+                let d = distance.between(x, second(j as usize));
+                if d < cutoff {
+                    found(i, j as usize, d);
+                }
+            }
+        }
+    }
+}
+
 /// `x^p`, exact for the common orders 1 and 2.
 #[inline]
 pub fn power(x: f64, p: f64) -> f64 {
@@ -530,5 +606,60 @@ pub fn root(x: f64, p: f64) -> f64 {
         x.sqrt()
     } else {
         x.powf(1.0 / p)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+    use proptest::test_runner::{Config, RngSeed};
+
+    fn distances() -> Vec<Distance> {
+        vec![
+            Distance::Euclidean { weights: None },
+            Distance::Euclidean {
+                weights: Some(vec![0.25, 4.0]),
+            },
+            Distance::Manhattan {
+                weights: Some(vec![2.0, 0.5]),
+            },
+            Distance::Chebyshev { weights: None },
+        ]
+    }
+
+    proptest! {
+        #![proptest_config(Config { cases: 300, rng_seed: RngSeed::Fixed(99), failure_persistence: None, ..Config::default() })]
+
+        /// The gate finds exactly the pairs that comparing every pair finds (the definition of
+        /// "closer than the cut-off"), with the same distances.
+        #[test]
+        fn the_gate_finds_every_close_pair_and_no_other(
+            first in prop::collection::vec(prop::collection::vec(-20.0f64..20.0, 2), 0..15),
+            second in prop::collection::vec(prop::collection::vec(-20.0f64..20.0, 2), 0..25),
+            cutoff in 0.5f64..12.0,
+        ) {
+            for distance in distances() {
+                let mut brute = Vec::new();
+                for (i, x) in first.iter().enumerate() {
+                    for (j, y) in second.iter().enumerate() {
+                        let d = distance.between(x, y);
+                        if d < cutoff {
+                            brute.push((i, j, d));
+                        }
+                    }
+                }
+                let mut gated = Vec::new();
+                Gate::default().close_pairs(
+                    (first.len(), |i| first[i].as_slice()),
+                    (second.len(), |j| second[j].as_slice()),
+                    cutoff,
+                    &distance,
+                    |i, j, d| gated.push((i, j, d)),
+                );
+                gated.sort_by_key(|&(i, j, _)| (i, j));
+                prop_assert_eq!(&gated, &brute);
+            }
+        }
     }
 }

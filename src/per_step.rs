@@ -15,7 +15,7 @@
 
 use serde::Serialize;
 
-use crate::distance::{power, root, Distance};
+use crate::distance::{power, root, Distance, Gate};
 use crate::error::{Error, Result};
 use crate::trajectory::{Frames, Step, TrajectorySet, Window};
 
@@ -104,6 +104,7 @@ pub struct SetScore {
 /// Reusable buffers for solving many steps.
 #[derive(Default)]
 struct Workspace {
+    gate: Gate,
     close: Vec<(u32, u32, f64)>,
     parent: Vec<u32>,
     group_of: Vec<u32>,
@@ -136,16 +137,18 @@ impl Workspace {
     ) -> SetScore {
         let cp = params.cutoff_power();
         self.close.clear();
-        for i in 0..m {
-            let x = truth(i);
-            for j in 0..n {
-                let d = distance.between(x, estimate(j));
-                if d < params.cutoff {
-                    self.close
-                        .push((i as u32, j as u32, power(d, params.order)));
-                }
-            }
-        }
+        let close = &mut self.close;
+        self.gate.close_pairs(
+            (m, truth),
+            (n, estimate),
+            params.cutoff,
+            distance,
+            |i, j, d| {
+                close.push((i as u32, j as u32, power(d, params.order)));
+            },
+        );
+        // The gate finds pairs in no set order; the assignment's tie-breaks depend on it.
+        self.close.sort_unstable_by_key(|&(i, j, _)| (i, j));
         let mut pairs: Vec<(usize, usize, f64)> = Vec::new();
         if !self.close.is_empty() {
             self.assign(m, n, cp, &mut pairs);

@@ -277,6 +277,10 @@ pub(crate) fn parse_step(
     Ok(step as Step)
 }
 
+/// The objects read so far, by id, in order of first appearance. Ids are hashed with a fast
+/// non-cryptographic hash: the reader looks one up for every row.
+pub(crate) type ObjectMap = IndexMap<String, ObjectPoints, rustc_hash::FxBuildHasher>;
+
 #[derive(Default)]
 pub(crate) struct ObjectPoints {
     pub(crate) steps: Vec<Step>,
@@ -293,7 +297,7 @@ pub(crate) struct ObjectPoints {
 /// id at one step.
 pub fn read_csv<R: Read>(reader: R, source: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
     let mut rows = Rows::open(reader, source, layout)?;
-    let mut objects: IndexMap<String, ObjectPoints> = IndexMap::new();
+    let mut objects = ObjectMap::default();
     let mut last_id: Option<usize> = None;
     while rows.advance()? {
         let (id, step) = rows.id_and_step()?;
@@ -355,7 +359,6 @@ impl<'a, R: Read> Rows<'a, R> {
             .delimiter(layout.delimiter)
             .has_headers(true)
             .flexible(true)
-            .trim(csv::Trim::All)
             .buffer_capacity(READ_BUFFER)
             .from_reader(Budgeted {
                 inner: LineTracked {
@@ -410,7 +413,7 @@ impl<'a, R: Read> Rows<'a, R> {
             if self.record.len() == self.columns.header_len {
                 return Ok(true);
             }
-            if self.record.len() == 1 && self.record.get(0) == Some(b"") {
+            if self.record.len() == 1 && self.field(0).is_empty() {
                 continue; // a blank line
             }
             // A quote left open swallows the rest of the file into one short row.
@@ -436,7 +439,8 @@ impl<'a, R: Read> Rows<'a, R> {
 
     /// The current row's field at `position` (trimmed).
     pub(crate) fn field(&self, position: usize) -> &[u8] {
-        &self.record[position]
+        // Trimmed here rather than by the parser, which would copy every record to trim it.
+        self.record[position].trim_ascii()
     }
 
     /// The location of a field of the current row.
@@ -487,10 +491,7 @@ impl<'a, R: Read> Rows<'a, R> {
 
     /// Turns the objects read into a set; two rows of one object at one step are an error
     /// naming the second row's line and the time column.
-    pub(crate) fn finish_set(
-        &self,
-        objects: IndexMap<String, ObjectPoints>,
-    ) -> Result<TrajectorySet> {
+    pub(crate) fn finish_set(&self, objects: ObjectMap) -> Result<TrajectorySet> {
         let dim = self.columns.state.len();
         let time_name = self.layout.time_column.as_str();
         let mut trajectories = Vec::with_capacity(objects.len());
@@ -583,20 +584,36 @@ impl LineIndex {
     }
 
     fn feed(&mut self, bytes: &[u8]) {
-        for (k, &byte) in bytes.iter().enumerate() {
-            match byte {
-                b'\n' if self.after_cr => self.after_cr = false,
-                b'\n' | b'\r' => {
+        let mut k = 0;
+        while k < bytes.len() {
+            if self.at_line_start {
+                let byte = bytes[k];
+                match byte {
+                    b'\n' if self.after_cr => self.after_cr = false,
+                    b'\n' | b'\r' => {
+                        self.line += 1;
+                        self.after_cr = byte == b'\r';
+                    }
+                    _ => {
+                        self.starts.push_back((self.position + k as u64, self.line));
+                        self.at_line_start = false;
+                        self.after_cr = false;
+                    }
+                }
+                if self.at_line_start {
+                    k += 1;
+                    continue;
+                }
+            }
+            // Inside a line: jump to its end.
+            match memchr::memchr2(b'\n', b'\r', &bytes[k..]) {
+                None => k = bytes.len(),
+                Some(offset) => {
+                    let byte = bytes[k + offset];
                     self.line += 1;
                     self.at_line_start = true;
                     self.after_cr = byte == b'\r';
-                }
-                _ => {
-                    if self.at_line_start {
-                        self.starts.push_back((self.position + k as u64, self.line));
-                        self.at_line_start = false;
-                    }
-                    self.after_cr = false;
+                    k += offset + 1;
                 }
             }
         }

@@ -13,7 +13,7 @@ use std::io::{self, Read};
 
 use indexmap::IndexMap;
 
-use super::csv::{CsvLayout, ObjectPoints, Rows};
+use super::csv::{CsvLayout, ObjectMap, ObjectPoints, Rows};
 use crate::error::{Error, Location, Result};
 use crate::trajectory::TrajectorySet;
 
@@ -98,7 +98,7 @@ pub fn read_grouped_csv_path(
 /// The objects of one group while reading.
 struct GroupPoints {
     first_line: u64,
-    objects: IndexMap<String, ObjectPoints>,
+    objects: ObjectMap,
 }
 
 /// Reads trajectories grouped by sequence and run from CSV text. `source` names the input in
@@ -152,7 +152,7 @@ pub fn read_grouped_csv<R: Read>(
                     None => {
                         let points = GroupPoints {
                             first_line: rows.line(),
-                            objects: IndexMap::new(),
+                            objects: ObjectMap::default(),
                         };
                         found.insert_full(key, points).0
                     }

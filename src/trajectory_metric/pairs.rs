@@ -8,7 +8,7 @@
 
 use pathfinding::undirected::connected_components::separate_components;
 
-use crate::distance::{power, Distance};
+use crate::distance::{power, Distance, Gate};
 use crate::trajectory::{Frames, Step, TrajectorySet, Window};
 
 /// One step at which a pair is close.
@@ -51,22 +51,26 @@ pub fn candidate_pairs(
     let truth_frames = Frames::new(truth, window);
     let estimate_frames = Frames::new(estimate, window);
     let mut events: Vec<(u32, u32, Step, f64)> = Vec::new();
+    let mut gate = Gate::default();
     for k in 0..window.len() {
-        let ys = estimate_frames.at(k);
-        if ys.is_empty() {
+        let (xs, ys) = (truth_frames.at(k), estimate_frames.at(k));
+        if xs.is_empty() || ys.is_empty() {
             continue;
         }
         let step = window.first + k as Step;
-        for x in truth_frames.at(k) {
-            let xs = truth.get(x.object as usize).state(x.point as usize);
-            for y in ys {
-                let ys_state = estimate.get(y.object as usize).state(y.point as usize);
-                let d = distance.between(xs, ys_state);
-                if d < cutoff {
-                    events.push((x.object, y.object, step, power(d, order)));
-                }
-            }
-        }
+        gate.close_pairs(
+            (xs.len(), |i| {
+                truth.get(xs[i].object as usize).state(xs[i].point as usize)
+            }),
+            (ys.len(), |j| {
+                estimate
+                    .get(ys[j].object as usize)
+                    .state(ys[j].point as usize)
+            }),
+            cutoff,
+            distance,
+            |i, j, d| events.push((xs[i].object, ys[j].object, step, power(d, order))),
+        );
     }
     events.sort_unstable_by_key(|a| (a.0, a.1, a.2));
     let mut pairs: Vec<CandidatePair> = Vec::new();
