@@ -141,3 +141,67 @@ fn split_estimate_costs_one_switch_or_four_missed_steps() {
         assert_relative_eq!(s.total, f64::min(gamma, 4.0), max_relative = 1e-9);
     }
 }
+
+mod per_step_axioms {
+    //! GOSPA is a metric for alpha = 2 and 1 <= p < inf (Rahmathullah, García-Fernández,
+    //! Svensson, FUSION 2017, Proposition 1): zero exactly between equal sets, symmetric, and
+    //! it satisfies the triangle inequality. Checked on seeded random point sets.
+
+    use proptest::prelude::*;
+    use switchyard::distance::Distance;
+    use switchyard::per_step::{gospa_between, GospaParams};
+
+    use crate::support::seeded;
+
+    fn points() -> impl Strategy<Value = Vec<Vec<f64>>> {
+        prop::collection::vec(prop::collection::vec(-6.0f64..6.0, 2), 0..7)
+    }
+
+    fn gospa(x: &[Vec<f64>], y: &[Vec<f64>], params: &GospaParams) -> f64 {
+        let x: Vec<&[f64]> = x.iter().map(Vec::as_slice).collect();
+        let y: Vec<&[f64]> = y.iter().map(Vec::as_slice).collect();
+        gospa_between(&x, &y, params, &Distance::default())
+            .power
+            .powf(1.0 / params.order)
+    }
+
+    fn params() -> impl Strategy<Value = GospaParams> {
+        (
+            prop::sample::select(vec![0.5, 2.0, 5.0]),
+            prop::sample::select(vec![1.0, 2.0, 3.0]),
+        )
+            .prop_map(|(c, p)| GospaParams::new(c, p, 2.0).unwrap())
+    }
+
+    proptest! {
+        #![proptest_config(seeded(400, 17))]
+
+        #[test]
+        fn zero_exactly_for_equal_sets_and_positive_otherwise(x in points(), y in points(), params in params()) {
+            prop_assert_eq!(gospa(&x, &x, &params), 0.0);
+            // A reordered copy is the same set.
+            let mut reversed = x.clone();
+            reversed.reverse();
+            prop_assert_eq!(gospa(&x, &reversed, &params), 0.0);
+            let mut sorted_x = x.clone();
+            let mut sorted_y = y.clone();
+            sorted_x.sort_by(|a, b| a.partial_cmp(b).unwrap());
+            sorted_y.sort_by(|a, b| a.partial_cmp(b).unwrap());
+            if sorted_x != sorted_y {
+                prop_assert!(gospa(&x, &y, &params) > 0.0);
+            }
+        }
+
+        #[test]
+        fn symmetric(x in points(), y in points(), params in params()) {
+            let (a, b) = (gospa(&x, &y, &params), gospa(&y, &x, &params));
+            prop_assert!((a - b).abs() <= 1e-12 * a.max(1.0), "{a} vs {b}");
+        }
+
+        #[test]
+        fn triangle_inequality(x in points(), y in points(), z in points(), params in params()) {
+            let (xz, xy, yz) = (gospa(&x, &z, &params), gospa(&x, &y, &params), gospa(&y, &z, &params));
+            prop_assert!(xz <= xy + yz + 1e-9 * (1.0 + xz), "{xz} > {xy} + {yz}");
+        }
+    }
+}
