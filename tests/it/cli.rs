@@ -308,3 +308,44 @@ fn audit_csv_lists_every_span_of_the_json() {
     );
     assert_eq!(lines.count(), expected);
 }
+
+#[test]
+fn standard_input_reads_one_of_the_two_inputs() {
+    let (truth, estimate) = (demo("truth.csv"), demo("tracker-swaps.csv"));
+    let from_files = run(&[
+        "steps",
+        "--truth",
+        &truth,
+        "--estimate",
+        &estimate,
+        "--cutoff",
+        "20",
+        "--format",
+        "csv",
+    ]);
+    let output = Command::cargo_bin("switchyard")
+        .unwrap()
+        .args([
+            "steps",
+            "--truth",
+            "-",
+            "--estimate",
+            &estimate,
+            "--cutoff",
+            "20",
+            "--format",
+            "csv",
+        ])
+        .write_stdin(std::fs::read(&truth).unwrap())
+        .output()
+        .unwrap();
+    assert!(output.status.success());
+    assert_eq!(output.stdout, from_files);
+    let both = Command::cargo_bin("switchyard")
+        .unwrap()
+        .args(["steps", "--truth", "-", "--estimate", "-", "--cutoff", "20"])
+        .output()
+        .unwrap();
+    assert_eq!(both.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&both.stderr).contains("only one of --truth and --estimate"));
+}
