@@ -10,7 +10,24 @@ fn demo(name: &str) -> String {
     format!("{}/demo-data/{name}", env!("CARGO_MANIFEST_DIR"))
 }
 
-fn run(args: &[&str]) -> Vec<u8> {
+/// `COMMAND --truth T --estimate E --cutoff 20 --format F`: the demo's suggested cut-off.
+fn demo_args(command: &str, truth: &str, estimate: &str, format: &str) -> Vec<String> {
+    [
+        command,
+        "--truth",
+        truth,
+        "--estimate",
+        estimate,
+        "--cutoff",
+        "20",
+        "--format",
+        format,
+    ]
+    .map(String::from)
+    .to_vec()
+}
+
+fn run<S: AsRef<std::ffi::OsStr> + std::fmt::Debug>(args: &[S]) -> Vec<u8> {
     let output = Command::cargo_bin("switchyard")
         .unwrap()
         .args(args)
@@ -24,7 +41,7 @@ fn run(args: &[&str]) -> Vec<u8> {
     output.stdout
 }
 
-fn json(args: &[&str]) -> Value {
+fn json<S: AsRef<std::ffi::OsStr> + std::fmt::Debug>(args: &[S]) -> Value {
     serde_json::from_slice(&run(args)).unwrap()
 }
 
@@ -37,17 +54,7 @@ fn number(value: &Value, key: &str) -> f64 {
 #[test]
 fn score_json_keeps_its_contract_and_its_parts_add_up() {
     let (truth, estimate) = (demo("truth.csv"), demo("tracker-fragments.csv"));
-    let doc = json(&[
-        "score",
-        "--truth",
-        &truth,
-        "--estimate",
-        &estimate,
-        "--cutoff",
-        "20",
-        "--format",
-        "json",
-    ]);
+    let doc = json(&demo_args("score", &truth, &estimate, "json"));
     for key in [
         "metric",
         "total",
@@ -106,17 +113,7 @@ fn switches_on_the_swapping_tracker_are_the_generated_swaps() {
     // when two boats pass close (demo-data/README.md). So every switch is full and has a mirror
     // image at the same step: truth a passes from track p to q while truth b passes from q to p.
     let (truth, estimate) = (demo("truth.csv"), demo("tracker-swaps.csv"));
-    let doc = json(&[
-        "switches",
-        "--truth",
-        &truth,
-        "--estimate",
-        &estimate,
-        "--cutoff",
-        "20",
-        "--format",
-        "json",
-    ]);
+    let doc = json(&demo_args("switches", &truth, &estimate, "json"));
     let switches = doc["switches"].as_array().unwrap();
     assert!(!switches.is_empty() && switches.len().is_multiple_of(2));
     assert!(switches
@@ -133,18 +130,7 @@ fn switches_on_the_swapping_tracker_are_the_generated_swaps() {
     }
     assert_eq!(number(&doc, "switch_count"), switches.len() as f64);
     let n = switches.len();
-    let csv = String::from_utf8(run(&[
-        "switches",
-        "--truth",
-        &truth,
-        "--estimate",
-        &estimate,
-        "--cutoff",
-        "20",
-        "--format",
-        "csv",
-    ]))
-    .unwrap();
+    let csv = String::from_utf8(run(&demo_args("switches", &truth, &estimate, "csv"))).unwrap();
     assert_eq!(
         csv.lines().next(),
         Some("side,time,object,from,to,weight,cost")
@@ -198,31 +184,10 @@ fn audit_ranks_worst_first_and_top_limits_the_list() {
 #[test]
 fn steps_csv_has_one_row_per_step_of_the_window() {
     let (truth, estimate) = (demo("truth.csv"), demo("tracker-swaps.csv"));
-    let csv = String::from_utf8(run(&[
-        "steps",
-        "--truth",
-        &truth,
-        "--estimate",
-        &estimate,
-        "--cutoff",
-        "20",
-        "--format",
-        "csv",
-    ]))
-    .unwrap();
+    let csv = String::from_utf8(run(&demo_args("steps", &truth, &estimate, "csv"))).unwrap();
     // The demo covers scans 0 to 299 (demo-data/README.md).
     assert_eq!(csv.lines().count(), 1 + 300);
-    let doc = json(&[
-        "steps",
-        "--truth",
-        &truth,
-        "--estimate",
-        &estimate,
-        "--cutoff",
-        "20",
-        "--format",
-        "json",
-    ]);
+    let doc = json(&demo_args("steps", &truth, &estimate, "json"));
     let steps = doc["steps"].as_array().unwrap();
     for key in [
         "time",
@@ -312,17 +277,7 @@ fn audit_csv_lists_every_span_of_the_json() {
 #[test]
 fn standard_input_reads_one_of_the_two_inputs() {
     let (truth, estimate) = (demo("truth.csv"), demo("tracker-swaps.csv"));
-    let from_files = run(&[
-        "steps",
-        "--truth",
-        &truth,
-        "--estimate",
-        &estimate,
-        "--cutoff",
-        "20",
-        "--format",
-        "csv",
-    ]);
+    let from_files = run(&demo_args("steps", &truth, &estimate, "csv"));
     let output = Command::cargo_bin("switchyard")
         .unwrap()
         .args([

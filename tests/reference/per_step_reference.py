@@ -35,6 +35,8 @@ from pathlib import Path
 import numpy as np
 from scipy.optimize import linear_sum_assignment
 
+from refcheck import compare, load, report
+
 HERE = Path(__file__).resolve().parent
 OUTPUT = HERE.parent / "data" / "reference" / "per_step_cases.json"
 
@@ -347,51 +349,12 @@ def dump(doc, path):
 # --check
 # --------------------------------------------------------------------------------------
 
-def compare(expected, actual, rel_tol, where="", out=None):
-    """Recursive comparison; returns a list of difference descriptions."""
-    out = [] if out is None else out
-    if isinstance(expected, dict) and isinstance(actual, dict):
-        if set(expected) != set(actual):
-            out.append(f"{where}: keys {sorted(expected)} != {sorted(actual)}")
-            return out
-        for key in expected:
-            compare(expected[key], actual[key], rel_tol, f"{where}.{key}", out)
-    elif isinstance(expected, list) and isinstance(actual, list):
-        if len(expected) != len(actual):
-            out.append(f"{where}: length {len(expected)} != {len(actual)}")
-            return out
-        for idx, (e, a) in enumerate(zip(expected, actual)):
-            compare(e, a, rel_tol, f"{where}[{idx}]", out)
-    elif isinstance(expected, bool) or isinstance(actual, bool):
-        if expected is not actual:
-            out.append(f"{where}: {expected!r} != {actual!r}")
-    elif isinstance(expected, int) and isinstance(actual, int):
-        if expected != actual:
-            out.append(f"{where}: {expected} != {actual}")
-    elif isinstance(expected, (int, float)) and isinstance(actual, (int, float)):
-        if not (expected == actual or abs(expected - actual) <= rel_tol * max(abs(expected), abs(actual))):
-            out.append(f"{where}: committed {expected!r}, regenerated {actual!r}")
-    elif expected != actual:
-        out.append(f"{where}: {expected!r} != {actual!r}")
-    return out
-
-
 def check(doc, path):
-    if not path.exists():
-        print(f"FAIL: {path} does not exist; run {Path(__file__).name} without --check", file=sys.stderr)
+    committed, fresh = load(doc, path, __file__)
+    if committed is None:
         return 1
-    committed = json.loads(path.read_text())
-    fresh = json.loads(json.dumps(doc))  # same types as a file round trip
     diffs = compare(committed, fresh, REL_TOL, "doc")
-    if diffs:
-        print(f"FAIL: {path} differs from regenerated reference ({len(diffs)} differences):", file=sys.stderr)
-        for line in diffs[:20]:
-            print("  " + line, file=sys.stderr)
-        if len(diffs) > 20:
-            print(f"  ... and {len(diffs) - 20} more", file=sys.stderr)
-        return 1
-    print(f"OK: {path.name} matches the regenerated {len(fresh['cases'])} cases")
-    return 0
+    return report(path, diffs, f"OK: {path.name} matches the regenerated {len(fresh['cases'])} cases")
 
 
 def main(argv=None):

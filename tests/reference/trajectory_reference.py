@@ -42,7 +42,8 @@ from scipy.optimize import Bounds, LinearConstraint, linprog, milp
 
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
-from per_step_reference import compare, gospa_alpha2  # noqa: E402
+from per_step_reference import gospa_alpha2  # noqa: E402
+from refcheck import compare, load, report  # noqa: E402
 
 OUTPUT = HERE.parent / "data" / "reference" / "trajectory_cases.json"
 
@@ -529,11 +530,9 @@ def dump(doc, path):
 
 
 def check(doc, path):
-    if not path.exists():
-        print(f"FAIL: {path} does not exist; run {Path(__file__).name} without --check", file=sys.stderr)
+    committed, fresh = load(doc, path, __file__)
+    if committed is None:
         return 1
-    committed = json.loads(path.read_text())
-    fresh = json.loads(json.dumps(doc))
     diffs = []
     if set(committed) != set(fresh):
         diffs.append(f"top-level keys {sorted(committed)} != {sorted(fresh)}")
@@ -548,15 +547,7 @@ def check(doc, path):
             for key in old:
                 tol = REL_TOL if key in ("lp_total", "exact_total") else 1e-12
                 compare(old[key], new[key], tol, f"cases[{q}].{key}", diffs)
-    if diffs:
-        print(f"FAIL: {path} differs from regenerated reference ({len(diffs)} differences):", file=sys.stderr)
-        for line in diffs[:20]:
-            print("  " + line, file=sys.stderr)
-        if len(diffs) > 20:
-            print(f"  ... and {len(diffs) - 20} more", file=sys.stderr)
-        return 1
-    print(f"OK: {path.name} matches the regenerated {len(fresh['cases'])} cases")
-    return 0
+    return report(path, diffs, f"OK: {path.name} matches the regenerated {len(fresh['cases'])} cases")
 
 
 # --------------------------------------------------------------------------------------
