@@ -17,7 +17,7 @@ use serde::Serialize;
 
 use crate::distance::{power, root, Distance, Gate};
 use crate::error::{Error, Result};
-use crate::trajectory::{Frames, Step, TrajectorySet, Window};
+use crate::trajectory::{Frames, Presence, Step, TrajectorySet, Window};
 
 /// The parameters of GOSPA.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize)]
@@ -112,6 +112,7 @@ struct Workspace {
     cols: Vec<u32>,
     local: Vec<u32>,
     matrix: Vec<f64>,
+    costs: Vec<f64>,
     order: Vec<u32>,
 }
 
@@ -244,22 +245,51 @@ impl Workspace {
             }
         }
         let (r, c) = (self.rows.len(), self.cols.len());
-        self.matrix.clear();
-        self.matrix.resize(r * c, 0.0);
+        // d^p of each close pair of the group; NaN where the pair is not close.
+        self.costs.clear();
+        self.costs.resize(r * c, f64::NAN);
         for &k in &self.order[start..end] {
             let (i, j, dp) = self.close[k as usize];
             let (a, b) = (self.local[i as usize], self.local[m + j as usize]);
-            self.matrix[a as usize * c + b as usize] = dp - cp;
+            self.costs[a as usize * c + b as usize] = dp;
         }
+        // The gains d^p - c^p lose the low digits of d^p when c^p is much the larger. When c^p
+        // exceeds min(r, c) times the largest d^p, one more assigned pair always gains more
+        // than any rearrangement of d^p can, so the optimum is the matching with the most close
+        // pairs and, among those, the least sum of d^p: solved exactly on d^p itself, with far
+        // pairs priced above any such sum.
+        let largest = self
+            .costs
+            .iter()
+            .copied()
+            .filter(|v| !v.is_nan())
+            .fold(0.0, f64::max);
+        let lexicographic = cp > r.min(c) as f64 * largest;
+        let far = (r.min(c) as f64 + 1.0) * largest + 1.0;
+        self.matrix.clear();
+        self.matrix.extend(
+            self.costs
+                .iter()
+                .map(|&dp| match (dp.is_nan(), lexicographic) {
+                    (true, true) => far,
+                    (true, false) => 0.0,
+                    (false, true) => dp,
+                    (false, false) => dp - cp,
+                }),
+        );
         let (row_ind, col_ind) =
             lsap::solve(r, c, &self.matrix, false).expect("finite costs always have an assignment");
         for (a, b) in row_ind.into_iter().zip(col_ind) {
-            let gain = self.matrix[a * c + b];
-            if gain < 0.0 {
-                pairs.push((self.rows[a] as usize, self.cols[b] as usize, gain + cp));
+            let dp = self.costs[a * c + b];
+            let worth = if lexicographic {
+                !dp.is_nan()
+            } else {
+                self.matrix[a * c + b] < 0.0
+            };
+            if worth {
+                pairs.push((self.rows[a] as usize, self.cols[b] as usize, dp));
             }
         }
-        let _ = n;
     }
 }
 
@@ -351,25 +381,25 @@ pub struct StepSeries {
     pub summary: StepSummary,
 }
 
-/// Per-step GOSPA for every step of the window covering both sets.
+/// Solves GOSPA at every step of the window covering both sets, in time order, handing each
+/// step's result to `visit(time, score, truths present, estimates present)` without keeping
+/// it; the pairs in `score` index into those two lists. Returns the window.
 ///
 /// # Errors
-/// Sets of different dimensions, a window too long to hold, a distance that does not fit the
-/// states or the cut-off ([`Distance::check_inputs`]).
-pub fn per_step(
+/// As [`per_step`].
+pub(crate) fn for_each_step(
     truth: &TrajectorySet,
     estimate: &TrajectorySet,
     params: &GospaParams,
     distance: &Distance,
-) -> Result<StepSeries> {
+    mut visit: impl FnMut(Step, &SetScore, &[Presence], &[Presence]),
+) -> Result<Option<Window>> {
     let window = crate::trajectory::evaluation_window(truth, estimate)?;
     distance.check_inputs(truth, estimate, params.cutoff)?;
-    let mut steps = Vec::new();
     if let Some(window) = window {
         let truth_frames = Frames::new(truth, window);
         let estimate_frames = Frames::new(estimate, window);
         let mut workspace = Workspace::default();
-        steps.reserve(window.len());
         for k in 0..window.len() {
             let xs = truth_frames.at(k);
             let ys = estimate_frames.at(k);
@@ -385,19 +415,37 @@ pub fn per_step(
                 params,
                 distance,
             );
-            steps.push(StepScore {
-                time: window.first + k as Step,
-                gospa: root(score.power, params.order),
-                localization: score.localization,
-                missed: score.missed,
-                false_: score.false_,
-                missed_count: score.missed_count,
-                false_count: score.false_count,
-                truth_count: xs.len(),
-                estimate_count: ys.len(),
-            });
+            visit(window.first + k as Step, &score, xs, ys);
         }
     }
+    Ok(window)
+}
+
+/// Per-step GOSPA for every step of the window covering both sets.
+///
+/// # Errors
+/// Sets of different dimensions, a window too long to hold, a distance that does not fit the
+/// states or the cut-off ([`Distance::check_inputs`]).
+pub fn per_step(
+    truth: &TrajectorySet,
+    estimate: &TrajectorySet,
+    params: &GospaParams,
+    distance: &Distance,
+) -> Result<StepSeries> {
+    let mut steps = Vec::new();
+    let window = for_each_step(truth, estimate, params, distance, |time, score, xs, ys| {
+        steps.push(StepScore {
+            time,
+            gospa: root(score.power, params.order),
+            localization: score.localization,
+            missed: score.missed,
+            false_: score.false_,
+            missed_count: score.missed_count,
+            false_count: score.false_count,
+            truth_count: xs.len(),
+            estimate_count: ys.len(),
+        });
+    })?;
     let summary = summarise(&steps, params);
     let parts = [summary.localization, summary.missed, summary.false_];
     if !(summary.sum.is_finite()

@@ -6,6 +6,11 @@
 //!   the constant `(c^p / 2)(truth + estimate object-steps)`);
 //! - the total is at most that constant, the cost of leaving every object-step unassigned
 //!   (a feasible solution, so no optimum costs more);
+//! - the total is at most the cost of holding each step's own best assignment (per-step GOSPA
+//!   at every step plus the switches between those assignments), another feasible solution.
+//!   This one is compared with the relative tolerance only: it catches an engine that could not
+//!   resolve costs far below the cut-off (a cut-off many orders of magnitude above the errors),
+//!   where a tolerance scaled by c^p would let a wrong optimum through;
 //! - the total is at least the sum over the steps of GOSPA^p with alpha = 2: at each step the
 //!   LP weights form a fractional matching, whose cheapest cost is that step's GOSPA^p (the
 //!   bipartite matching polytope has integral vertices), and the switching part is >= 0. This
@@ -18,7 +23,7 @@
 use super::TrajectoryScore;
 use crate::distance::Distance;
 use crate::error::{Error, Result};
-use crate::per_step::{per_step, GospaParams};
+use crate::per_step::{for_each_step, GospaParams};
 use crate::trajectory::TrajectorySet;
 
 use super::TrajectoryParams;
@@ -35,6 +40,9 @@ pub struct Bounds {
     pub lower: f64,
     /// `(c^p / 2)(truth + estimate object-steps)`: every object-step unassigned.
     pub upper: f64,
+    /// The cost of holding each step's own best assignment: `lower` plus gamma^p / 2 per change
+    /// of an assigned pair between consecutive steps.
+    pub held: f64,
 }
 
 /// Computes the bounds of a pair of sets. O(one per-step GOSPA pass).
@@ -57,13 +65,44 @@ pub fn bounds(
         )));
     }
     let gospa = GospaParams::new(params.cutoff, params.order, 2.0)?;
-    let series = per_step(truth, estimate, &gospa, distance)?;
-    let lower = series.steps.iter().fold(0.0, |sum, step| {
-        sum + step.localization.unwrap_or(0.0)
-            + step.missed.unwrap_or(0.0)
-            + step.false_.unwrap_or(0.0)
-    });
-    Ok(Bounds { lower, upper })
+    // One streaming pass: nothing per step is kept but the previous step's assigned pairs.
+    let mut lower = 0.0;
+    let mut changes = 0usize;
+    let mut first = true;
+    let mut previous: Vec<(u32, u32)> = Vec::new();
+    let mut current: Vec<(u32, u32)> = Vec::new();
+    for_each_step(truth, estimate, &gospa, distance, |_, score, xs, ys| {
+        lower += score.power;
+        current.clear();
+        current.extend(
+            score
+                .pairs
+                .iter()
+                .map(|&(i, j)| (xs[i].object, ys[j].object)),
+        );
+        current.sort_unstable();
+        // The first step's assignment is free: only changes between steps are charged.
+        if !first {
+            changes += symmetric_difference(&previous, &current);
+        }
+        first = false;
+        std::mem::swap(&mut previous, &mut current);
+    })?;
+    let held = lower + params.switch_cost() * changes as f64;
+    Ok(Bounds { lower, upper, held })
+}
+
+/// The number of pairs in one sorted list and not the other.
+fn symmetric_difference(a: &[(u32, u32)], b: &[(u32, u32)]) -> usize {
+    let (mut i, mut j, mut count) = (0, 0, 0);
+    while i < a.len() && j < b.len() {
+        match a[i].cmp(&b[j]) {
+            std::cmp::Ordering::Less => (i, count) = (i + 1, count + 1),
+            std::cmp::Ordering::Greater => (j, count) = (j + 1, count + 1),
+            std::cmp::Ordering::Equal => (i, j) = (i + 1, j + 1),
+        }
+    }
+    count + (a.len() - i) + (b.len() - j)
 }
 
 /// Checks a result against its bounds and itself; a pure function of its arguments.
@@ -73,7 +112,7 @@ pub fn bounds(
 /// finite, a negative part, parts that do not add up to the total, a total that differs from
 /// the engine's objective, a total above the upper or below the lower bound.
 pub fn check_consistency(score: &TrajectoryScore, bounds: &Bounds) -> Result<()> {
-    check_against(score, bounds, Some(score.lp_objective))
+    check_against(score, bounds, Some(score.lp_objective), true)
 }
 
 /// The same checks for a result whose total is not an LP engine's objective (the exact metric,
@@ -82,10 +121,18 @@ pub fn check_consistency(score: &TrajectoryScore, bounds: &Bounds) -> Result<()>
 /// # Errors
 /// As [`check_consistency`].
 pub fn check_integral(score: &TrajectoryScore, bounds: &Bounds) -> Result<()> {
-    check_against(score, bounds, None)
+    // A search stopped by its budget reports an incumbent, an upper bound that may well cost
+    // more than the held assignment: that comparison holds only for a proven optimum.
+    let proven = score.exact.as_ref().is_none_or(|exact| exact.proven);
+    check_against(score, bounds, None, proven)
 }
 
-fn check_against(score: &TrajectoryScore, bounds: &Bounds, objective: Option<f64>) -> Result<()> {
+fn check_against(
+    score: &TrajectoryScore,
+    bounds: &Bounds,
+    objective: Option<f64>,
+    optimal: bool,
+) -> Result<()> {
     let fail = |what: String| Err(Error::Solver(format!("consistency check failed: {what}")));
     let parts = [
         ("localisation", score.localization),
@@ -139,6 +186,16 @@ fn check_against(score: &TrajectoryScore, bounds: &Bounds, objective: Option<f64
             score.total,
             bounds.upper,
             tolerance(score.total, bounds.upper)
+        ));
+    }
+    let excess = score.total - bounds.held;
+    if optimal && excess > RELATIVE_TOLERANCE * score.total.abs().max(bounds.held.abs()) {
+        return fail(format!(
+            "the total {} exceeds by {excess:e} the cost {} of holding each step's own best \
+             assignment, so the LP engine missed the optimum; this happens when the cut-off is \
+             many orders of magnitude larger than the distances and the switching penalty \
+             (choose a cut-off nearer the errors a track may have while following an object)",
+            score.total, bounds.held
         ));
     }
     let shortfall = bounds.lower - score.total;
@@ -202,7 +259,21 @@ mod tests {
         assert!((bounds.lower - 4.0).abs() < 1e-12, "{bounds:?}");
         assert!((bounds.upper - 16.0).abs() < 1e-12, "{bounds:?}");
         assert!((result.total - 6.0).abs() < 1e-9, "{}", result.total);
+        // Holding each step's own assignment follows the swap too: 4 + 4 changes x 0.5 = 6.
+        assert!((bounds.held - 6.0).abs() < 1e-12, "{bounds:?}");
         check_consistency(&result, &bounds).unwrap();
+    }
+
+    #[test]
+    fn a_total_above_the_held_assignment_fails() {
+        // A doctored solution that pays more than an available feasible one: all parts raised
+        // together so that only the held-assignment check can object.
+        let (mut result, bounds) = solved();
+        result.localization += 1.0;
+        result.total += 1.0;
+        result.lp_objective += 1.0;
+        let text = message(check_consistency(&result, &bounds));
+        assert!(text.contains("holding each step's own best assignment"), "{text}");
     }
 
     fn message(result: Result<()>) -> String {

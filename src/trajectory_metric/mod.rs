@@ -450,6 +450,7 @@ pub fn score_with(
         let bounds = checks::Bounds {
             lower: bounds.lower.max(lp_total),
             upper: bounds.upper,
+            held: bounds.held,
         };
         checks::check_integral(&score, &bounds)?;
     }

@@ -205,3 +205,33 @@ mod per_step_axioms {
         }
     }
 }
+
+#[test]
+fn a_cut_off_far_above_the_distances_keeps_the_small_ones_exact() {
+    // X = {0, 10}, Y = {9, 1}, c = 1e9, p = 2: both pairs (0,1) and (10,9) are at distance 1,
+    // so GOSPA^p = 1 + 1 = 2 by the definition; the gains d^p - c^p (about -1e18) cannot tell
+    // the two matchings apart, so the assignment must not be chosen on them alone.
+    let s = gospa(1e9, 2.0, &[&[0.0], &[10.0]], &[&[9.0], &[1.0]]);
+    assert_relative_eq!(s.power, 2.0, max_relative = 1e-12);
+    assert_eq!(s.pairs, vec![(0, 1), (1, 0)]);
+    // X = {0, 0.5}, Y = {0.001, 0.5}, c = 1000, p = 2: localisation 0.001^2 = 1e-6.
+    let s = gospa(1000.0, 2.0, &[&[0.0], &[0.5]], &[&[0.001], &[0.5]]);
+    assert_relative_eq!(s.localization.unwrap(), 1e-6, max_relative = 1e-9);
+}
+
+#[test]
+fn an_lp_the_engine_cannot_resolve_is_refused_not_printed() {
+    // The crossing scene with c = 1e10, p = 2, gamma = 1: the true value is 2 (two full
+    // switches, as for any c > 10 by the definition), but c^p = 1e20 drowns the distances and
+    // the switch costs in the LP's coefficients. The result must be an error, not a number
+    // other than 2.
+    let (x, y) = crossing();
+    let params = TrajectoryParams::new(1e10, 2.0, 1.0).unwrap();
+    match score(&x, &y, &params, &Distance::default()) {
+        Ok(s) => assert_relative_eq!(s.total, 2.0, max_relative = 1e-9),
+        Err(error) => assert!(
+            matches!(error, switchyard::Error::Solver(_)),
+            "unexpected error {error}"
+        ),
+    }
+}
