@@ -563,14 +563,16 @@ impl Gate {
             }
             return;
         };
-        // Widened a little so that rounding in `x - reach` never drops a pair in reach.
         let reach = cutoff / factor * (1.0 + 1e-9);
         self.sorted.clear();
         self.sorted.extend((0..n).map(|j| (second(j)[0], j as u32)));
         self.sorted.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
         for i in 0..m {
             let x = first(i);
-            let (low, high) = (x[0] - reach, x[0] + reach);
+            // Widened by a few units in the last place of x, so that rounding in `x +- reach`
+            // never drops a pair in reach, however large the coordinates.
+            let slack = 4.0 * f64::EPSILON * x[0].abs();
+            let (low, high) = (x[0] - reach - slack, x[0] + reach + slack);
             let start = self.sorted.partition_point(|&(y, _)| y <= low);
             for &(y, j) in &self.sorted[start..] {
                 if y >= high {
@@ -632,13 +634,19 @@ mod tests {
         #![proptest_config(Config { cases: 300, rng_seed: RngSeed::Fixed(99), failure_persistence: None, ..Config::default() })]
 
         /// The gate finds exactly the pairs that comparing every pair finds (the definition of
-        /// "closer than the cut-off"), with the same distances.
+        /// "closer than the cut-off"), with the same distances, near the origin and far from it
+        /// (where the spacing of doubles approaches the cut-off).
         #[test]
         fn the_gate_finds_every_close_pair_and_no_other(
             first in prop::collection::vec(prop::collection::vec(-20.0f64..20.0, 2), 0..15),
             second in prop::collection::vec(prop::collection::vec(-20.0f64..20.0, 2), 0..25),
             cutoff in 0.5f64..12.0,
+            offset in prop::sample::select(vec![0.0, 1e12, -3e14, 1e15]),
         ) {
+            let shift = |v: &Vec<Vec<f64>>| -> Vec<Vec<f64>> {
+                v.iter().map(|p| vec![p[0] + offset, p[1]]).collect()
+            };
+            let (first, second) = (shift(&first), shift(&second));
             for distance in distances() {
                 let mut brute = Vec::new();
                 for (i, x) in first.iter().enumerate() {
