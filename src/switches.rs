@@ -11,9 +11,11 @@
 //! Pairing rule, applied to each truth (and, for jumps, to each estimate) separately:
 //! 1. Changes are taken in time order; at each step, decreases and increases of that step are
 //!    paired first, in order of estimate (truth) index, splitting fractional amounts.
-//! 2. An increase left over is paired with the earliest earlier decrease still unpaired, unless
-//!    both concern the same estimate; the event is reported at the increase's step. This is how
-//!    a track that breaks and resumes under a new id reads: one full switch when it resumes.
+//! 2. An increase left over first closes any unpaired decrease of the same estimate (it left
+//!    and came back: a half switch out at the decrease, one in at the increase), then is paired
+//!    with the most recent unpaired decreases of other estimates; the event is reported at the
+//!    increase's step. This is how a track that breaks and resumes under a new id reads: one
+//!    full switch when it resumes.
 //! 3. What is left is a half switch: a decrease "to none" at the step the weight drops, or an
 //!    increase "from none" at the step it rises.
 //!
@@ -159,13 +161,27 @@ fn pair_changes(changes: &[Change], out: &mut Vec<Transfer>) {
                 u += 1;
             }
         }
-        // 2. Left-over increases take earlier unpaired decreases of another partner.
+        // 2. A left-over increase first closes any unpaired decrease of the same partner (the
+        //    partner left and came back: two half switches), then takes the most recent
+        //    unpaired decreases of other partners.
         for &(partner, mut amount) in &increases[u..] {
-            for entry in pending.iter_mut() {
+            for entry in pending.iter_mut().filter(|entry| entry.1 == partner) {
+                if entry.2 > NEGLIGIBLE {
+                    out.push(Transfer {
+                        time: entry.0,
+                        owner,
+                        from: Some(partner),
+                        to: None,
+                        weight: entry.2,
+                    });
+                    entry.2 = 0.0;
+                }
+            }
+            for entry in pending.iter_mut().rev() {
                 if amount <= NEGLIGIBLE {
                     break;
                 }
-                if entry.1 == partner || entry.2 <= NEGLIGIBLE {
+                if entry.2 <= NEGLIGIBLE {
                     continue;
                 }
                 let moved = entry.2.min(amount);

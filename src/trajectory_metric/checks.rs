@@ -273,7 +273,10 @@ mod tests {
         result.total += 1.0;
         result.lp_objective += 1.0;
         let text = message(check_consistency(&result, &bounds));
-        assert!(text.contains("holding each step's own best assignment"), "{text}");
+        assert!(
+            text.contains("holding each step's own best assignment"),
+            "{text}"
+        );
     }
 
     fn message(result: Result<()>) -> String {

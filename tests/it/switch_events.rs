@@ -239,3 +239,34 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn a_track_that_leaves_and_returns_is_not_paired_with_a_later_one() {
+    // Truths a at 0 and b at 10 on steps 1-12. Track p follows a on 1-4, b on 5-6, a on 7,
+    // b from 8 on; track r follows b on 1-4; track q follows a from 9 on. c = 5, gamma = 1.
+    // Seen from a: p leaves at 5 and comes back at 7 (two half switches), leaves again at 8,
+    // and q takes over at 9: one full switch p -> q there, made of the drop at 8 (the most
+    // recent one), not of the drop at 5 that p's return already answered.
+    let x = lines(vec![line("a", 1, &[0.0; 12]), line("b", 1, &[10.0; 12])]);
+    let mut p = [10.0; 12];
+    p[..4].fill(0.0);
+    p[6] = 0.0;
+    let y = lines(vec![
+        line("p", 1, &p),
+        line("q", 9, &[0.0; 4]),
+        line("r", 1, &[10.0; 4]),
+    ]);
+    let s = solve(&x, &y, 5.0, 1.0);
+    let (switches, _) = events(&x, &y, &s);
+    let seen_from_a: Vec<&SwitchEvent> = switches.iter().filter(|e| e.truth == "a").collect();
+    assert_eq!(
+        seen_from_a,
+        vec![
+            &switch(5, "a", Some("p"), None, 0.5),
+            &switch(7, "a", None, Some("p"), 0.5),
+            &switch(9, "a", Some("p"), Some("q"), 1.0)
+        ]
+    );
+    let cost: f64 = switches.iter().map(|e| e.cost).sum();
+    assert_relative_eq!(cost, s.switching, max_relative = 1e-12);
+}
