@@ -85,7 +85,7 @@ pub struct CompareArgs {
     #[arg(long, short = 'g', value_name = "G,...", value_delimiter = ',')]
     switch_penalty: Option<Vec<f64>>,
     /// LP engine (highs only in builds with the `highs` feature).
-    #[arg(long, value_enum, default_value_t = EngineKind::Microlp)]
+    #[arg(long, value_enum, default_value_t = EngineKind::Auto)]
     engine: EngineKind,
     /// Also rank the trackers within each sequence.
     #[arg(long)]

@@ -250,7 +250,7 @@ pub(crate) fn parse_step(
     if time_step.is_none() {
         if let Ok(text) = std::str::from_utf8(field) {
             if let Ok(step) = text.parse::<i64>() {
-                if (step as f64).abs() <= MAX_STEP {
+                if step.unsigned_abs() <= MAX_STEP as u64 {
                     return Ok(step);
                 }
             }

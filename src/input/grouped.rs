@@ -116,6 +116,14 @@ pub fn read_grouped_csv<R: Read>(
 ) -> Result<GroupedFile> {
     check_group_names(layout, groups)?;
     let mut rows = Rows::open(reader, source, layout)?;
+    // The state columns are known only now when they are the defaults (x, y and maybe z).
+    for (what, name) in [("sequence", &groups.sequence), ("run", &groups.run)] {
+        if rows.columns.names.contains(name) {
+            return Err(Error::Parameter(format!(
+                "the {what} column {name:?} is also a state column"
+            )));
+        }
+    }
     let sequence_column = group_position(&rows.names, &groups.sequence, source)?;
     let run_column = group_position(&rows.names, &groups.run, source)?;
     let mut found: IndexMap<(String, String), GroupPoints> = IndexMap::new();
@@ -326,6 +334,21 @@ mod tests {
             error.to_string(),
             "g.csv, line 4, column 4 (\"x\"): expected a number, found \"bad\""
         );
+    }
+
+    #[test]
+    fn a_group_column_cannot_be_a_default_state_column() {
+        let columns = GroupColumns {
+            sequence: "sequence".into(),
+            run: "x".into(),
+        };
+        let error = read_grouped_csv(
+            &b"time,id,x,y\n0,p,0,0\n"[..],
+            "g.csv",
+            &CsvLayout::default(),
+            &columns,
+        );
+        assert!(matches!(error, Err(Error::Parameter(_))), "{error:?}");
     }
 
     #[test]

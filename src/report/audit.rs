@@ -4,7 +4,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{fixed, write_run_header, write_table, Exactness, InputInfo};
+use super::{count, fixed, write_run_header, write_table, Exactness, InputInfo};
 use crate::audit::{EstimateAudit, TruthAudit};
 use crate::trajectory::Step;
 use crate::trajectory_metric::TrajectoryParams;
@@ -144,7 +144,7 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
             vec![
                 t.rank.to_string(),
                 t.truth.clone(),
-                fixed(t.switches, 1),
+                count(t.switches),
                 t.longest_missed.to_string(),
                 format!("{}/{}", t.covered_steps, t.present_steps),
                 t.estimates.to_string(),

@@ -6,7 +6,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{csv_number, fixed, write_table};
+use super::{count, csv_number, fixed, write_table};
 use crate::compare::{
     Comparison, ResampleBy, SettingResult, StepsOverRuns, Summary, TrackerResult, Verdict,
 };
@@ -97,14 +97,6 @@ fn settings_line(p: &TrajectoryParams) -> String {
         "cut-off c = {}   order p = {}   switching penalty gamma = {}",
         p.cutoff, p.order, p.switch_penalty
     )
-}
-
-fn count(value: f64) -> String {
-    if value.fract() == 0.0 {
-        format!("{value:.0}")
-    } else {
-        fixed(value, 3)
-    }
 }
 
 const SUMMARY_HEADER: [&str; 11] = [

@@ -51,6 +51,16 @@ pub fn write_run_header<W: std::io::Write>(
     )
 }
 
+/// Formats a count that may be fractional (object-steps or switches of a fractional LP
+/// solution): whole numbers without decimals, others with three.
+pub fn count(value: f64) -> String {
+    if value.fract() == 0.0 {
+        format!("{value:.0}")
+    } else {
+        fixed(value, 3)
+    }
+}
+
 /// Formats a number for text tables: fixed decimals, no negative zero.
 pub fn fixed(value: f64, decimals: usize) -> String {
     let text = format!("{value:.decimals$}");

@@ -4,7 +4,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{fixed, write_run_header, Exactness, InputInfo};
+use super::{count, fixed, write_run_header, Exactness, InputInfo};
 use crate::switches::{JumpEvent, SwitchEvent};
 use crate::trajectory::Window;
 use crate::trajectory_metric::{SolveStats, TrajectoryParams, TrajectoryScore};
@@ -92,14 +92,6 @@ impl<'a> ScoreDocument<'a> {
 pub fn write_json<W: Write>(out: &mut W, document: &ScoreDocument) -> std::io::Result<()> {
     serde_json::to_writer_pretty(&mut *out, document)?;
     writeln!(out)
-}
-
-fn count(value: f64) -> String {
-    if value.fract() == 0.0 {
-        format!("{value:.0}")
-    } else {
-        fixed(value, 3)
-    }
 }
 
 /// Text: a compact summary.
