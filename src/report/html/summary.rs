@@ -146,6 +146,13 @@ pub(super) fn section(out: &mut String, report: &Report) {
         format!("{u}<sup>p</sup>")
     };
     let mut rows: Vec<Row> = Vec::new();
+    // Values normalised per step compare only over one window: a tracker whose output reaches
+    // beyond the others' spreads its cost over more steps.
+    let same_window = report
+        .trackers
+        .iter()
+        .all(|t| t.score.window == first.score.window);
+    let per_window = |value: f64| same_window.then_some(value);
     rows.push(Row {
         file: true,
         ..row("estimate file", report, |t| (esc(&t.source), None))
@@ -176,7 +183,12 @@ pub(super) fn section(out: &mut String, report: &Report) {
     rows.push(row(
         &format!("per step, (d<sup>p</sup> / steps)<sup>1/p</sup> ({u})"),
         report,
-        |t| (svg::value(t.score.per_step, dec), Some(t.score.per_step)),
+        |t| {
+            (
+                svg::value(t.score.per_step, dec),
+                per_window(t.score.per_step),
+            )
+        },
     ));
     rows.push(Row {
         group: true,
@@ -252,7 +264,7 @@ pub(super) fn section(out: &mut String, report: &Report) {
         ..row(&format!("mean per-step GOSPA ({u})"), report, |t| {
             (
                 svg::value(t.steps.summary.mean, dec),
-                Some(t.steps.summary.mean),
+                per_window(t.steps.summary.mean),
             )
         })
     });
