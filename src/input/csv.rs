@@ -583,7 +583,7 @@ impl LineIndex {
         }
     }
 
-    fn feed(&mut self, bytes: &[u8]) {
+    pub(crate) fn feed(&mut self, bytes: &[u8]) {
         let mut k = 0;
         while k < bytes.len() {
             if self.at_line_start {

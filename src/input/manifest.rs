@@ -17,6 +17,7 @@ use std::path::{Path, PathBuf};
 
 use serde::Deserialize;
 
+use super::csv::LineIndex;
 use crate::error::{Error, Location, Result};
 
 /// One line of a manifest.
@@ -139,11 +140,15 @@ pub fn read_manifest_csv(text: &[u8], source: &str, base: &Path) -> Result<Manif
     let run = find("run")?;
     let mut entries = Vec::new();
     let mut record = csv::ByteRecord::new();
+    // Physical line numbers whatever the line ends (the parser's own count is off after CRLF
+    // and CR line ends).
+    let mut lines = LineIndex::new();
+    lines.feed(text);
     while reader
         .read_byte_record(&mut record)
         .map_err(|e| csv_problem(e, source))?
     {
-        let line = record.position().map_or(0, |p| p.line());
+        let line = lines.line_at(record.position().map_or(0, |p| p.byte()));
         if record.len() == 1 && record.get(0) == Some(b"") {
             continue;
         }
@@ -308,6 +313,17 @@ mod tests {
             error.to_string(),
             "m.csv, line 2, column 4 (\"estimate\"): the value is empty"
         );
+        // The same empty value on physical line 3, after CRLF and after CR-only line ends.
+        for text in [
+            &b"tracker,sequence,truth,estimate\r\nA,s1,t.csv,a.csv\r\nB,s1,t.csv,\r\n"[..],
+            &b"tracker,sequence,truth,estimate\rA,s1,t.csv,a.csv\rB,s1,t.csv,\r"[..],
+        ] {
+            let error = read_manifest_csv(text, "m.csv", Path::new("")).unwrap_err();
+            assert_eq!(
+                error.to_string(),
+                "m.csv, line 3, column 4 (\"estimate\"): the value is empty"
+            );
+        }
         let error =
             read_manifest_csv(b"tracker,truth,estimate\n", "m.csv", Path::new("")).unwrap_err();
         assert!(
