@@ -130,6 +130,16 @@ pub fn audit(
             }
         }
     }
+    // Each truth's switches, full 1 and half 0.5, weighted: one pass over the events.
+    let mut switch_totals: std::collections::HashMap<&str, f64> = Default::default();
+    for e in switches {
+        let units = if e.from.is_some() && e.to.is_some() {
+            e.weight
+        } else {
+            e.weight / 2.0
+        };
+        *switch_totals.entry(e.truth.as_str()).or_default() += units;
+    }
     let mut followed: Vec<Vec<(Step, usize)>> = vec![Vec::new(); estimate.len()];
     let mut truths = Vec::with_capacity(truth.len());
     for (i, trajectory) in truth.trajectories().iter().enumerate() {
@@ -192,17 +202,7 @@ pub fn audit(
         }
         close_errors(&mut covered, &mut errors);
         let covered_steps: usize = covered.iter().map(|s| s.steps).sum();
-        let switch_total: f64 = switches
-            .iter()
-            .filter(|e| e.truth == trajectory.id())
-            .map(|e| {
-                if e.from.is_some() && e.to.is_some() {
-                    e.weight
-                } else {
-                    e.weight / 2.0
-                }
-            })
-            .sum();
+        let switch_total = switch_totals.get(trajectory.id()).copied().unwrap_or(0.0);
         truths.push(TruthAudit {
             rank: 0,
             truth: trajectory.id().to_string(),

@@ -330,7 +330,8 @@ impl Distance {
         let plain = self.between_plain(a, b);
         let trusted = match self {
             // Below 1e-135 the sum of squares (< 1e-270) may hold squares that underflowed.
-            Distance::Euclidean { .. } => plain.is_finite() && plain > 1e-135,
+            // Coincident states (common with a good tracker) need no second pass.
+            Distance::Euclidean { .. } => plain.is_finite() && (plain > 1e-135 || a == b),
             Distance::Manhattan { .. } | Distance::Chebyshev { .. } => plain.is_finite(),
             Distance::Iou(_) | Distance::Geodesic => true,
         };

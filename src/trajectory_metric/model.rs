@@ -17,7 +17,7 @@
 //!   its last), one per maximal run of close steps at which no other pair of the same truth or
 //!   estimate is close, and one per remaining ("contested") close step.
 
-use std::collections::HashMap;
+use rustc_hash::FxHashMap;
 
 use super::pairs::CandidatePair;
 use crate::trajectory::{Step, Window};
@@ -278,8 +278,8 @@ fn event_cuts(
     window: Window,
 ) -> Vec<Vec<(Step, Step, bool)>> {
     // How many pairs of each truth and of each estimate are close at each step.
-    let mut truth_steps: HashMap<(usize, Step), u32> = HashMap::new();
-    let mut estimate_steps: HashMap<(usize, Step), u32> = HashMap::new();
+    let mut truth_steps: FxHashMap<(usize, Step), u32> = FxHashMap::default();
+    let mut estimate_steps: FxHashMap<(usize, Step), u32> = FxHashMap::default();
     for &m in members {
         let pair = &pairs[m];
         for close in &pair.close {

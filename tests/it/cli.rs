@@ -71,6 +71,13 @@ fn score_json_keeps_its_contract_and_its_parts_add_up() {
         "params",
         "switches",
         "jumps",
+        "inputs",
+        "window",
+        "engine",
+        "lp",
+        "lp_total",
+        "exact_total",
+        "exact",
     ] {
         assert!(doc.get(key).is_some(), "missing key {key}");
     }

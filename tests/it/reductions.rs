@@ -98,11 +98,23 @@ proptest! {
         let yx = score(&y, &x, &params, &d).unwrap().metric;
         prop_assert!((xy - yx).abs() <= 1e-7 * xy.max(1.0));
         if x != y && !(x.is_empty() && y.is_empty()) {
-            // Distinct sets of points are at a positive distance unless they differ only in ids.
+            // A set that differs only in its ids is at distance zero: the metric sees states.
             let relabelled = TrajectorySet::new(x.dim(), x.trajectories().iter().map(|t| {
                 Trajectory::new(format!("e{}", t.id()), t.dim(), t.points().map(|(k, s)| (k, s.to_vec())).collect()).unwrap()
             }).collect()).unwrap();
             prop_assert_eq!(score(&x, &relabelled, &params, &d).unwrap().total, 0.0);
+            // Sets of trajectories that differ (ids aside) are at a positive distance when
+            // gamma > 0 (with gamma = 0 it is only a pseudometric).
+            let shape = |set: &TrajectorySet| {
+                let mut all: Vec<Vec<(i64, Vec<f64>)>> = set.trajectories().iter()
+                    .map(|t| t.points().map(|(k, s)| (k, s.to_vec())).collect())
+                    .collect();
+                all.sort_by(|a, b| a.partial_cmp(b).unwrap());
+                all
+            };
+            if params.switch_penalty > 0.0 && shape(&x) != shape(&y) {
+                prop_assert!(xy > 0.0, "distinct sets at distance {xy}");
+            }
         }
     }
 
