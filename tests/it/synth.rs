@@ -196,3 +196,28 @@ fn demo_data_equals_a_fresh_regeneration() {
         assert!(committed.len() < 300_000, "demo-data/{name}");
     }
 }
+
+#[test]
+fn monte_carlo_demo_equals_a_fresh_regeneration() {
+    // demo-data/runs/make.sh documents how the Monte Carlo demo was made; running it again
+    // with this build must give the committed bytes.
+    let root = env!("CARGO_MANIFEST_DIR");
+    let dir = tempfile::tempdir().unwrap();
+    let status = std::process::Command::new("bash")
+        .arg(format!("{root}/demo-data/runs/make.sh"))
+        .arg(env!("CARGO_BIN_EXE_switchyard"))
+        .arg(dir.path())
+        .current_dir(root)
+        .status()
+        .unwrap();
+    assert!(status.success());
+    for tracker in ["swaps", "fragments"] {
+        let name = format!("tracker-{tracker}.csv");
+        let fresh = std::fs::read(dir.path().join(&name)).unwrap();
+        let committed = std::fs::read(format!("{root}/demo-data/runs/{name}")).unwrap();
+        assert!(
+            fresh == committed,
+            "{name} differs from a fresh regeneration"
+        );
+    }
+}
