@@ -1,39 +1,60 @@
 //! Times the whole trajectory-metric pipeline on the generator's benchmark scenes and prints the
-//! LP sizes: `cargo run --release --example scale -- small|medium|large [seed] [engine]`.
-//! Memory: run it under `/usr/bin/time -v` and read "Maximum resident set size".
+//! sizes, the certificate and where the time goes:
+//!
+//! `cargo run --release --example scale -- SCENE [seed] [engine] [cutoff] [gamma]`
+//!
+//! SCENE is `small`, `medium`, `large` or `STEPSxOBJECTS` (for example `10000x100`: that many
+//! steps with about that many objects a step, the large preset's density and tracker); engine
+//! is `lagrangian` (the default), `microlp` or `highs`; cutoff defaults to 10 and gamma to the
+//! cut-off. Memory: run it under `/usr/bin/time -v` and read "Maximum resident set size".
 
 use std::time::Instant;
 
 use switchyard::distance::Distance;
-use switchyard::synth::{generate_scene, ScenePreset};
+use switchyard::synth::{generate_truth, imitate_tracker, SceneConfig, ScenePreset, TrackerConfig};
 use switchyard::trajectory_metric::{score_with, Engine, SolveOptions, TrajectoryParams};
 
 fn main() {
     let args: Vec<String> = std::env::args().collect();
-    let preset = match args.get(1).map(String::as_str).unwrap_or("small") {
-        "small" => ScenePreset::Small,
-        "medium" => ScenePreset::Medium,
-        "large" => ScenePreset::Large,
-        other => panic!("unknown preset {other}"),
+    let scene = args.get(1).map_or("small", String::as_str);
+    let (config, tracker) = match scene {
+        "small" => preset(ScenePreset::Small),
+        "medium" => preset(ScenePreset::Medium),
+        "large" => preset(ScenePreset::Large),
+        other => {
+            let (steps, objects) = other
+                .split_once('x')
+                .and_then(|(s, o)| Some((s.parse().ok()?, o.parse().ok()?)))
+                .unwrap_or_else(|| panic!("unknown scene {other}: small, medium, large or NxM"));
+            (
+                SceneConfig::spaced(steps, objects),
+                TrackerConfig::preset(ScenePreset::Large),
+            )
+        }
     };
-    let seed: u64 = args.get(2).map_or(1, |s| s.parse().unwrap());
-    let engine = match args.get(3).map(String::as_str).unwrap_or("microlp") {
+    let seed: u64 = args.get(2).map_or(1, |s| s.parse().expect("a seed"));
+    let engine = match args.get(3).map_or("lagrangian", String::as_str) {
         "highs" => Engine::Highs,
-        _ => Engine::Microlp,
+        "microlp" => Engine::Microlp,
+        _ => Engine::Lagrangian,
     };
+    let cutoff: f64 = args.get(4).map_or(10.0, |s| s.parse().expect("a cut-off"));
+    let gamma: f64 = args.get(5).map_or(cutoff, |s| s.parse().expect("a gamma"));
     let started = Instant::now();
-    let (truth, estimate) = generate_scene(preset, seed);
+    let truth = generate_truth(&config, seed).expect("a valid scene");
+    let estimate = imitate_tracker(&truth, &tracker, seed).expect("a valid tracker");
     let generated = started.elapsed();
-    let params = TrajectoryParams::new(10.0, 1.0, 10.0).unwrap();
+    let params = TrajectoryParams::new(cutoff, 1.0, gamma).expect("valid parameters");
     let options = SolveOptions {
         engine,
         ..SolveOptions::default()
     };
     let started = Instant::now();
-    let score = score_with(&truth, &estimate, &params, &Distance::default(), &options).unwrap();
+    let score =
+        score_with(&truth, &estimate, &params, &Distance::default(), &options).expect("a score");
     let solved = started.elapsed();
     println!(
-        "{preset:?} seed {seed}: {} truths, {} tracks, {} + {} object-steps, generated in {:.3} s",
+        "{scene} seed {seed}: {} truths, {} tracks, {} + {} object-steps, generated in {:.3} s",
         truth.len(),
         estimate.len(),
         truth.object_steps(),
@@ -41,12 +62,29 @@ fn main() {
         generated.as_secs_f64()
     );
     println!(
-        "engine {}: scored in {:.3} s; d^p = {:.6}, integral {}, switches {}",
+        "engine {} (c = {cutoff}, gamma = {gamma}): scored in {:.3} s; d^p = {:.6}, integral {}, switches {}",
         engine.name(),
         solved.as_secs_f64(),
         score.total,
         score.integral,
         score.switch_count
     );
-    println!("{:?}", score.stats);
+    let s = &score.stats;
+    println!(
+        "time: pairs {:.3} s, shortest paths {:.3} s, repair {:.3} s, simplex {:.3} s \
+         (engine seconds are summed over groups solved in parallel)",
+        s.pairs_seconds, s.paths_seconds, s.repair_seconds, s.simplex_seconds
+    );
+    println!("{:?}", score.certificate);
+    println!(
+        "pairs {}, groups {}, cells {}, LP groups {}, LP variables {}",
+        s.candidate_pairs, s.components, s.cells, s.lp_components, s.variables
+    );
+    for note in &score.notes {
+        println!("note: {note}");
+    }
+}
+
+fn preset(preset: ScenePreset) -> (SceneConfig, TrackerConfig) {
+    (SceneConfig::preset(preset), TrackerConfig::preset(preset))
 }

@@ -81,6 +81,9 @@ pub enum Error {
     /// The LP solver failed or returned a solution that does not pass the checks.
     #[error("LP solver: {0}")]
     Solver(String),
+    /// The work would not fit the memory budget; the message says why and what to do.
+    #[error("over the memory budget: {0}")]
+    Budget(String),
 }
 
 impl Error {

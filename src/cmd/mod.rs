@@ -2,7 +2,8 @@
 //!
 //! Exit codes: 0 success; 1 bad input or parameters (the message names file, line and column
 //! where it applies); 2 a command line that does not parse; 3 an internal failure (the LP
-//! solver failed, or a result did not pass its consistency checks).
+//! solver failed, or a result did not pass its consistency checks); 4 the work would not fit the
+//! memory budget (the message says why and what to do).
 
 use std::io::Write;
 use std::path::PathBuf;
@@ -264,9 +265,15 @@ pub struct MetricArgs {
     /// Switching penalty gamma >= 0: a full switch costs gamma^p [default: the cut-off].
     #[arg(long, short = 'g', value_name = "G")]
     pub switch_penalty: Option<f64>,
-    /// LP engine: auto picks HiGHS when this build has it (`--features highs`), else microlp.
+    /// LP engine: auto proves each group's value by Lagrangian bounds (pure Rust, fast on long
+    /// crowded scenes) and hands a group it cannot prove to HiGHS when built in, else microlp.
     #[arg(long, value_enum, default_value_t = EngineKind::Auto)]
     pub engine: EngineKind,
+    /// Memory the solve may use for its models, like `4G` or `500M`: a group whose simplex
+    /// proof would need more is reported with its bounds instead, and a scene whose candidate
+    /// pairs alone would need more is refused (exit 4) with the reason.
+    #[arg(long, value_name = "SIZE", default_value = "4G", value_parser = parse_size)]
+    pub memory_budget: u64,
     /// Compute the exact trajectory GOSPA: groups whose LP optimum is fractional are solved
     /// again as integer programs (branch and bound).
     #[arg(long)]
@@ -302,10 +309,36 @@ fn parse_budget(text: &str) -> Result<ExactBudget, String> {
         .map_err(|_| format!("the seconds must be a number >= 0 and below 10^19, got {text:?}"))
 }
 
+/// Reads a memory size: a number with an optional unit K, M, G or T (powers of 1024; a
+/// trailing `B` or `iB` is allowed).
+pub fn parse_size(text: &str) -> Result<u64, String> {
+    let bad = || format!("expected a size like `4G`, `500M` or `2048K`, got {text:?}");
+    let upper = text.trim().to_ascii_uppercase();
+    let number = upper
+        .trim_end_matches("IB")
+        .trim_end_matches('B')
+        .trim_end();
+    let (digits, shift) = match number.chars().last() {
+        Some('K') => (&number[..number.len() - 1], 10),
+        Some('M') => (&number[..number.len() - 1], 20),
+        Some('G') => (&number[..number.len() - 1], 30),
+        Some('T') => (&number[..number.len() - 1], 40),
+        _ => (number, 0),
+    };
+    let value: f64 = digits.trim().parse().map_err(|_| bad())?;
+    let bytes = value * (1u64 << shift) as f64;
+    if !(1.0..1.8e19).contains(&bytes) {
+        return Err(format!(
+            "the size must be at least 1 byte and below 16E, got {text:?}"
+        ));
+    }
+    Ok(bytes as u64)
+}
+
 /// LP engines on the command line.
 #[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
 pub enum EngineKind {
-    /// HiGHS if built in, else microlp.
+    /// The Lagrangian engine; groups it cannot prove go to HiGHS if built in, else microlp.
     Auto,
     /// microlp, pure Rust (always available).
     Microlp,
@@ -327,11 +360,6 @@ impl TrajectoryArgs {
     /// The checked parameters; the switching penalty defaults to the cut-off.
     pub fn params(&self) -> anyhow::Result<switchyard::trajectory_metric::TrajectoryParams> {
         self.metric.params()
-    }
-
-    /// The exact-metric budget, when `--exact` is given.
-    pub fn exact(&self) -> Option<ExactBudget> {
-        self.metric.exact()
     }
 
     /// The engine's name for output.
@@ -359,6 +387,50 @@ impl MetricArgs {
     /// The engine's name for output.
     pub fn engine_name(&self) -> &'static str {
         switchyard::trajectory_metric::Engine::from(self.engine).name()
+    }
+
+    /// How the trajectory LP is solved.
+    pub fn solve_options(&self) -> switchyard::trajectory_metric::SolveOptions {
+        switchyard::trajectory_metric::SolveOptions {
+            engine: self.engine.into(),
+            exact: self.exact(),
+            memory_budget: self.memory_budget,
+            ..Default::default()
+        }
+    }
+}
+
+/// A progress display on standard error for long solves, when it is a terminal: groups done,
+/// and the iterations of the Lagrangian engine on the largest group under way.
+pub fn solve_progress() -> impl Fn(switchyard::trajectory_metric::Progress) + Sync {
+    use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+    use std::io::IsTerminal;
+    use switchyard::trajectory_metric::Progress;
+    let bar = if std::io::stderr().is_terminal() {
+        ProgressBar::with_draw_target(Some(0), ProgressDrawTarget::stderr())
+    } else {
+        ProgressBar::hidden()
+    };
+    bar.set_style(
+        ProgressStyle::with_template("solving {bar:30} {pos}/{len} groups {msg} [{elapsed}]")
+            .expect("a valid template"),
+    );
+    let largest = std::sync::atomic::AtomicUsize::new(0);
+    move |event| match event {
+        Progress::Started { components } => bar.set_length(components as u64),
+        Progress::Iteration { cells, iteration } => {
+            use std::sync::atomic::Ordering::Relaxed;
+            if cells >= largest.load(Relaxed) {
+                largest.store(cells, Relaxed);
+                bar.set_message(format!("(largest: {cells} cells, iteration {iteration})"));
+            }
+        }
+        Progress::ComponentDone => {
+            bar.inc(1);
+            if bar.position() >= bar.length().unwrap_or(0) {
+                bar.finish_and_clear();
+            }
+        }
     }
 }
 
@@ -468,6 +540,7 @@ pub fn main() -> ExitCode {
 fn exit_code(error: &anyhow::Error) -> u8 {
     match error.downcast_ref::<Error>() {
         Some(Error::Solver(_)) => 3,
+        Some(Error::Budget(_)) => 4,
         _ => 1,
     }
 }

@@ -8,7 +8,6 @@ use clap::Args;
 
 use switchyard::input::read_csv_path;
 use switchyard::report::html::{render, Limits, Report, TrackerResults};
-use switchyard::trajectory_metric::SolveOptions;
 
 use super::compare::tracker_name;
 use super::{CsvOptions, DistanceOptions, MetricArgs, OutputArgs};
@@ -62,11 +61,7 @@ pub fn run(args: &ReportArgs) -> anyhow::Result<()> {
     layout.distance = Some(distance.clone());
     let truth = read_csv_path(&args.truth, &layout)?;
     distance.validate(truth.set.dim(), params.cutoff)?;
-    let options = SolveOptions {
-        engine: args.metric.engine.into(),
-        exact: args.metric.exact(),
-        ..SolveOptions::default()
-    };
+    let options = args.metric.solve_options();
     let mut trackers = Vec::with_capacity(named.len());
     for (name, file) in named {
         let estimate = read_csv_path(&file, &layout)?;

@@ -4,7 +4,7 @@ use clap::Args;
 
 use switchyard::report::{score, InputInfo};
 use switchyard::switches::{jump_events, switch_events};
-use switchyard::trajectory_metric::{score_with, SolveOptions, TrajectoryScore};
+use switchyard::trajectory_metric::{score_with_progress, TrajectoryScore};
 
 use super::{Format, Inputs, OutputArgs, TrajectoryArgs};
 
@@ -24,18 +24,17 @@ pub struct ScoreArgs {
 pub fn compute(args: &TrajectoryArgs) -> anyhow::Result<(Inputs, TrajectoryScore)> {
     let params = args.params()?;
     let inputs = args.input.read(params.cutoff)?;
-    let options = SolveOptions {
-        engine: args.metric.engine.into(),
-        exact: args.exact(),
-        ..SolveOptions::default()
-    };
-    let result = score_with(
+    let result = score_with_progress(
         &inputs.truth.set,
         &inputs.estimate.set,
         &params,
         &inputs.distance,
-        &options,
+        &args.metric.solve_options(),
+        &super::solve_progress(),
     )?;
+    for note in &result.notes {
+        eprintln!("switchyard: note: {note}");
+    }
     Ok((inputs, result))
 }
 

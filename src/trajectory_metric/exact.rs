@@ -320,8 +320,10 @@ pub(crate) fn solve_integer(
     if warm {
         raise_greedily(program, &segment, &rows_of, lp_values, &mut start);
     }
-    let found = match engine {
-        Engine::Microlp => microlp_search(program, &segment, warm.then_some(&start[..]), limit)?,
+    let found = match engine.simplex() {
+        Engine::Lagrangian | Engine::Microlp => {
+            microlp_search(program, &segment, warm.then_some(&start[..]), limit)?
+        }
         Engine::Highs => highs_search(program, &segment, warm.then_some(&start[..]), limit)?,
     };
     let start_cost = cost(&start);

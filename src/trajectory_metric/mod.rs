@@ -9,13 +9,18 @@
 //!
 //! The LP is solved after exact reductions ([`pairs`], [`model`]; proofs in
 //! specs/trajectory-lp.md): pairs never close are fixed to zero, the rest split into connected
-//! components solved independently (in parallel), and each component is event-compressed.
+//! components solved independently (in parallel). The default engine ([`lagrangian`]) solves a
+//! component by one shortest path per truth under Lagrangian prices and proves its answer by a
+//! lower and an upper bound that meet; a component it does not prove is event-compressed and
+//! handed to a simplex engine ([`solve`]) when its LP fits the memory budget, and reported with
+//! its bounds otherwise. Every score carries its [`Certificate`].
 //!
 //! With [`SolveOptions::exact`], components whose LP optimum is fractional are solved again as
 //! integer programs ([`exact`]), and the score reports the exact metric with its certificate.
 
 pub mod checks;
 pub mod exact;
+pub mod lagrangian;
 pub mod model;
 pub mod pairs;
 pub mod solve;
@@ -38,6 +43,14 @@ use crate::trajectory::{evaluation_window, Step, TrajectorySet, Window};
 const SNAP: f64 = 1e-9;
 /// A solution is integral when every weight is this close to 0 or 1.
 const INTEGRAL_TOLERANCE: f64 = 1e-6;
+/// The default memory budget of one score: 4 GiB, which fits a laptop.
+pub const DEFAULT_MEMORY_BUDGET: u64 = 4 << 30;
+/// Bytes a simplex engine needs per variable of the compressed LP, with a margin (measured:
+/// about 1.8 kB for microlp and 2.3 kB for HiGHS on the large benchmark scene).
+const BYTES_PER_LP_VARIABLE: u64 = 3000;
+/// Bytes the Lagrangian engine needs per cell (gain, price, occupancy, back-pointer) and per
+/// close step of a candidate pair, with a margin.
+const BYTES_PER_CELL: u64 = 48;
 
 /// The parameters of trajectory GOSPA.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize)]
@@ -107,6 +120,12 @@ pub struct SolveOptions {
     /// Compute the exact (integral) metric within this budget: components whose LP optimum is
     /// fractional are solved again as integer programs. `None`: the LP only.
     pub exact: Option<ExactBudget>,
+    /// Bytes the solve may use for its models ([`DEFAULT_MEMORY_BUDGET`]): a simplex fallback
+    /// that would need more is not started (the component is reported with its bounds), and a
+    /// problem whose candidate pairs alone would need more is refused before they are built.
+    pub memory_budget: u64,
+    /// Subgradient iterations of the Lagrangian engine per component, at most.
+    pub max_iterations: usize,
 }
 
 impl Default for SolveOptions {
@@ -117,6 +136,8 @@ impl Default for SolveOptions {
             split_components: true,
             keep_far_pairs: false,
             exact: None,
+            memory_budget: DEFAULT_MEMORY_BUDGET,
+            max_iterations: lagrangian::Settings::default().max_iterations,
         }
     }
 }
@@ -222,6 +243,62 @@ pub struct SolveStats {
     pub nonzeros: usize,
     /// Variables of the largest component.
     pub largest_variables: usize,
+    /// Cells of the Lagrangian engine's shortest-path model (truth-steps in pairs' windows).
+    pub cells: usize,
+    /// Seconds spent finding the candidate pairs and components (not serialised: output must
+    /// not depend on the machine's speed).
+    #[serde(skip)]
+    pub pairs_seconds: f64,
+    /// Seconds in the Lagrangian engine's shortest paths, summed over components.
+    #[serde(skip)]
+    pub paths_seconds: f64,
+    /// Seconds in the Lagrangian engine's greedy repairs, summed over components.
+    #[serde(skip)]
+    pub repair_seconds: f64,
+    /// Seconds in simplex solves, summed over components.
+    #[serde(skip)]
+    pub simplex_seconds: f64,
+}
+
+/// How a component was solved.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Method {
+    /// A lone pair: full weight throughout, optimal by inspection.
+    ClosedForm,
+    /// The Lagrangian bounds met.
+    Lagrangian,
+    /// A simplex engine solved its LP.
+    Simplex,
+    /// Not proven: only bounds.
+    Bounded,
+}
+
+/// The proof behind a score: bounds of the LP optimum and how each component was solved.
+///
+/// `lower <= LP optimum <= upper = total`. When `proven`, `upper - lower` is within the
+/// tolerance (1e-9 of the value) and `total` is the LP optimum; a proven integral assignment is
+/// also the exact metric.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
+pub struct Certificate {
+    /// True when every component's value is proven optimal.
+    pub proven: bool,
+    /// A proven lower bound of the LP optimum, d^p.
+    pub lower: f64,
+    /// d^p of the assignment reported (the total): an upper bound of the LP optimum and, when
+    /// the assignment is integral, of the exact metric.
+    pub upper: f64,
+    /// (upper - lower) / upper, 0 when upper is 0.
+    pub gap: f64,
+    /// Components solved in closed form (a lone pair).
+    pub closed_form: usize,
+    /// Components proven by the Lagrangian engine's bounds.
+    pub lagrangian: usize,
+    /// Components solved by a simplex engine.
+    pub simplex: usize,
+    /// Components not proven: reported with bounds only.
+    pub bounded: usize,
+    /// Subgradient iterations, the most any component needed.
+    pub iterations: usize,
 }
 
 /// Trajectory GOSPA and its parts.
@@ -268,6 +345,11 @@ pub struct TrajectoryScore {
     pub exact: Option<ExactSummary>,
     /// LP sizes.
     pub stats: SolveStats,
+    /// The bounds that prove the value, and how each component was solved.
+    pub certificate: Certificate,
+    /// Notes for the user about components that could not be proven (why, and what to do).
+    #[serde(skip)]
+    pub notes: Vec<String>,
     /// The per-step weights.
     #[serde(skip)]
     pub assignment: Assignment,
@@ -310,6 +392,11 @@ pub fn score(
 struct ComponentSolution {
     pairs: Vec<PairAssignment>,
     objective: f64,
+    /// A proven lower bound of the component's LP optimum (gain form).
+    lower: f64,
+    method: Method,
+    iterations: usize,
+    note: Option<String>,
     stats: SolveStats,
     /// With [`SolveOptions::exact`], a component whose LP optimum is fractional, kept for the
     /// integer pass.
@@ -333,6 +420,25 @@ struct ExactComponent {
     nodes: u64,
 }
 
+/// What a long solve reports as it goes (for a progress display; the library never prints).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Progress {
+    /// The components are known: how many need an engine, and the cells of the largest.
+    Started {
+        /// Components that need an engine (not a lone pair).
+        components: usize,
+    },
+    /// One more subgradient iteration on a component with this many cells.
+    Iteration {
+        /// Cells of the component.
+        cells: usize,
+        /// Iterations done on it.
+        iteration: usize,
+    },
+    /// A component is solved.
+    ComponentDone,
+}
+
 /// Trajectory GOSPA with chosen solve options.
 ///
 /// # Errors
@@ -344,6 +450,21 @@ pub fn score_with(
     distance: &Distance,
     options: &SolveOptions,
 ) -> Result<TrajectoryScore> {
+    score_with_progress(truth, estimate, params, distance, options, &|_| {})
+}
+
+/// [`score_with`], telling `progress` how the solve goes.
+///
+/// # Errors
+/// As [`score_with`]; also a problem whose candidate pairs would not fit the memory budget.
+pub fn score_with_progress(
+    truth: &TrajectorySet,
+    estimate: &TrajectorySet,
+    params: &TrajectoryParams,
+    distance: &Distance,
+    options: &SolveOptions,
+    progress: &(dyn Fn(Progress) + Sync),
+) -> Result<TrajectoryScore> {
     if options.keep_far_pairs && options.reduction == Reduction::Events {
         return Err(Error::Parameter(
             "far pairs can be kept only without event compression".into(),
@@ -351,7 +472,9 @@ pub fn score_with(
     }
     if !options.engine.available() {
         return Err(Error::Parameter(format!(
-            "this build has no {} engine",
+            "this build has no {} engine; build one with `cargo build --release --features {}` \
+             (needs cmake, a C++ compiler and libclang), or use --engine lagrangian",
+            options.engine.name(),
             options.engine.name()
         )));
     }
@@ -359,8 +482,18 @@ pub fn score_with(
     distance.check_inputs(truth, estimate, params.cutoff)?;
     let Some(window) = window else {
         let empty = finish(params, None, Vec::new(), 0.0, SolveStats::default(), 0, 0);
+        let empty = certify(empty, &[], 0.0);
         return Ok(with_exact(empty, Vec::new(), options, params, (0, 0)));
     };
+    let started = Instant::now();
+    check_pair_budget(
+        truth,
+        estimate,
+        window,
+        params,
+        distance,
+        options.memory_budget,
+    )?;
     let mut pairs = candidate_pairs(
         truth,
         estimate,
@@ -394,26 +527,50 @@ pub fn score_with(
     } else {
         vec![(0..pairs.len()).collect()]
     };
+    let pairs_seconds = started.elapsed().as_secs_f64();
+    progress(Progress::Started {
+        components: groups.iter().filter(|g| g.len() > 1).count(),
+    });
+    let sets = (truth, estimate);
     let solved: Vec<ComponentSolution> = groups
         .par_iter()
-        .map(|members| solve_component(&pairs, members, window, params, options))
+        .map(|members| {
+            let solution =
+                solve_component(&pairs, members, window, params, options, sets, progress);
+            if members.len() > 1 {
+                progress(Progress::ComponentDone);
+            }
+            solution
+        })
         .collect::<Result<_>>()?;
     let mut stats = SolveStats {
         candidate_pairs: candidate_count,
         components: groups.len(),
+        pairs_seconds,
         ..SolveStats::default()
     };
     let mut objective = 0.0;
+    let mut lower = 0.0;
     let mut assignments = Vec::with_capacity(pairs.len());
     let mut fractional = Vec::new();
+    let mut methods = Vec::with_capacity(solved.len());
+    let mut notes = Vec::new();
     for component in solved {
         fractional.extend(component.fractional);
         objective += component.objective;
-        stats.lp_components += component.stats.lp_components;
-        stats.variables += component.stats.variables;
-        stats.constraints += component.stats.constraints;
-        stats.nonzeros += component.stats.nonzeros;
-        stats.largest_variables = stats.largest_variables.max(component.stats.variables);
+        lower += component.lower;
+        methods.push((component.method, component.iterations));
+        notes.extend(component.note);
+        let s = component.stats;
+        stats.lp_components += s.lp_components;
+        stats.variables += s.variables;
+        stats.constraints += s.constraints;
+        stats.nonzeros += s.nonzeros;
+        stats.largest_variables = stats.largest_variables.max(s.variables);
+        stats.cells += s.cells;
+        stats.paths_seconds += s.paths_seconds;
+        stats.repair_seconds += s.repair_seconds;
+        stats.simplex_seconds += s.simplex_seconds;
         assignments.extend(component.pairs);
     }
     assignments.sort_by_key(|p| (p.truth, p.estimate));
@@ -428,7 +585,10 @@ pub fn score_with(
         truth_points,
         estimate_points,
     );
+    let constant = params.cutoff_power() / 2.0 * (truth_points + estimate_points) as f64;
     let bounds = checks::bounds(truth, estimate, params, distance)?;
+    let mut result = certify(result, &methods, (constant + lower).max(bounds.lower));
+    result.notes = notes;
     checks::check_consistency(&result, &bounds)?;
     // The integer pass, on the components whose LP optimum is fractional, in parallel; a time
     // budget counts from here.
@@ -448,13 +608,91 @@ pub fn score_with(
     if options.exact.is_some() {
         // The integral optimum can be no lower than the LP's.
         let bounds = checks::Bounds {
-            lower: bounds.lower.max(lp_total),
+            lower: bounds.lower.max(score.certificate.lower.min(lp_total)),
             upper: bounds.upper,
             held: bounds.held,
         };
         checks::check_integral(&score, &bounds)?;
     }
     Ok(score)
+}
+
+/// Refuses, before they are built, candidate pairs that could not fit the memory budget. When
+/// the most close steps there can be (truths times estimates present, summed over the steps)
+/// would not fit, the close steps are counted exactly first, without storing them.
+fn check_pair_budget(
+    truth: &TrajectorySet,
+    estimate: &TrajectorySet,
+    window: Window,
+    params: &TrajectoryParams,
+    distance: &Distance,
+    budget: u64,
+) -> Result<()> {
+    let fits = |count: usize| (count as u64).saturating_mul(BYTES_PER_CELL) <= budget;
+    if fits(pairs::most_close_steps(truth, estimate, window)) {
+        return Ok(());
+    }
+    let mut close = 0usize;
+    pairs::for_each_close_step(
+        truth,
+        estimate,
+        window,
+        params.cutoff,
+        distance,
+        |_, _, _, _| close += 1,
+    );
+    if fits(close) {
+        return Ok(());
+    }
+    Err(Error::Budget(format!(
+        "{close} truth-estimate pairs are within the cut-off {} at one step or another \
+         (counted once per step), which would need about {} of memory, over the budget of {}; \
+         choose a smaller cut-off (one near the errors a track may have while following an \
+         object), split the scene into shorter windows, or raise --memory-budget",
+        params.cutoff,
+        bytes(close as u64 * BYTES_PER_CELL),
+        bytes(budget)
+    )))
+}
+
+/// A byte count for people: "3.2 GB".
+fn bytes(count: u64) -> String {
+    let count = count as f64;
+    if count >= 1e9 {
+        format!("{:.1} GB", count / 1e9)
+    } else {
+        format!("{:.0} MB", (count / 1e6).ceil())
+    }
+}
+
+/// Fills in the certificate of an LP score from how its components were solved and the proven
+/// lower bound of its d^p; an assignment is integral only when it is also proven.
+fn certify(mut score: TrajectoryScore, methods: &[(Method, usize)], lower: f64) -> TrajectoryScore {
+    let count = |m: Method| methods.iter().filter(|(method, _)| *method == m).count();
+    let bounded = count(Method::Bounded);
+    let upper = score.total;
+    let lower = if bounded == 0 {
+        upper
+    } else {
+        lower.min(upper)
+    };
+    score.certificate = Certificate {
+        proven: bounded == 0,
+        lower,
+        upper,
+        gap: if upper > 0.0 {
+            (upper - lower) / upper
+        } else {
+            0.0
+        },
+        closed_form: count(Method::ClosedForm),
+        lagrangian: count(Method::Lagrangian),
+        simplex: count(Method::Simplex),
+        bounded,
+        iterations: methods.iter().map(|m| m.1).max().unwrap_or(0),
+    };
+    score.integral &= bounded == 0;
+    score
 }
 
 /// Solves a component with a fractional LP optimum as an integer program.
@@ -523,16 +761,24 @@ fn with_exact(
         score.lp_objective = lp.lp_objective;
         score.lp_total = lp.total;
         score.integral = lp.integral;
+        score.certificate = lp.certificate;
+        score.notes = lp.notes;
         score
     };
-    let lower = if unproven == 0 {
+    // Components reported with bounds only keep their LP gap in the exact metric's bounds.
+    let bounded = score.certificate.bounded > 0;
+    let proven = unproven == 0 && !bounded;
+    let lower = if proven {
         score.total
+    } else if bounded {
+        let lp_gap = score.certificate.upper - score.certificate.lower;
+        (score.total - gap - lp_gap).min(score.total)
     } else {
         (score.total - gap).clamp(score.lp_total.min(score.total), score.total)
     };
-    score.exact_total = (unproven == 0).then_some(score.total);
+    score.exact_total = proven.then_some(score.total);
     score.exact = Some(ExactSummary {
-        proven: unproven == 0,
+        proven,
         lower,
         upper: score.total,
         components: count,
@@ -549,6 +795,8 @@ fn solve_component(
     window: Window,
     params: &TrajectoryParams,
     options: &SolveOptions,
+    (truth, estimate): (&TrajectorySet, &TrajectorySet),
+    progress: &(dyn Fn(Progress) + Sync),
 ) -> Result<ComponentSolution> {
     let cutoff_power = params.cutoff_power();
     if members.len() == 1 && options.split_components {
@@ -568,10 +816,95 @@ fn solve_component(
                 close: pair.close.clone(),
             }],
             objective,
+            lower: objective,
+            method: Method::ClosedForm,
+            iterations: 0,
+            note: None,
             stats: SolveStats::default(),
             fractional: None,
         });
     }
+    let cost = |assignment: &[PairAssignment]| component_cost(assignment, window, params);
+    let mut found = None;
+    let mut stats = SolveStats::default();
+    // The Lagrangian engine works on the reduced problem (candidate pairs in components);
+    // the options that check the reductions go to the simplex engine.
+    let reduced = options.split_components
+        && !options.keep_far_pairs
+        && options.reduction == Reduction::Events;
+    let cells = if reduced {
+        lagrangian::cells(pairs, members)
+    } else {
+        0
+    };
+    let cells_fit = (cells as u64).saturating_mul(BYTES_PER_CELL) <= options.memory_budget;
+    if options.engine == Engine::Lagrangian && reduced && cells_fit {
+        let (truths, estimates) = component_objects(pairs, members);
+        let points: usize = truths.iter().map(|&i| truth.get(i).len()).sum::<usize>()
+            + estimates
+                .iter()
+                .map(|&j| estimate.get(j).len())
+                .sum::<usize>();
+        let scale = cutoff_power / 2.0 * points as f64;
+        let settings = lagrangian::Settings {
+            max_iterations: options.max_iterations,
+            ..lagrangian::Settings::default()
+        };
+        let problem = lagrangian::Problem {
+            pairs,
+            members,
+            window,
+            cutoff_power,
+            switch_cost: params.switch_cost(),
+            scale,
+        };
+        let outcome = lagrangian::solve(&problem, &settings, &cost, &|iteration| {
+            progress(Progress::Iteration { cells, iteration })
+        });
+        stats.cells = outcome.cells;
+        stats.paths_seconds = outcome.paths_time.as_secs_f64();
+        stats.repair_seconds = outcome.repair_time.as_secs_f64();
+        if outcome.certified {
+            return Ok(ComponentSolution {
+                pairs: outcome.pairs,
+                objective: outcome.upper,
+                lower: outcome.upper,
+                method: Method::Lagrangian,
+                iterations: outcome.iterations,
+                note: None,
+                stats,
+                fractional: None,
+            });
+        }
+        let variables = model::event_variables(pairs, members, window, params.switch_cost());
+        let need = (variables as u64).saturating_mul(BYTES_PER_LP_VARIABLE);
+        if need > options.memory_budget {
+            let note = format!(
+                "a group of {} truths and {} estimates was not proven optimal after {} \
+                 iterations (its d^p lies within {:.3e} of the value reported); proving it by \
+                 the simplex engine would need about {} for {variables} LP variables, over the \
+                 memory budget of {}: raise --memory-budget to prove it",
+                truths.len(),
+                estimates.len(),
+                outcome.iterations,
+                outcome.upper - outcome.lower,
+                bytes(need),
+                bytes(options.memory_budget)
+            );
+            return Ok(ComponentSolution {
+                pairs: outcome.pairs,
+                objective: outcome.upper,
+                lower: outcome.lower,
+                method: Method::Bounded,
+                iterations: outcome.iterations,
+                note: Some(note),
+                stats,
+                fractional: None,
+            });
+        }
+        found = Some(outcome);
+    }
+    let started = Instant::now();
     let model = build(
         pairs,
         members,
@@ -581,7 +914,7 @@ fn solve_component(
         options.reduction,
     );
     let values = solve::solve(&model.program, options.engine)?;
-    let objective = model
+    let objective: f64 = model
         .program
         .costs
         .iter()
@@ -593,26 +926,59 @@ fn solve_component(
         .zip(&model.segments)
         .map(|(&m, segments)| decode(&pairs[m], segments, &values))
         .collect();
-    let stats = SolveStats {
-        lp_components: 1,
-        variables: model.program.variables(),
-        constraints: model.program.rows.len(),
-        nonzeros: model.program.nonzeros(),
-        ..SolveStats::default()
-    };
-    let fractional =
-        (options.exact.is_some() && !decoded.iter().all(is_integral)).then(|| Fractional {
-            members: members.to_vec(),
-            model,
-            values,
-            objective,
+    stats.lp_components = 1;
+    stats.variables = model.program.variables();
+    stats.constraints = model.program.rows.len();
+    stats.nonzeros = model.program.nonzeros();
+    stats.simplex_seconds = started.elapsed().as_secs_f64();
+    let iterations = found.as_ref().map_or(0, |o| o.iterations);
+    let integral = decoded.iter().all(is_integral);
+    if let Some(outcome) = found.filter(|o| !integral && o.upper <= objective + tie(objective)) {
+        // The engine's optimum is fractional, but the integral assignment the Lagrangian engine
+        // found costs no more: it is an optimum too, and its switches are unambiguous.
+        return Ok(ComponentSolution {
+            pairs: outcome.pairs,
+            objective: outcome.upper,
+            lower: objective,
+            method: Method::Simplex,
+            iterations,
+            note: None,
+            stats,
+            fractional: None,
         });
+    }
+    let fractional = (options.exact.is_some() && !integral).then(|| Fractional {
+        members: members.to_vec(),
+        model,
+        values,
+        objective,
+    });
     Ok(ComponentSolution {
         pairs: decoded,
         fractional,
         objective,
+        lower: objective,
+        method: Method::Simplex,
+        iterations,
+        note: None,
         stats,
     })
+}
+
+/// How much two optima of one component may differ by rounding alone.
+fn tie(objective: f64) -> f64 {
+    1e-9 * objective.abs().max(1.0)
+}
+
+/// The truths and estimates of a component, each once, increasing.
+fn component_objects(pairs: &[CandidatePair], members: &[usize]) -> (Vec<usize>, Vec<usize>) {
+    let mut truths: Vec<usize> = members.iter().map(|&m| pairs[m].truth).collect();
+    let mut estimates: Vec<usize> = members.iter().map(|&m| pairs[m].estimate).collect();
+    truths.sort_unstable();
+    truths.dedup();
+    estimates.sort_unstable();
+    estimates.dedup();
+    (truths, estimates)
 }
 
 fn snap(value: f64) -> f64 {
@@ -738,6 +1104,8 @@ fn finish(
         exact_total: None,
         exact: None,
         stats,
+        certificate: Certificate::default(),
+        notes: Vec::new(),
         assignment,
     }
 }

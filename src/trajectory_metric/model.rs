@@ -169,6 +169,23 @@ pub fn build(
     ComponentModel { program, segments }
 }
 
+/// The number of variables [`build`] gives a component with event compression, without building
+/// it: one per segment, and two helpers per pair of adjacent active segments when switches cost.
+pub fn event_variables(
+    pairs: &[CandidatePair],
+    members: &[usize],
+    window: Window,
+    switch_cost: f64,
+) -> usize {
+    event_cuts(pairs, members, window)
+        .iter()
+        .map(|cuts| {
+            let links = cuts.windows(2).filter(|w| w[0].2 && w[1].2).count();
+            cuts.len() + if switch_cost > 0.0 { 2 * links } else { 0 }
+        })
+        .sum()
+}
+
 /// Charges weight changes between consecutive segments of one pair. Between two active
 /// segments the change is free in sign (`|b - a| = up + down`); a rigid segment (head, valley,
 /// tail) is never above its active neighbours, so its change is one-sided and needs no helper.

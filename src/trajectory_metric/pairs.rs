@@ -48,9 +48,44 @@ pub fn candidate_pairs(
     order: f64,
     distance: &Distance,
 ) -> Vec<CandidatePair> {
+    let mut events: Vec<(u32, u32, Step, f64)> = Vec::new();
+    for_each_close_step(
+        truth,
+        estimate,
+        window,
+        cutoff,
+        distance,
+        |i, j, step, d| events.push((i, j, step, power(d, order))),
+    );
+    events.sort_unstable_by_key(|a| (a.0, a.1, a.2));
+    let mut pairs: Vec<CandidatePair> = Vec::new();
+    for (i, j, step, cost) in events {
+        match pairs.last_mut() {
+            Some(pair) if pair.truth == i as usize && pair.estimate == j as usize => {
+                pair.close.push(CloseStep { step, cost });
+            }
+            _ => pairs.push(CandidatePair {
+                truth: i as usize,
+                estimate: j as usize,
+                close: vec![CloseStep { step, cost }],
+            }),
+        }
+    }
+    pairs
+}
+
+/// Calls `found(truth, estimate, step, d)` for every truth and estimate closer than the cut-off
+/// at a step where both are present, step by step.
+pub fn for_each_close_step(
+    truth: &TrajectorySet,
+    estimate: &TrajectorySet,
+    window: Window,
+    cutoff: f64,
+    distance: &Distance,
+    mut found: impl FnMut(u32, u32, Step, f64),
+) {
     let truth_frames = Frames::new(truth, window);
     let estimate_frames = Frames::new(estimate, window);
-    let mut events: Vec<(u32, u32, Step, f64)> = Vec::new();
     let mut gate = Gate::default();
     for k in 0..window.len() {
         let (xs, ys) = (truth_frames.at(k), estimate_frames.at(k));
@@ -69,24 +104,9 @@ pub fn candidate_pairs(
             }),
             cutoff,
             distance,
-            |i, j, d| events.push((xs[i].object, ys[j].object, step, power(d, order))),
+            |i, j, d| found(xs[i].object, ys[j].object, step, d),
         );
     }
-    events.sort_unstable_by_key(|a| (a.0, a.1, a.2));
-    let mut pairs: Vec<CandidatePair> = Vec::new();
-    for (i, j, step, cost) in events {
-        match pairs.last_mut() {
-            Some(pair) if pair.truth == i as usize && pair.estimate == j as usize => {
-                pair.close.push(CloseStep { step, cost });
-            }
-            _ => pairs.push(CandidatePair {
-                truth: i as usize,
-                estimate: j as usize,
-                close: vec![CloseStep { step, cost }],
-            }),
-        }
-    }
-    pairs
 }
 
 /// A node of the pair graph.
@@ -115,4 +135,27 @@ pub fn components(pairs: &[CandidatePair]) -> Vec<Vec<usize>> {
         result[index].push(pair);
     }
     result
+}
+
+/// The most close steps the candidate pairs can hold: truths times estimates present, summed
+/// over the steps at which both sets have objects. O(points), no distance computed.
+pub fn most_close_steps(truth: &TrajectorySet, estimate: &TrajectorySet, window: Window) -> usize {
+    let mut counts: rustc_hash::FxHashMap<Step, (usize, usize)> = Default::default();
+    for trajectory in truth.trajectories() {
+        for &step in trajectory.steps() {
+            if window.first <= step && step <= window.last {
+                counts.entry(step).or_default().0 += 1;
+            }
+        }
+    }
+    for trajectory in estimate.trajectories() {
+        for &step in trajectory.steps() {
+            if let Some(count) = counts.get_mut(&step) {
+                count.1 += 1;
+            }
+        }
+    }
+    counts.values().fold(0usize, |sum, &(x, y)| {
+        sum.saturating_add(x.saturating_mul(y))
+    })
 }

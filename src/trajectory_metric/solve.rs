@@ -1,7 +1,8 @@
 //! Hands a [`LinearProgram`] to an LP engine through good_lp and returns the variable values.
 //!
-//! The default engine is microlp (pure Rust, needs nothing but cargo). With the cargo feature
-//! `highs`, HiGHS is available too.
+//! The simplex engines: microlp (pure Rust, needs nothing but cargo) and, with the cargo feature
+//! `highs`, HiGHS. The default engine is the Lagrangian one ([`super::lagrangian`]), which hands
+//! the components it does not certify to [`Engine::simplex`].
 
 use good_lp::{
     variable, Expression, ProblemVariables, ResolutionError, Solution, SolverModel, Variable,
@@ -14,6 +15,9 @@ use crate::error::{Error, Result};
 #[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Engine {
+    /// One shortest path per truth under Lagrangian prices, certified by bounds; components it
+    /// does not certify go to the simplex engine of the build ([`Engine::simplex`]).
+    Lagrangian,
     /// microlp: pure Rust, always available.
     Microlp,
     /// HiGHS, with the cargo feature `highs`.
@@ -21,13 +25,9 @@ pub enum Engine {
 }
 
 impl Default for Engine {
-    /// HiGHS when the build has it (it is much faster on large scenes), else microlp.
+    /// The Lagrangian engine, in every build.
     fn default() -> Self {
-        if cfg!(feature = "highs") {
-            Engine::Highs
-        } else {
-            Engine::Microlp
-        }
+        Engine::Lagrangian
     }
 }
 
@@ -35,7 +35,7 @@ impl Engine {
     /// Whether this build can use the engine.
     pub fn available(self) -> bool {
         match self {
-            Engine::Microlp => true,
+            Engine::Lagrangian | Engine::Microlp => true,
             Engine::Highs => cfg!(feature = "highs"),
         }
     }
@@ -43,8 +43,21 @@ impl Engine {
     /// The engine's name.
     pub fn name(self) -> &'static str {
         match self {
+            Engine::Lagrangian => "lagrangian",
             Engine::Microlp => "microlp",
             Engine::Highs => "highs",
+        }
+    }
+}
+
+impl Engine {
+    /// The simplex engine this engine uses for LPs: itself, or for the Lagrangian engine HiGHS
+    /// when the build has it (much faster on large LPs), else microlp.
+    pub fn simplex(self) -> Engine {
+        match self {
+            Engine::Lagrangian if cfg!(feature = "highs") => Engine::Highs,
+            Engine::Lagrangian => Engine::Microlp,
+            other => other,
         }
     }
 }
@@ -80,8 +93,8 @@ pub fn solve(program: &LinearProgram, engine: Engine) -> Result<Vec<f64>> {
         }
     });
     let unsolved = problem.minimise(objective);
-    let values = match engine {
-        Engine::Microlp => {
+    let values = match engine.simplex() {
+        Engine::Lagrangian | Engine::Microlp => {
             let mut model = unsolved.using(good_lp::microlp);
             for constraint in constraints {
                 model.add_constraint(constraint);
@@ -119,7 +132,9 @@ fn solve_highs(
     _vars: &[Variable],
 ) -> Result<Vec<f64>> {
     Err(Error::Parameter(
-        "this build has no HiGHS engine; rebuild with `--features highs`".into(),
+        "this build has no HiGHS engine; build one with `cargo build --release --features highs` \
+         (needs cmake, a C++ compiler and libclang)"
+            .into(),
     ))
 }
 

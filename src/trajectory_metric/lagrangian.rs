@@ -1,0 +1,763 @@
+//! The Lagrangian engine: the trajectory LP of one component solved by one shortest path per
+//! truth, with certified lower and upper bounds.
+//!
+//! The LP couples the truths only through the capacity of each estimate at each step (at most
+//! one unit of weight). Pricing those rows with multipliers mu >= 0 (Lagrangian relaxation;
+//! A. M. Geoffrion, "Lagrangean relaxation for integer programming", Mathematical Programming
+//! Study 2, 1974) leaves one independent problem per truth: its weights over time, with the
+//! switching term, are a unit flow through time over the states "unassigned" and "held by
+//! estimate j" (the switching term is the earth mover's cost on a star), so its optimum is a
+//! shortest path and integral. Hence for every mu >= 0
+//!
+//! ```text
+//! L(mu) = sum over truths of SP_i(mu) - sum over (estimate, step) of mu  <=  LP optimum,
+//! ```
+//!
+//! and the best L(mu) equals the LP optimum. The multipliers are raised by projected
+//! subgradient steps with Polyak's step length (B. T. Polyak, "Minimization of unsmooth
+//! functionals", USSR Computational Mathematics and Mathematical Physics 9, 1969). Upper bounds
+//! come from feasible integral assignments: the truths' paths when they happen not to share an
+//! estimate, or a greedy repair that routes the truths one after another around the cells
+//! already taken. Each upper bound is measured from its weights by the caller's cost function,
+//! never from the multipliers. When upper minus lower bound is within the tolerance, the
+//! assignment is the LP optimum and, being integral, the exact metric too. Proofs:
+//! specs/trajectory-lp.md, section "The Lagrangian engine".
+//!
+//! Only a pair's window (its first to last close step) needs one cell per step. Before the
+//! window the only useful way to hold the estimate is a *head* from the window's first step
+//! (no entry charge, since no switch is counted before the first step); after it, a *tail* to
+//! the last step. Heads and tails pay the prices of the steps they cover. Per estimate, the
+//! steps between its pairs' windows are merged into one *slot* each (one price for the run: no
+//! cell lies there, and every head or tail covers such a run whole), so memory follows the
+//! pairs' windows, not the evaluation window.
+
+use std::time::{Duration, Instant};
+
+use rayon::prelude::*;
+
+use super::pairs::CandidatePair;
+use super::{PairAssignment, WeightSpan};
+use crate::trajectory::{Step, Window};
+
+/// Back-pointer codes of a cell: the state at the step before.
+const FROM_SAME: u32 = 0;
+const FROM_NONE: u32 = 1;
+const FROM_HEAD: u32 = 2;
+/// `FROM_OTHER + q`: from the truth's pair `q` (local index).
+const FROM_OTHER: u32 = 3;
+
+/// How long the engine may iterate on one component.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Settings {
+    /// Subgradient iterations at most.
+    pub max_iterations: usize,
+    /// Certified when upper - lower <= `tolerance` x the component's d^p (plus 1e-12 of its
+    /// all-unassigned cost, for rounding).
+    pub tolerance: f64,
+    /// Greedy repair every this many iterations.
+    pub repair_every: usize,
+}
+
+impl Default for Settings {
+    fn default() -> Self {
+        Settings {
+            max_iterations: 500,
+            tolerance: 1e-9,
+            repair_every: 10,
+        }
+    }
+}
+
+/// What the engine found for one component.
+#[derive(Clone, Debug)]
+pub struct Outcome {
+    /// The best feasible integral assignment found, one entry per member pair (member order).
+    pub pairs: Vec<PairAssignment>,
+    /// Its cost in gain form (an upper bound of the component's LP and exact optimum).
+    pub upper: f64,
+    /// The best Lagrangian bound (a lower bound of the LP optimum).
+    pub lower: f64,
+    /// Subgradient iterations run.
+    pub iterations: usize,
+    /// Whether upper - lower is within the tolerance.
+    pub certified: bool,
+    /// Time in the shortest paths (all truths, all iterations).
+    pub paths_time: Duration,
+    /// Time in the greedy repairs.
+    pub repair_time: Duration,
+    /// Truth-step cells of the shortest-path model.
+    pub cells: usize,
+}
+
+/// One pair in the engine's layout.
+#[derive(Clone, Copy, Debug)]
+struct Pair {
+    /// Index in the component's member list.
+    member: u32,
+    estimate: u32,
+    first: Step,
+    last: Step,
+    /// Slot of `first` in the estimate's slots (cells follow one per step).
+    slot_first: u32,
+    /// Offset of the pair's first cell in `gains`.
+    offset: usize,
+}
+
+impl Pair {
+    fn slot_last(&self) -> u32 {
+        self.slot_first + (self.last - self.first) as u32
+    }
+}
+
+/// A maximal run of a path in one pair, with its head or tail.
+#[derive(Clone, Copy, Debug, PartialEq)]
+struct Run {
+    /// Engine pair index.
+    pair: u32,
+    first: Step,
+    last: Step,
+    head: bool,
+    tail: bool,
+}
+
+/// The component in the engine's layout.
+struct Model {
+    window: Window,
+    switch_cost: f64,
+    pairs: Vec<Pair>,
+    /// Per truth: its pairs' range in `pairs` (sorted by first step).
+    truths: Vec<std::ops::Range<usize>>,
+    /// Gain (d^p - c^p at close steps, else 0) per cell.
+    gains: Vec<f64>,
+    /// Per estimate: its range in the flat slot arrays.
+    estimates: Vec<std::ops::Range<usize>>,
+    /// Steps covered by each slot.
+    slot_len: Vec<f64>,
+}
+
+/// Which cells, heads and tails earlier truths took (the greedy repair).
+struct Taken {
+    cell: Vec<bool>,
+    /// Per estimate: slots below this are held by a head.
+    head_end: Vec<u32>,
+    /// Per estimate: slots from this on are held by a tail.
+    tail_start: Vec<u32>,
+    /// Per estimate: lowest and highest cell slot taken (u32::MAX / none when none).
+    min_cell: Vec<u32>,
+    max_cell: Vec<Option<u32>>,
+}
+
+/// Reusable buffers of one truth's dynamic program.
+#[derive(Default)]
+struct Scratch {
+    back: Vec<u32>,
+    values: Vec<f64>,
+    previous: Vec<u32>,
+    current: Vec<u32>,
+    none_from: Vec<(Step, u32)>,
+}
+
+impl Model {
+    fn new(
+        pairs: &[CandidatePair],
+        members: &[usize],
+        window: Window,
+        cutoff_power: f64,
+        switch_cost: f64,
+    ) -> Model {
+        // Local numbering of truths and estimates, in increasing order of their set index.
+        let mut truth_ids: Vec<usize> = members.iter().map(|&m| pairs[m].truth).collect();
+        truth_ids.sort_unstable();
+        truth_ids.dedup();
+        let mut estimate_ids: Vec<usize> = members.iter().map(|&m| pairs[m].estimate).collect();
+        estimate_ids.sort_unstable();
+        estimate_ids.dedup();
+        let local = |ids: &[usize], id: usize| ids.binary_search(&id).expect("member id") as u32;
+
+        // Slots per estimate: one per step of the union of its pairs' windows, one per run
+        // of steps between (and before and after) them.
+        let mut windows: Vec<Vec<(Step, Step)>> = vec![Vec::new(); estimate_ids.len()];
+        for &m in members {
+            let pair = &pairs[m];
+            windows[local(&estimate_ids, pair.estimate) as usize].push(pair.active_span());
+        }
+        let mut slot_first_step: Vec<Vec<Step>> = Vec::with_capacity(estimate_ids.len());
+        let mut estimates = Vec::with_capacity(estimate_ids.len());
+        let mut slot_len = Vec::new();
+        for spans in &mut windows {
+            spans.sort_unstable();
+            let mut starts: Vec<Step> = Vec::new();
+            let mut cursor = window.first;
+            let mut index = 0;
+            while index < spans.len() {
+                let (first, mut last) = spans[index];
+                while index + 1 < spans.len() && spans[index + 1].0 <= last + 1 {
+                    index += 1;
+                    last = last.max(spans[index].1);
+                }
+                if first > cursor {
+                    starts.push(cursor);
+                }
+                starts.extend(first..=last);
+                cursor = last + 1;
+                index += 1;
+            }
+            if cursor <= window.last {
+                starts.push(cursor);
+            }
+            let begin = slot_len.len();
+            for (s, &start) in starts.iter().enumerate() {
+                let end = starts.get(s + 1).copied().unwrap_or(window.last + 1);
+                slot_len.push((end - start) as f64);
+            }
+            estimates.push(begin..slot_len.len());
+            slot_first_step.push(starts);
+        }
+
+        let mut order: Vec<usize> = (0..members.len()).collect();
+        order.sort_by_key(|&l| {
+            let pair = &pairs[members[l]];
+            (
+                local(&truth_ids, pair.truth),
+                pair.active_span().0,
+                local(&estimate_ids, pair.estimate),
+            )
+        });
+        let mut engine_pairs = Vec::with_capacity(members.len());
+        let mut truths = vec![0..0; truth_ids.len()];
+        let mut gains = Vec::new();
+        for &l in &order {
+            let pair = &pairs[members[l]];
+            let (first, last) = pair.active_span();
+            let estimate = local(&estimate_ids, pair.estimate);
+            let starts = &slot_first_step[estimate as usize];
+            let slot_first = starts.partition_point(|&s| s <= first) - 1;
+            let offset = gains.len();
+            gains.resize(offset + (last - first + 1) as usize, 0.0);
+            for close in &pair.close {
+                gains[offset + (close.step - first) as usize] = close.cost - cutoff_power;
+            }
+            let t = local(&truth_ids, pair.truth) as usize;
+            if truths[t].is_empty() {
+                truths[t] = engine_pairs.len()..engine_pairs.len();
+            }
+            truths[t].end = engine_pairs.len() + 1;
+            engine_pairs.push(Pair {
+                member: l as u32,
+                estimate,
+                first,
+                last,
+                slot_first: slot_first as u32,
+                offset,
+            });
+        }
+        Model {
+            window,
+            switch_cost,
+            pairs: engine_pairs,
+            truths,
+            gains,
+            estimates,
+            slot_len,
+        }
+    }
+
+    fn slot(&self, pair: &Pair, step: Step) -> usize {
+        self.estimates[pair.estimate as usize].start
+            + pair.slot_first as usize
+            + (step - pair.first) as usize
+    }
+
+    /// The price of a head (`head`) or tail of a pair: the sum of its estimate's prices before
+    /// the pair's window or after it.
+    fn hold_price(&self, prefix: &[f64], pair: &Pair, head: bool) -> f64 {
+        let range = &self.estimates[pair.estimate as usize];
+        if head {
+            prefix[range.start + pair.slot_first as usize] - prefix[range.start]
+        } else {
+            prefix[range.end] - prefix[range.start + pair.slot_last() as usize + 1]
+        }
+    }
+
+    /// The cheapest path of truth `t` under prices `mu` (with `prefix` their running sums times
+    /// the slot lengths), avoiding what `taken` holds. Returns its priced cost and its runs.
+    fn shortest_path(
+        &self,
+        t: usize,
+        mu: &[f64],
+        prefix: &[f64],
+        taken: Option<&Taken>,
+        scratch: &mut Scratch,
+    ) -> (f64, Vec<Run>) {
+        let range = self.truths[t].clone();
+        if range.is_empty() {
+            return (0.0, Vec::new());
+        }
+        let lambda = self.switch_cost;
+        let pairs = &self.pairs[range.clone()];
+        let base_offset = pairs[0].offset;
+        let last_pair = &pairs[pairs.len() - 1];
+        let cells =
+            last_pair.offset + (last_pair.last - last_pair.first + 1) as usize - base_offset;
+        scratch.back.clear();
+        scratch.back.resize(cells, FROM_SAME);
+        scratch.values.clear();
+        scratch.values.resize(pairs.len(), f64::INFINITY);
+        scratch.previous.clear();
+        scratch.current.clear();
+        scratch.none_from.clear();
+
+        let blocked = |pair: &Pair, step: Step| -> bool {
+            let Some(taken) = taken else { return false };
+            let e = pair.estimate as usize;
+            let s = pair.slot_first + (step - pair.first) as u32;
+            s < taken.head_end[e] || s >= taken.tail_start[e] || taken.cell[self.slot(pair, step)]
+        };
+        let head_allowed = |pair: &Pair| -> bool {
+            let Some(taken) = taken else { return true };
+            let e = pair.estimate as usize;
+            taken.head_end[e] == 0
+                && taken.min_cell[e] >= pair.slot_first
+                && taken.tail_start[e] >= pair.slot_first
+        };
+        let tail_allowed = |pair: &Pair| -> bool {
+            let Some(taken) = taken else { return true };
+            let e = pair.estimate as usize;
+            let after = pair.slot_last() + 1;
+            let slots = self.estimates[e].len() as u32;
+            taken.tail_start[e] == slots
+                && taken.max_cell[e].is_none_or(|m| m < after)
+                && taken.head_end[e] <= after
+        };
+
+        let mut none = 0.0f64;
+        let mut tail_best = (f64::INFINITY, u32::MAX);
+        let mut next_start = 0usize;
+        let mut step: Step = 0;
+        loop {
+            // `previous` holds the pairs with a value at `step`.
+            let next = if scratch.previous.is_empty() {
+                match pairs.get(next_start) {
+                    Some(pair) => pair.first,
+                    None => break,
+                }
+            } else {
+                step + 1
+            };
+            // The two best states at the step before.
+            let mut best = (f64::INFINITY, u32::MAX);
+            let mut second = (f64::INFINITY, u32::MAX);
+            for &q in &scratch.previous {
+                let value = scratch.values[q as usize];
+                if value < best.0 {
+                    second = best;
+                    best = (value, q);
+                } else if value < second.0 {
+                    second = (value, q);
+                }
+            }
+            let none_before = none;
+            if best.0 + lambda < none {
+                none = best.0 + lambda;
+                scratch.none_from.push((next, best.1));
+            }
+            step = next;
+            scratch.current.clear();
+            // Pairs that go on from the step before.
+            for index in 0..scratch.previous.len() {
+                let q = scratch.previous[index];
+                let pair = &pairs[q as usize];
+                if pair.last < step {
+                    continue;
+                }
+                scratch.current.push(q);
+                let position = (step - pair.first) as usize;
+                if blocked(pair, step) {
+                    scratch.values[q as usize] = f64::INFINITY;
+                    continue;
+                }
+                let other = if q == best.1 { second } else { best };
+                let mut value = scratch.values[q as usize];
+                let mut from = FROM_SAME;
+                if none_before + lambda < value {
+                    value = none_before + lambda;
+                    from = FROM_NONE;
+                }
+                if other.0 + 2.0 * lambda < value {
+                    value = other.0 + 2.0 * lambda;
+                    from = FROM_OTHER + other.1;
+                }
+                scratch.back[pair.offset - base_offset + position] = from;
+                scratch.values[q as usize] =
+                    value + self.gains[pair.offset + position] + mu[self.slot(pair, step)];
+            }
+            // Pairs whose window starts here.
+            while let Some(pair) = pairs.get(next_start).filter(|p| p.first == step) {
+                let q = next_start as u32;
+                next_start += 1;
+                scratch.current.push(q);
+                if blocked(pair, step) {
+                    scratch.values[q as usize] = f64::INFINITY;
+                    continue;
+                }
+                let mut value = none_before + lambda;
+                let mut from = FROM_NONE;
+                if best.0 + 2.0 * lambda < value {
+                    value = best.0 + 2.0 * lambda;
+                    from = FROM_OTHER + best.1;
+                }
+                if head_allowed(pair) {
+                    let head = self.hold_price(prefix, pair, true);
+                    if head < value {
+                        value = head;
+                        from = FROM_HEAD;
+                    }
+                }
+                scratch.back[pair.offset - base_offset] = from;
+                scratch.values[q as usize] =
+                    value + self.gains[pair.offset] + mu[self.slot(pair, step)];
+            }
+            // Tails from pairs whose window ends here.
+            for &q in &scratch.current {
+                let pair = &pairs[q as usize];
+                if pair.last == step && tail_allowed(pair) {
+                    let value = scratch.values[q as usize] + self.hold_price(prefix, pair, false);
+                    if value < tail_best.0 {
+                        tail_best = (value, q);
+                    }
+                }
+            }
+            std::mem::swap(&mut scratch.previous, &mut scratch.current);
+        }
+
+        // Read the path back.
+        let mut runs: Vec<Run> = Vec::new();
+        let (total, mut state) = if tail_best.0 < none {
+            (
+                tail_best.0,
+                Some((tail_best.1, pairs[tail_best.1 as usize].last)),
+            )
+        } else {
+            (none, self.none_origin(&scratch.none_from, Step::MAX))
+        };
+        let mut tail = state.is_some() && tail_best.0 < none;
+        while let Some((q, k)) = state {
+            let pair = &pairs[q as usize];
+            match runs.last_mut() {
+                Some(run) if run.pair == range.start as u32 + q && run.first == k + 1 => {
+                    run.first = k
+                }
+                _ => runs.push(Run {
+                    pair: range.start as u32 + q,
+                    first: k,
+                    last: k,
+                    head: false,
+                    tail: std::mem::take(&mut tail),
+                }),
+            }
+            let from = scratch.back[pair.offset - base_offset + (k - pair.first) as usize];
+            state = match from {
+                FROM_SAME => Some((q, k - 1)),
+                FROM_NONE => self.none_origin(&scratch.none_from, k - 1),
+                FROM_HEAD => {
+                    runs.last_mut().expect("a run").head = true;
+                    None
+                }
+                other => Some((other - FROM_OTHER, k - 1)),
+            };
+        }
+        runs.reverse();
+        (total, runs)
+    }
+
+    /// Where the "unassigned" state at `step` came from: the pair left at the step before the
+    /// last improvement at or before `step`, or nothing (unassigned since the start).
+    fn none_origin(&self, none_from: &[(Step, u32)], step: Step) -> Option<(u32, Step)> {
+        let index = none_from.partition_point(|&(s, _)| s <= step);
+        index
+            .checked_sub(1)
+            .map(|i| (none_from[i].1, none_from[i].0 - 1))
+    }
+
+    /// Adds each run's slots (cells, head, tail) to `count`.
+    fn occupy(&self, runs: &[Run], count: &mut [i32]) {
+        for run in runs {
+            let pair = &self.pairs[run.pair as usize];
+            let range = &self.estimates[pair.estimate as usize];
+            let first = if run.head {
+                range.start
+            } else {
+                self.slot(pair, run.first)
+            };
+            let last = if run.tail {
+                range.end - 1
+            } else {
+                self.slot(pair, run.last)
+            };
+            for c in &mut count[first..=last] {
+                *c += 1;
+            }
+        }
+    }
+
+    /// Marks a chosen path as taken.
+    fn take(&self, runs: &[Run], taken: &mut Taken) {
+        for run in runs {
+            let pair = &self.pairs[run.pair as usize];
+            let e = pair.estimate as usize;
+            let local_first = pair.slot_first + (run.first - pair.first) as u32;
+            let local_last = pair.slot_first + (run.last - pair.first) as u32;
+            for step in run.first..=run.last {
+                taken.cell[self.slot(pair, step)] = true;
+            }
+            taken.min_cell[e] = taken.min_cell[e].min(local_first);
+            taken.max_cell[e] = Some(taken.max_cell[e].map_or(local_last, |m| m.max(local_last)));
+            if run.head {
+                taken.head_end[e] = pair.slot_first;
+            }
+            if run.tail {
+                taken.tail_start[e] = pair.slot_last() + 1;
+            }
+        }
+    }
+
+    /// The weights of a set of paths, one entry per member pair.
+    fn assignment(
+        &self,
+        paths: &[Vec<Run>],
+        source: &[CandidatePair],
+        members: &[usize],
+    ) -> Vec<PairAssignment> {
+        let mut spans: Vec<Vec<WeightSpan>> = vec![Vec::new(); members.len()];
+        for run in paths.iter().flatten() {
+            let pair = &self.pairs[run.pair as usize];
+            spans[pair.member as usize].push(WeightSpan {
+                first: if run.head {
+                    self.window.first
+                } else {
+                    run.first
+                },
+                last: if run.tail { self.window.last } else { run.last },
+                weight: 1.0,
+            });
+        }
+        members
+            .iter()
+            .zip(spans)
+            .map(|(&m, mut spans)| {
+                spans.sort_by_key(|s| s.first);
+                PairAssignment {
+                    truth: source[m].truth,
+                    estimate: source[m].estimate,
+                    spans,
+                    close: source[m].close.clone(),
+                }
+            })
+            .collect()
+    }
+
+    fn prefix(&self, mu: &[f64]) -> Vec<f64> {
+        let mut prefix = Vec::with_capacity(mu.len() + 1);
+        let mut sum = 0.0;
+        prefix.push(0.0);
+        for (m, len) in mu.iter().zip(&self.slot_len) {
+            sum += m * len;
+            prefix.push(sum);
+        }
+        prefix
+    }
+
+    /// Routes the truths one after another in `order`, each around what the earlier ones took.
+    fn repair(&self, order: &[usize], mu: &[f64], prefix: &[f64]) -> Vec<Vec<Run>> {
+        let mut taken = Taken {
+            cell: vec![false; self.slot_len.len()],
+            head_end: vec![0; self.estimates.len()],
+            tail_start: self.estimates.iter().map(|r| r.len() as u32).collect(),
+            min_cell: vec![u32::MAX; self.estimates.len()],
+            max_cell: vec![None; self.estimates.len()],
+        };
+        let mut scratch = Scratch::default();
+        let mut paths = vec![Vec::new(); self.truths.len()];
+        for &t in order {
+            let (_, runs) = self.shortest_path(t, mu, prefix, Some(&taken), &mut scratch);
+            self.take(&runs, &mut taken);
+            paths[t] = runs;
+        }
+        paths
+    }
+}
+
+/// One component as the engine sees it.
+#[derive(Clone, Copy, Debug)]
+pub struct Problem<'a> {
+    /// Every candidate pair.
+    pub pairs: &'a [CandidatePair],
+    /// The component's pairs: indices into `pairs`.
+    pub members: &'a [usize],
+    /// The evaluation window.
+    pub window: Window,
+    /// c^p.
+    pub cutoff_power: f64,
+    /// gamma^p / 2: the cost of one unit of weight change.
+    pub switch_cost: f64,
+    /// The component's all-unassigned cost (c^p / 2 times its object-steps), the size of its
+    /// d^p, against which the tolerance is read.
+    pub scale: f64,
+}
+
+/// Solves one component. `cost` measures an assignment's cost in gain form from its weights;
+/// `progress` is told the iterations done.
+pub fn solve(
+    problem: &Problem,
+    settings: &Settings,
+    cost: &(dyn Fn(&[PairAssignment]) -> f64 + Sync),
+    progress: &(dyn Fn(usize) + Sync),
+) -> Outcome {
+    let Problem {
+        pairs,
+        members,
+        window,
+        cutoff_power,
+        switch_cost,
+        scale,
+    } = *problem;
+    let model = Model::new(pairs, members, window, cutoff_power, switch_cost);
+    let slots = model.slot_len.len();
+    let mut mu = vec![0.0; slots];
+    let mut paths_time = Duration::ZERO;
+    let mut repair_time = Duration::ZERO;
+    let tolerance = |upper: f64| settings.tolerance * (scale + upper).max(0.0) + 1e-12 * scale;
+
+    let started = Instant::now();
+    let prefix = model.prefix(&mu);
+    let index_order: Vec<usize> = (0..model.truths.len()).collect();
+    let mut best_paths = model.repair(&index_order, &mu, &prefix);
+    let mut best_pairs = model.assignment(&best_paths, pairs, members);
+    let mut upper = cost(&best_pairs);
+    repair_time += started.elapsed();
+
+    let mut lower = f64::NEG_INFINITY;
+    let mut theta = 1.0;
+    let mut stalled = 0;
+    let mut iterations = 0;
+    let mut count = vec![0i32; slots];
+    while iterations < settings.max_iterations {
+        iterations += 1;
+        let started = Instant::now();
+        let prefix = model.prefix(&mu);
+        let solved: Vec<(f64, Vec<Run>)> = (0..model.truths.len())
+            .into_par_iter()
+            .map_init(Scratch::default, |scratch, t| {
+                model.shortest_path(t, &mu, &prefix, None, scratch)
+            })
+            .collect();
+        paths_time += started.elapsed();
+        let priced: f64 = mu.iter().zip(&model.slot_len).map(|(m, l)| m * l).sum();
+        let bound = solved.iter().map(|s| s.0).sum::<f64>() - priced;
+        if bound > lower {
+            if bound > lower + tolerance(upper) {
+                stalled = 0;
+            }
+            lower = bound;
+        } else {
+            stalled += 1;
+        }
+        count.iter_mut().for_each(|c| *c = 0);
+        for (_, runs) in &solved {
+            model.occupy(runs, &mut count);
+        }
+        let paths: Vec<Vec<Run>> = solved.into_iter().map(|s| s.1).collect();
+        if count.iter().all(|&c| c <= 1) {
+            let assignment = model.assignment(&paths, pairs, members);
+            let value = cost(&assignment);
+            if value < upper {
+                upper = value;
+                best_pairs = assignment;
+                best_paths = paths.clone();
+            }
+        }
+        if upper - lower > tolerance(upper) && iterations % settings.repair_every.max(1) == 0 {
+            let started = Instant::now();
+            let mut by_value: Vec<usize> = (0..model.truths.len()).collect();
+            // Truths that gain most first, then in index order.
+            let values: Vec<f64> = paths
+                .iter()
+                .map(|runs| {
+                    runs.iter()
+                        .map(|r| {
+                            let p = &model.pairs[r.pair as usize];
+                            (r.first..=r.last)
+                                .map(|k| model.gains[p.offset + (k - p.first) as usize])
+                                .sum::<f64>()
+                        })
+                        .sum()
+                })
+                .collect();
+            by_value.sort_by(|&a, &b| values[a].total_cmp(&values[b]).then(a.cmp(&b)));
+            for order in [&by_value, &index_order] {
+                let repaired = model.repair(order, &mu, &prefix);
+                let assignment = model.assignment(&repaired, pairs, members);
+                let value = cost(&assignment);
+                if value < upper {
+                    upper = value;
+                    best_pairs = assignment;
+                    best_paths = repaired;
+                }
+            }
+            repair_time += started.elapsed();
+        }
+        progress(iterations);
+        if upper - lower <= tolerance(upper) {
+            break;
+        }
+        if stalled >= 20 {
+            theta /= 2.0;
+            stalled = 0;
+            if theta < 1e-7 {
+                break;
+            }
+        }
+        // Projected Polyak step on the rows that are over capacity or priced.
+        let mut norm = 0.0;
+        for s in 0..slots {
+            let g = (count[s] - 1) as f64;
+            if g > 0.0 || mu[s] > 0.0 {
+                norm += model.slot_len[s] * g * g;
+            }
+        }
+        if norm == 0.0 {
+            // Every row within capacity and every priced row full: the paths are feasible and
+            // complementary, so their cost equals the bound.
+            break;
+        }
+        let length = theta * (upper - bound).max(tolerance(upper)) / norm;
+        for s in 0..slots {
+            let g = (count[s] - 1) as f64;
+            if g > 0.0 || mu[s] > 0.0 {
+                mu[s] = (mu[s] + length * g).max(0.0);
+            }
+        }
+    }
+    drop(best_paths);
+    Outcome {
+        pairs: best_pairs,
+        upper,
+        lower: lower.min(upper),
+        iterations,
+        certified: upper - lower <= tolerance(upper),
+        paths_time,
+        repair_time,
+        cells: model.gains.len(),
+    }
+}
+
+/// Cells of a component's shortest-path model: the steps of every member pair's window.
+pub fn cells(pairs: &[CandidatePair], members: &[usize]) -> usize {
+    members
+        .iter()
+        .map(|&m| {
+            let (first, last) = pairs[m].active_span();
+            (last - first + 1) as usize
+        })
+        .sum()
+}
