@@ -197,6 +197,55 @@ impl<'a> Exactness<'a> {
     }
 }
 
+/// One line for people on how a score was proven: the bounds, and how many groups each method
+/// solved. Said the same way in the text output and the report.
+pub fn certificate_line(certificate: &crate::trajectory_metric::Certificate) -> String {
+    let c = certificate;
+    let mut methods = Vec::new();
+    let groups = |n: usize| {
+        if n == 1 {
+            "1 group".to_string()
+        } else {
+            format!("{n} groups")
+        }
+    };
+    if c.closed_form > 0 {
+        methods.push(format!("{} alone", groups(c.closed_form)));
+    }
+    if c.lagrangian > 0 {
+        methods.push(format!(
+            "{} by Lagrangian bounds (at most {} iterations)",
+            groups(c.lagrangian),
+            c.iterations
+        ));
+    }
+    if c.simplex > 0 {
+        methods.push(format!("{} by the simplex engine", groups(c.simplex)));
+    }
+    if c.bounded > 0 {
+        methods.push(format!("{} not proven", groups(c.bounded)));
+    }
+    let methods = if methods.is_empty() {
+        "no groups".to_string()
+    } else {
+        methods.join(", ")
+    };
+    if c.proven {
+        format!(
+            "Proven optimal: lower bound = upper bound = {} ({methods}).",
+            fixed(c.upper, 4)
+        )
+    } else {
+        format!(
+            "NOT PROVEN: the LP optimum lies between {} and {} (relative gap {:.1e}); {methods}; \
+             d, its parts and the switches are those of the upper bound.",
+            fixed(c.lower, 4),
+            fixed(c.upper, 4),
+            c.gap
+        )
+    }
+}
+
 impl InputInfo {
     /// Describes two input files and the distance used.
     pub fn new(

@@ -4,10 +4,10 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{count, fixed, write_run_header, Exactness, InputInfo};
+use super::{certificate_line, count, fixed, write_run_header, Exactness, InputInfo};
 use crate::switches::{JumpEvent, SwitchEvent};
 use crate::trajectory::Window;
-use crate::trajectory_metric::{SolveStats, TrajectoryParams, TrajectoryScore};
+use crate::trajectory_metric::{Certificate, SolveStats, TrajectoryParams, TrajectoryScore};
 
 /// The `score` JSON document. The top-level keys are a contract.
 #[derive(Serialize)]
@@ -49,6 +49,8 @@ pub struct ScoreDocument<'a> {
     pub engine: &'a str,
     /// LP sizes.
     pub lp: &'a SolveStats,
+    /// The bounds that prove the value and how each group was solved.
+    pub certificate: &'a Certificate,
     /// Switches seen from the truths (keys: time, truth, from, to, weight, cost).
     pub switches: &'a [SwitchEvent],
     /// Jumps seen from the estimates (keys: time, estimate, from, to, weight, cost).
@@ -82,6 +84,7 @@ impl<'a> ScoreDocument<'a> {
             window: score.window,
             engine,
             lp: &score.stats,
+            certificate: &score.certificate,
             switches,
             jumps,
         }
@@ -176,10 +179,19 @@ pub fn write_text<W: Write>(
     }
     writeln!(out)?;
     let s = &score.stats;
-    writeln!(
-        out,
-        "LP ({engine}): {} candidate pairs in {} groups, {} solved as LPs ({} variables, {} rows)",
-        s.candidate_pairs, s.components, s.lp_components, s.variables, s.constraints
-    )?;
+    if s.lp_components > 0 {
+        writeln!(
+            out,
+            "LP ({engine}): {} candidate pairs in {} groups, {} solved as LPs ({} variables, {} rows)",
+            s.candidate_pairs, s.components, s.lp_components, s.variables, s.constraints
+        )?;
+    } else {
+        writeln!(
+            out,
+            "LP ({engine}): {} candidate pairs in {} groups",
+            s.candidate_pairs, s.components
+        )?;
+    }
+    writeln!(out, "{}", certificate_line(&score.certificate))?;
     Exactness::new(score).write_text(out)
 }

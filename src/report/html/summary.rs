@@ -281,6 +281,12 @@ pub(super) fn section(out: &mut String, report: &Report) {
         };
         (text, None)
     }));
+    rows.push(row("proof", report, |t| {
+        (
+            esc(&crate::report::certificate_line(&t.score.certificate)),
+            None,
+        )
+    }));
 
     out.push_str("<table class=\"summary\">\n<thead><tr><th scope=\"col\"></th>");
     for (index, tracker) in report.trackers.iter().enumerate() {
