@@ -3,8 +3,11 @@
 //!
 //! `cargo run --release --example scale -- SCENE [seed] [engine] [cutoff] [gamma]`
 //!
-//! SCENE is `small`, `medium`, `large` or `STEPSxOBJECTS` (for example `10000x100`: that many
-//! steps with about that many objects a step, the large preset's density and tracker); engine
+//! SCENE is `small`, `medium`, `large`, `STEPSxOBJECTS` (for example `10000x100`: that many
+//! steps with about that many objects a step, the large preset's density and tracker) or
+//! `dense` or `dense-unrelated` (300 truths and 300 tracks in a unit square for 200 steps: with the default cut-off
+//! every pair is a candidate at every step, the worst case for any engine; in the second the
+//! tracks move independently of the truths); engine
 //! is `lagrangian` (the default), `microlp` or `highs`; cutoff defaults to 10 and gamma to the
 //! cut-off. Memory: run it under `/usr/bin/time -v` and read "Maximum resident set size".
 
@@ -12,13 +15,14 @@ use std::time::Instant;
 
 use switchyard::distance::Distance;
 use switchyard::synth::{generate_truth, imitate_tracker, SceneConfig, ScenePreset, TrackerConfig};
+use switchyard::trajectory::{Trajectory, TrajectorySet};
 use switchyard::trajectory_metric::{score_with, Engine, SolveOptions, TrajectoryParams};
 
 fn main() {
     let args: Vec<String> = std::env::args().collect();
     let scene = args.get(1).map_or("small", String::as_str);
     let (config, tracker) = match scene {
-        "small" => preset(ScenePreset::Small),
+        "small" | "dense" | "dense-unrelated" => preset(ScenePreset::Small),
         "medium" => preset(ScenePreset::Medium),
         "large" => preset(ScenePreset::Large),
         other => {
@@ -41,8 +45,13 @@ fn main() {
     let cutoff: f64 = args.get(4).map_or(10.0, |s| s.parse().expect("a cut-off"));
     let gamma: f64 = args.get(5).map_or(cutoff, |s| s.parse().expect("a gamma"));
     let started = Instant::now();
-    let truth = generate_truth(&config, seed).expect("a valid scene");
-    let estimate = imitate_tracker(&truth, &tracker, seed).expect("a valid tracker");
+    let (truth, estimate) = if scene == "dense" || scene == "dense-unrelated" {
+        dense(seed, scene == "dense-unrelated")
+    } else {
+        let truth = generate_truth(&config, seed).expect("a valid scene");
+        let estimate = imitate_tracker(&truth, &tracker, seed).expect("a valid tracker");
+        (truth, estimate)
+    };
     let generated = started.elapsed();
     let params = TrajectoryParams::new(cutoff, 1.0, gamma).expect("valid parameters");
     let options = SolveOptions {
@@ -87,4 +96,34 @@ fn main() {
 
 fn preset(preset: ScenePreset) -> (SceneConfig, TrackerConfig) {
     (SceneConfig::preset(preset), TrackerConfig::preset(preset))
+}
+
+/// 300 truths and 300 tracks jumping about the unit square for 200 steps, each track near its
+/// truth (or, `unrelated`, anywhere): every truth is within any cut-off above 1.5 of every
+/// track at every step.
+fn dense(seed: u64, unrelated: bool) -> (TrajectorySet, TrajectorySet) {
+    use rand::{RngExt, SeedableRng};
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(seed);
+    let mut truths = Vec::new();
+    let mut tracks = Vec::new();
+    for object in 0..300 {
+        let mut truth = Vec::new();
+        let mut track = Vec::new();
+        for step in 0..200 {
+            let (x, y): (f64, f64) = (rng.random(), rng.random());
+            let noise: (f64, f64) = (rng.random::<f64>() * 0.05, rng.random::<f64>() * 0.05);
+            truth.push((step, vec![x, y]));
+            if unrelated {
+                track.push((step, vec![rng.random::<f64>(), rng.random::<f64>()]));
+            } else {
+                track.push((step, vec![(x + noise.0).min(1.0), (y + noise.1).min(1.0)]));
+            }
+        }
+        truths.push(Trajectory::new(format!("t{object}"), 2, truth).expect("a trajectory"));
+        tracks.push(Trajectory::new(format!("e{object}"), 2, track).expect("a trajectory"));
+    }
+    (
+        TrajectorySet::new(2, truths).expect("a set"),
+        TrajectorySet::new(2, tracks).expect("a set"),
+    )
 }

@@ -56,6 +56,13 @@ pub struct Settings {
     pub tolerance: f64,
     /// Greedy repair every this many iterations.
     pub repair_every: usize,
+    /// Cell updates (cells x iterations) at most: a component with very many cells gets
+    /// fewer iterations (at least `min_iterations`), so that a scene where every pair is a
+    /// candidate at every step ends in bounded time. A count, not a clock: the result does not
+    /// depend on the machine's speed.
+    pub max_work: u64,
+    /// Iterations every component may have, whatever its size.
+    pub min_iterations: usize,
 }
 
 impl Default for Settings {
@@ -64,6 +71,8 @@ impl Default for Settings {
             max_iterations: 500,
             tolerance: 1e-9,
             repair_every: 10,
+            max_work: 1_000_000_000,
+            min_iterations: 30,
         }
     }
 }
@@ -637,11 +646,19 @@ pub fn solve(
     repair_time += started.elapsed();
 
     let mut lower = f64::NEG_INFINITY;
-    let mut theta = 1.0;
+    let mut theta: f64 = 1.0;
     let mut stalled = 0;
+    // Bounds of the current round of iterations: the step grows when they rose every time and
+    // shrinks when they zig-zagged without a better bound.
+    let mut rising = 0usize;
+    let mut previous_bound = f64::NEG_INFINITY;
     let mut iterations = 0;
     let mut count = vec![0i32; slots];
-    while iterations < settings.max_iterations {
+    let cells = model.gains.len().max(1) as u64;
+    let allowed = settings
+        .max_iterations
+        .min((settings.max_work / cells).max(settings.min_iterations as u64) as usize);
+    while iterations < allowed {
         iterations += 1;
         let started = Instant::now();
         let prefix = model.prefix(&mu);
@@ -662,6 +679,12 @@ pub fn solve(
         } else {
             stalled += 1;
         }
+        if bound > previous_bound {
+            rising += 1;
+        } else {
+            rising = 0;
+        }
+        previous_bound = bound;
         count.iter_mut().for_each(|c| *c = 0);
         for (_, runs) in &solved {
             model.occupy(runs, &mut count);
@@ -716,6 +739,10 @@ pub fn solve(
             if theta < 1e-7 {
                 break;
             }
+        } else if rising >= 10 {
+            // Ten better bounds in a row: the steps are short of the optimum; lengthen them.
+            theta = (theta * 1.5).min(2.0);
+            rising = 0;
         }
         // Projected Polyak step on the rows that are over capacity or priced.
         let mut norm = 0.0;

@@ -655,13 +655,14 @@ fn check_pair_budget(
     )))
 }
 
-/// A byte count for people: "3.2 GB".
+/// A byte count for people, in the units `--memory-budget` takes: "3.2 GiB", "12 MiB".
 fn bytes(count: u64) -> String {
     let count = count as f64;
-    if count >= 1e9 {
-        format!("{:.1} GB", count / 1e9)
+    let gib = (1u64 << 30) as f64;
+    if count >= gib {
+        format!("{:.1} GiB", count / gib)
     } else {
-        format!("{:.0} MB", (count / 1e6).ceil())
+        format!("{:.0} MiB", (count / (1u64 << 20) as f64).ceil())
     }
 }
 
@@ -879,11 +880,20 @@ fn solve_component(
         let variables = model::event_variables(pairs, members, window, params.switch_cost());
         let need = (variables as u64).saturating_mul(BYTES_PER_LP_VARIABLE);
         if need > options.memory_budget {
+            // When most pairs of the group are candidates, the cut-off is what makes it hard.
+            let crowded = members.len() * 2 > truths.len() * estimates.len();
+            let advice = if crowded {
+                "most truths of the group come within the cut-off of most estimates: a smaller \
+                 cut-off (near the errors a track may have while following an object) makes it \
+                 small, or raise --memory-budget to prove it"
+            } else {
+                "raise --memory-budget to prove it"
+            };
             let note = format!(
                 "a group of {} truths and {} estimates was not proven optimal after {} \
                  iterations (its d^p lies within {:.3e} of the value reported); proving it by \
                  the simplex engine would need about {} for {variables} LP variables, over the \
-                 memory budget of {}: raise --memory-budget to prove it",
+                 memory budget of {}; {advice}",
                 truths.len(),
                 estimates.len(),
                 outcome.iterations,
