@@ -35,7 +35,7 @@ use std::time::{Duration, Instant};
 
 use rayon::prelude::*;
 
-use super::pairs::CandidatePair;
+use super::pairs::{CandidatePair, CloseStep};
 use super::{PairAssignment, WeightSpan};
 use crate::trajectory::{Step, Window};
 
@@ -51,9 +51,6 @@ const FROM_OTHER: u32 = 3;
 pub struct Settings {
     /// Subgradient iterations at most.
     pub max_iterations: usize,
-    /// Certified when upper - lower <= `tolerance` x the component's d^p (plus 1e-12 of its
-    /// all-unassigned cost, for rounding).
-    pub tolerance: f64,
     /// Greedy repair every this many iterations.
     pub repair_every: usize,
     /// Cell updates (cells x iterations) at most: a component with very many cells gets
@@ -69,7 +66,6 @@ impl Default for Settings {
     fn default() -> Self {
         Settings {
             max_iterations: 500,
-            tolerance: 1e-9,
             repair_every: 10,
             max_work: 1_000_000_000,
             min_iterations: 30,
@@ -96,7 +92,24 @@ pub struct Outcome {
     pub repair_time: Duration,
     /// Truth-step cells of the shortest-path model.
     pub cells: usize,
+    /// When not certified: for each member pair, its Lagrangian reduced cost at the best
+    /// prices (how much more than its truth's shortest path the cheapest path through the pair
+    /// costs). A pair used by an integral assignment cheaper than `upper` has a reduced cost
+    /// below `upper - lower`. Empty when certified.
+    pub reduced_costs: Vec<f64>,
+    /// The component's all-unassigned cost, against which the tolerance is read.
+    pub scale: f64,
 }
+
+/// Whether an upper bound `upper` and a lower bound `lower` (gain form) of a component whose
+/// all-unassigned cost is `scale` prove its value: their difference is at most 1e-9 of the
+/// component's d^p (`scale + upper`), plus 1e-12 of `scale` for rounding.
+pub fn proves(lower: f64, upper: f64, scale: f64) -> bool {
+    upper - lower <= TOLERANCE * (scale + upper).max(0.0) + 1e-12 * scale
+}
+
+/// The relative tolerance of a proof.
+const TOLERANCE: f64 = 1e-9;
 
 /// One pair in the engine's layout.
 #[derive(Clone, Copy, Debug)]
@@ -159,6 +172,10 @@ struct Taken {
 /// Reusable buffers of one truth's dynamic program.
 #[derive(Default)]
 struct Scratch {
+    /// When set, the value of every cell (the cheapest path prefix ending there, the cell
+    /// included) is kept in `recorded`, by the cell's place among the truth's cells.
+    record: bool,
+    recorded: Vec<f64>,
     back: Vec<u32>,
     values: Vec<f64>,
     previous: Vec<u32>,
@@ -271,6 +288,39 @@ impl Model {
         }
     }
 
+    /// The same component with time reversed (step k becomes -k): heads become tails, and
+    /// each estimate's slots come in the opposite order.
+    fn reversed(
+        pairs: &[CandidatePair],
+        members: &[usize],
+        window: Window,
+        cutoff_power: f64,
+        switch_cost: f64,
+    ) -> Model {
+        let mirrored: Vec<CandidatePair> = members
+            .iter()
+            .map(|&m| CandidatePair {
+                truth: pairs[m].truth,
+                estimate: pairs[m].estimate,
+                close: pairs[m]
+                    .close
+                    .iter()
+                    .rev()
+                    .map(|c| CloseStep {
+                        step: -c.step,
+                        cost: c.cost,
+                    })
+                    .collect(),
+            })
+            .collect();
+        let all: Vec<usize> = (0..mirrored.len()).collect();
+        let window = Window {
+            first: -window.last,
+            last: -window.first,
+        };
+        Model::new(&mirrored, &all, window, cutoff_power, switch_cost)
+    }
+
     fn slot(&self, pair: &Pair, step: Step) -> usize {
         self.estimates[pair.estimate as usize].start
             + pair.slot_first as usize
@@ -310,6 +360,10 @@ impl Model {
             last_pair.offset + (last_pair.last - last_pair.first + 1) as usize - base_offset;
         scratch.back.clear();
         scratch.back.resize(cells, FROM_SAME);
+        if scratch.record {
+            scratch.recorded.clear();
+            scratch.recorded.resize(cells, f64::INFINITY);
+        }
         scratch.values.clear();
         scratch.values.resize(pairs.len(), f64::INFINITY);
         scratch.previous.clear();
@@ -397,8 +451,11 @@ impl Model {
                     from = FROM_OTHER + other.1;
                 }
                 scratch.back[pair.offset - base_offset + position] = from;
-                scratch.values[q as usize] =
-                    value + self.gains[pair.offset + position] + mu[self.slot(pair, step)];
+                let value = value + self.gains[pair.offset + position] + mu[self.slot(pair, step)];
+                scratch.values[q as usize] = value;
+                if scratch.record {
+                    scratch.recorded[pair.offset - base_offset + position] = value;
+                }
             }
             // Pairs whose window starts here.
             while let Some(pair) = pairs.get(next_start).filter(|p| p.first == step) {
@@ -423,8 +480,11 @@ impl Model {
                     }
                 }
                 scratch.back[pair.offset - base_offset] = from;
-                scratch.values[q as usize] =
-                    value + self.gains[pair.offset] + mu[self.slot(pair, step)];
+                let value = value + self.gains[pair.offset] + mu[self.slot(pair, step)];
+                scratch.values[q as usize] = value;
+                if scratch.record {
+                    scratch.recorded[pair.offset - base_offset] = value;
+                }
             }
             // Tails from pairs whose window ends here.
             for &q in &scratch.current {
@@ -565,6 +625,63 @@ impl Model {
             .collect()
     }
 
+    /// The value of every cell under prices `mu` (the cheapest path prefix of its truth ending
+    /// there, the cell included), and every truth's shortest path cost.
+    fn cell_values(&self, mu: &[f64]) -> (Vec<f64>, Vec<f64>) {
+        let prefix = self.prefix(mu);
+        let mut values = vec![f64::INFINITY; self.gains.len()];
+        let mut paths = Vec::with_capacity(self.truths.len());
+        let mut scratch = Scratch {
+            record: true,
+            ..Scratch::default()
+        };
+        for (t, range) in self.truths.iter().enumerate() {
+            let (cost, _) = self.shortest_path(t, mu, &prefix, None, &mut scratch);
+            paths.push(cost);
+            if let Some(first) = self.pairs.get(range.start).filter(|_| !range.is_empty()) {
+                values[first.offset..first.offset + scratch.recorded.len()]
+                    .copy_from_slice(&scratch.recorded);
+            }
+        }
+        (values, paths)
+    }
+
+    /// For each member pair, how much more than its truth's shortest path the cheapest path
+    /// through the pair costs under prices `mu` (a Lagrangian reduced cost, >= 0). `reversed`
+    /// is the same component with time reversed: a path's suffix from a cell is a prefix there.
+    fn reduced_costs(&self, reversed: &Model, mu: &[f64]) -> Vec<f64> {
+        // Slots mirror each other estimate by estimate.
+        let mut mirrored = vec![0.0; mu.len()];
+        for (forward, backward) in self.estimates.iter().zip(&reversed.estimates) {
+            for (s, slot) in forward.clone().enumerate() {
+                mirrored[backward.end - 1 - s] = mu[slot];
+            }
+        }
+        let (ahead, shortest) = self.cell_values(mu);
+        let (behind, _) = reversed.cell_values(&mirrored);
+        let mut place = vec![0usize; self.pairs.len()];
+        for (index, pair) in reversed.pairs.iter().enumerate() {
+            place[pair.member as usize] = index;
+        }
+        let mut reduced = vec![f64::INFINITY; self.pairs.len()];
+        for (t, range) in self.truths.iter().enumerate() {
+            for pair in &self.pairs[range.clone()] {
+                let back = &reversed.pairs[place[pair.member as usize]];
+                let mut best = f64::INFINITY;
+                for step in pair.first..=pair.last {
+                    let position = (step - pair.first) as usize;
+                    let cell = self.gains[pair.offset + position] + mu[self.slot(pair, step)];
+                    let through = ahead[pair.offset + position]
+                        + behind[back.offset + (pair.last - step) as usize]
+                        - cell;
+                    best = best.min(through);
+                }
+                reduced[pair.member as usize] = (best - shortest[t]).max(0.0);
+            }
+        }
+        reduced
+    }
+
     fn prefix(&self, mu: &[f64]) -> Vec<f64> {
         let mut prefix = Vec::with_capacity(mu.len() + 1);
         let mut sum = 0.0;
@@ -635,7 +752,7 @@ pub fn solve(
     let mut mu = vec![0.0; slots];
     let mut paths_time = Duration::ZERO;
     let mut repair_time = Duration::ZERO;
-    let tolerance = |upper: f64| settings.tolerance * (scale + upper).max(0.0) + 1e-12 * scale;
+    let tolerance = |upper: f64| TOLERANCE * (scale + upper).max(0.0) + 1e-12 * scale;
 
     let started = Instant::now();
     let prefix = model.prefix(&mu);
@@ -646,6 +763,7 @@ pub fn solve(
     repair_time += started.elapsed();
 
     let mut lower = f64::NEG_INFINITY;
+    let mut best_mu = mu.clone();
     let mut theta: f64 = 1.0;
     let mut stalled = 0;
     // Bounds of the current round of iterations: the step grows when they rose every time and
@@ -676,6 +794,7 @@ pub fn solve(
                 stalled = 0;
             }
             lower = bound;
+            best_mu.clone_from(&mu);
         } else {
             stalled += 1;
         }
@@ -766,12 +885,21 @@ pub fn solve(
         }
     }
     drop(best_paths);
+    let certified = upper - lower <= tolerance(upper);
+    let reduced_costs = if certified {
+        Vec::new()
+    } else {
+        let reversed = Model::reversed(pairs, members, window, cutoff_power, switch_cost);
+        model.reduced_costs(&reversed, &best_mu)
+    };
     Outcome {
+        scale,
+        reduced_costs,
         pairs: best_pairs,
         upper,
         lower: lower.min(upper),
         iterations,
-        certified: upper - lower <= tolerance(upper),
+        certified,
         paths_time,
         repair_time,
         cells: model.gains.len(),

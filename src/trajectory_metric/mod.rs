@@ -398,9 +398,9 @@ struct ComponentSolution {
     iterations: usize,
     note: Option<String>,
     stats: SolveStats,
-    /// With [`SolveOptions::exact`], a component whose LP optimum is fractional, kept for the
-    /// integer pass.
-    fractional: Option<Fractional>,
+    /// With [`SolveOptions::exact`], the parts of the component whose LP optimum is
+    /// fractional, kept for the integer pass.
+    fractional: Vec<Fractional>,
 }
 
 /// What the integer pass needs of a component with a fractional LP optimum.
@@ -801,29 +801,7 @@ fn solve_component(
 ) -> Result<ComponentSolution> {
     let cutoff_power = params.cutoff_power();
     if members.len() == 1 && options.split_components {
-        // A lone pair: full weight over the whole window is optimal (its gains are negative,
-        // nothing competes, and a constant weight never switches).
-        let pair = &pairs[members[0]];
-        let objective = pair.close.iter().map(|c| c.cost - cutoff_power).sum();
-        return Ok(ComponentSolution {
-            pairs: vec![PairAssignment {
-                truth: pair.truth,
-                estimate: pair.estimate,
-                spans: vec![WeightSpan {
-                    first: window.first,
-                    last: window.last,
-                    weight: 1.0,
-                }],
-                close: pair.close.clone(),
-            }],
-            objective,
-            lower: objective,
-            method: Method::ClosedForm,
-            iterations: 0,
-            note: None,
-            stats: SolveStats::default(),
-            fractional: None,
-        });
+        return Ok(lone_pair(&pairs[members[0]], window, cutoff_power));
     }
     let cost = |assignment: &[PairAssignment]| component_cost(assignment, window, params);
     let mut found = None;
@@ -874,8 +852,16 @@ fn solve_component(
                 iterations: outcome.iterations,
                 note: None,
                 stats,
-                fractional: None,
+                fractional: Vec::new(),
             });
+        }
+        if let Some(mut solution) =
+            solve_restricted(pairs, members, window, params, options, &outcome)?
+        {
+            solution.stats.cells = stats.cells;
+            solution.stats.paths_seconds = stats.paths_seconds;
+            solution.stats.repair_seconds = stats.repair_seconds;
+            return Ok(solution);
         }
         let variables = model::event_variables(pairs, members, window, params.switch_cost());
         let need = (variables as u64).saturating_mul(BYTES_PER_LP_VARIABLE);
@@ -909,17 +895,102 @@ fn solve_component(
                 iterations: outcome.iterations,
                 note: Some(note),
                 stats,
-                fractional: None,
+                fractional: Vec::new(),
             });
         }
         found = Some(outcome);
     }
     let started = Instant::now();
+    let simplex = simplex_component(pairs, members, window, params, options)?;
+    let mut stats = SolveStats {
+        simplex_seconds: started.elapsed().as_secs_f64(),
+        ..simplex.stats
+    };
+    stats.cells = found.as_ref().map_or(0, |o| o.cells);
+    let iterations = found.as_ref().map_or(0, |o| o.iterations);
+    Ok(prefer_integral(
+        ComponentSolution {
+            pairs: simplex.pairs,
+            objective: simplex.objective,
+            lower: simplex.objective,
+            method: Method::Simplex,
+            iterations,
+            note: None,
+            stats,
+            fractional: simplex.fractional.into_iter().collect(),
+        },
+        found,
+    ))
+}
+
+/// A component of one pair: full weight over the whole window is optimal (its gains are
+/// negative, nothing competes, and a constant weight never switches).
+fn lone_pair(pair: &CandidatePair, window: Window, cutoff_power: f64) -> ComponentSolution {
+    let objective = pair.close.iter().map(|c| c.cost - cutoff_power).sum();
+    ComponentSolution {
+        pairs: vec![PairAssignment {
+            truth: pair.truth,
+            estimate: pair.estimate,
+            spans: vec![WeightSpan {
+                first: window.first,
+                last: window.last,
+                weight: 1.0,
+            }],
+            close: pair.close.clone(),
+        }],
+        objective,
+        lower: objective,
+        method: Method::ClosedForm,
+        iterations: 0,
+        note: None,
+        stats: SolveStats::default(),
+        fractional: Vec::new(),
+    }
+}
+
+/// When the simplex optimum is fractional but the integral assignment the Lagrangian engine
+/// found costs no more, that assignment is an optimum too, with unambiguous switches: report it.
+fn prefer_integral(
+    solution: ComponentSolution,
+    found: Option<lagrangian::Outcome>,
+) -> ComponentSolution {
+    let integral = solution.pairs.iter().all(is_integral);
+    match found {
+        Some(outcome)
+            if !integral && outcome.upper <= solution.objective + tie(solution.objective) =>
+        {
+            ComponentSolution {
+                pairs: outcome.pairs,
+                objective: outcome.upper,
+                fractional: Vec::new(),
+                ..solution
+            }
+        }
+        _ => solution,
+    }
+}
+
+/// A component's LP solved by the simplex engine.
+struct SimplexSolution {
+    pairs: Vec<PairAssignment>,
+    objective: f64,
+    stats: SolveStats,
+    fractional: Option<Fractional>,
+}
+
+/// Builds the component's LP at the chosen reduction and solves it with the simplex engine.
+fn simplex_component(
+    pairs: &[CandidatePair],
+    members: &[usize],
+    window: Window,
+    params: &TrajectoryParams,
+    options: &SolveOptions,
+) -> Result<SimplexSolution> {
     let model = build(
         pairs,
         members,
         window,
-        cutoff_power,
+        params.cutoff_power(),
         params.switch_cost(),
         options.reduction,
     );
@@ -936,43 +1007,121 @@ fn solve_component(
         .zip(&model.segments)
         .map(|(&m, segments)| decode(&pairs[m], segments, &values))
         .collect();
-    stats.lp_components = 1;
-    stats.variables = model.program.variables();
-    stats.constraints = model.program.rows.len();
-    stats.nonzeros = model.program.nonzeros();
-    stats.simplex_seconds = started.elapsed().as_secs_f64();
-    let iterations = found.as_ref().map_or(0, |o| o.iterations);
+    let stats = SolveStats {
+        lp_components: 1,
+        variables: model.program.variables(),
+        constraints: model.program.rows.len(),
+        nonzeros: model.program.nonzeros(),
+        ..SolveStats::default()
+    };
     let integral = decoded.iter().all(is_integral);
-    if let Some(outcome) = found.filter(|o| !integral && o.upper <= objective + tie(objective)) {
-        // The engine's optimum is fractional, but the integral assignment the Lagrangian engine
-        // found costs no more: it is an optimum too, and its switches are unambiguous.
-        return Ok(ComponentSolution {
-            pairs: outcome.pairs,
-            objective: outcome.upper,
-            lower: objective,
-            method: Method::Simplex,
-            iterations,
-            note: None,
-            stats,
-            fractional: None,
-        });
-    }
     let fractional = (options.exact.is_some() && !integral).then(|| Fractional {
         members: members.to_vec(),
         model,
         values,
         objective,
     });
-    Ok(ComponentSolution {
+    Ok(SimplexSolution {
         pairs: decoded,
-        fractional,
         objective,
-        lower: objective,
-        method: Method::Simplex,
-        iterations,
-        note: None,
         stats,
+        fractional,
     })
+}
+
+/// The pricing fallback for a component the Lagrangian engine did not prove: the LP restricted
+/// to the pairs whose reduced cost at the best prices is small (and those the best assignment
+/// uses) is split into its own components and solved by the simplex engine. Its optimum z is
+/// a feasible point of the full LP, so LP <= z; with the Lagrangian bound L <= LP, z - L within
+/// the tolerance proves z is the LP optimum. Thresholds of 1, 8 and 64 times the gap are tried;
+/// `None` when none proves it, or when the restriction would keep every pair.
+fn solve_restricted(
+    pairs: &[CandidatePair],
+    members: &[usize],
+    window: Window,
+    params: &TrajectoryParams,
+    options: &SolveOptions,
+    outcome: &lagrangian::Outcome,
+) -> Result<Option<ComponentSolution>> {
+    let gap = outcome.upper - outcome.lower;
+    if outcome.reduced_costs.len() != members.len() || !gap.is_finite() {
+        return Ok(None);
+    }
+    let used: Vec<bool> = outcome.pairs.iter().map(|p| !p.spans.is_empty()).collect();
+    let mut previous = 0;
+    for factor in [1.0, 8.0, 64.0] {
+        let threshold = gap * factor;
+        let keep: Vec<usize> = (0..members.len())
+            .filter(|&l| used[l] || outcome.reduced_costs[l] <= threshold)
+            .collect();
+        if keep.len() == members.len() {
+            return Ok(None);
+        }
+        if keep.len() == previous {
+            continue;
+        }
+        previous = keep.len();
+        let started = Instant::now();
+        let kept: Vec<usize> = keep.iter().map(|&l| members[l]).collect();
+        let subset: Vec<CandidatePair> = kept.iter().map(|&m| pairs[m].clone()).collect();
+        let groups: Vec<Vec<usize>> = components(&subset)
+            .into_iter()
+            .map(|group| group.into_iter().map(|g| kept[g]).collect())
+            .collect();
+        let variables: usize = groups
+            .iter()
+            .filter(|g| g.len() > 1)
+            .map(|g| model::event_variables(pairs, g, window, params.switch_cost()))
+            .sum();
+        if (variables as u64).saturating_mul(BYTES_PER_LP_VARIABLE) > options.memory_budget {
+            return Ok(None);
+        }
+        let mut solution = ComponentSolution {
+            pairs: Vec::with_capacity(members.len()),
+            objective: 0.0,
+            lower: outcome.lower,
+            method: Method::Simplex,
+            iterations: outcome.iterations,
+            note: None,
+            stats: SolveStats::default(),
+            fractional: Vec::new(),
+        };
+        for group in &groups {
+            if group.len() == 1 {
+                let lone = lone_pair(&pairs[group[0]], window, params.cutoff_power());
+                solution.objective += lone.objective;
+                solution.pairs.extend(lone.pairs);
+                continue;
+            }
+            let simplex = simplex_component(pairs, group, window, params, options)?;
+            solution.objective += simplex.objective;
+            solution.pairs.extend(simplex.pairs);
+            solution.fractional.extend(simplex.fractional);
+            let s = simplex.stats;
+            solution.stats.lp_components += 1;
+            solution.stats.variables += s.variables;
+            solution.stats.constraints += s.constraints;
+            solution.stats.nonzeros += s.nonzeros;
+        }
+        solution.stats.simplex_seconds = started.elapsed().as_secs_f64();
+        if !lagrangian::proves(outcome.lower, solution.objective, outcome.scale) {
+            continue;
+        }
+        // Proven. The pairs left out carry no weight.
+        for (l, &m) in members.iter().enumerate() {
+            if !used[l] && outcome.reduced_costs[l] > threshold {
+                solution.pairs.push(PairAssignment {
+                    truth: pairs[m].truth,
+                    estimate: pairs[m].estimate,
+                    spans: Vec::new(),
+                    close: pairs[m].close.clone(),
+                });
+            }
+        }
+        solution.lower = solution.objective;
+        return Ok(Some(prefer_integral(solution, Some(outcome.clone()))));
+    }
+    Ok(None)
 }
 
 /// How much two optima of one component may differ by rounding alone.
