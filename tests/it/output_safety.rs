@@ -405,11 +405,8 @@ fn a_signal_during_a_write_removes_the_temporary_file() {
             .iter()
             .any(|path| fs::metadata(path).is_ok_and(|m| m.len() > 0))
     });
-    let signal = StdCommand::new("kill")
-        .args(["-TERM", &child.id().to_string()])
-        .status()
-        .unwrap();
-    assert!(signal.success());
+    let pid = rustix::process::Pid::from_child(&child);
+    rustix::process::kill_process(pid, rustix::process::Signal::TERM).unwrap();
     let mut status = None;
     let ended = wait_for(Duration::from_secs(30), || {
         status = child.try_wait().unwrap();
