@@ -90,12 +90,8 @@ impl OutputArgs {
     pub fn emit(&self, render: impl FnOnce(&mut Sink) -> anyhow::Result<()>) -> anyhow::Result<()> {
         let Some(path) = &self.output else {
             let buffer = in_memory(render)?;
-            let mut stdout = std::io::stdout().lock();
-            return match stdout.write_all(&buffer).and_then(|()| stdout.flush()) {
-                Ok(()) => Ok(()),
-                Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
-                Err(e) => Err(e).context("writing to standard output"),
-            };
+            return write_at_once(&mut std::io::stdout().lock(), &buffer)
+                .context("writing to standard output");
         };
         match target(path)? {
             Target::Direct(device) => {
@@ -105,8 +101,7 @@ impl OutputArgs {
                     .write(true)
                     .open(&device)
                     .with_context(|| format!("{}: cannot open for writing", path.display()))?;
-                file.write_all(&buffer)
-                    .and_then(|()| file.flush())
+                write_at_once(&mut file, &buffer)
                     .with_context(|| format!("{}: write failed", path.display()))
             }
             Target::Replace {
@@ -114,6 +109,15 @@ impl OutputArgs {
                 existing,
             } => replace(path, &resolved, existing.as_ref(), render),
         }
+    }
+}
+
+/// Writes `buffer` and flushes; a reader that has gone (a closed pipe) is not an error, as
+/// for any filter whose reader stops early.
+fn write_at_once(out: &mut impl Write, buffer: &[u8]) -> std::io::Result<()> {
+    match out.write_all(buffer).and_then(|()| out.flush()) {
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+        result => result,
     }
 }
 
@@ -176,16 +180,17 @@ fn follow_links(path: &Path) -> anyhow::Result<PathBuf> {
     bail!("{}: too many levels of symbolic links", path.display())
 }
 
-/// Classifies the output path, refusing what must not be written or replaced.
+/// Classifies the output path, refusing what must not be written or replaced. The system
+/// follows links first, so that links it resolves itself (`/dev/stdout`) work too.
 fn target(path: &Path) -> anyhow::Result<Target> {
-    let resolved = follow_links(path)?;
-    let meta = match std::fs::metadata(&resolved) {
+    let meta = match std::fs::metadata(path) {
         Ok(meta) => meta,
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            // A new file, or a dangling link whose target is to be created.
             return Ok(Target::Replace {
-                path: resolved,
+                path: follow_links(path)?,
                 existing: None,
-            })
+            });
         }
         Err(e) => return Err(e).with_context(|| format!("{}: cannot examine", path.display())),
     };
@@ -196,27 +201,34 @@ fn target(path: &Path) -> anyhow::Result<Target> {
             path.display()
         );
     }
-    if kind.is_file() {
-        if read_only(&resolved, &meta) {
-            bail!(
-                "{}: the file is read-only (no write permission); not replacing it",
-                path.display()
-            );
-        }
-        return Ok(Target::Replace {
-            path: resolved,
-            existing: Some(meta),
-        });
+    if !kind.is_file() {
+        return special_target(path, &meta);
     }
-    special_target(path, resolved, &meta)
+    if read_only(path, &meta) {
+        bail!(
+            "{}: the file is read-only (no write permission); not replacing it",
+            path.display()
+        );
+    }
+    let linked = std::fs::symlink_metadata(path).is_ok_and(|m| m.file_type().is_symlink());
+    let resolved = if linked {
+        path.canonicalize()
+            .with_context(|| format!("{}: cannot follow the link", path.display()))?
+    } else {
+        path.to_path_buf()
+    };
+    Ok(Target::Replace {
+        path: resolved,
+        existing: Some(meta),
+    })
 }
 
 #[cfg(unix)]
-fn special_target(path: &Path, resolved: PathBuf, meta: &Metadata) -> anyhow::Result<Target> {
+fn special_target(path: &Path, meta: &Metadata) -> anyhow::Result<Target> {
     use std::os::unix::fs::FileTypeExt;
     let kind = meta.file_type();
     if kind.is_char_device() || kind.is_fifo() {
-        return Ok(Target::Direct(resolved));
+        return Ok(Target::Direct(path.to_path_buf()));
     }
     let what = if kind.is_block_device() {
         "a block device"
@@ -229,7 +241,7 @@ fn special_target(path: &Path, resolved: PathBuf, meta: &Metadata) -> anyhow::Re
 }
 
 #[cfg(not(unix))]
-fn special_target(path: &Path, _: PathBuf, _: &Metadata) -> anyhow::Result<Target> {
+fn special_target(path: &Path, _: &Metadata) -> anyhow::Result<Target> {
     bail!(
         "{}: is not an ordinary file; not writing output to it",
         path.display()

@@ -365,6 +365,22 @@ fn the_null_device_stays_a_device() {
     assert!(temporary_files(dir.path()).is_empty());
 }
 
+/// `/dev/stdout` is a link the system resolves itself (to a pipe here): written in place.
+#[test]
+fn dev_stdout_is_written_in_place() {
+    let (_dir, truth, estimate) = folder_with_inputs();
+    let args = metric_args(
+        "steps",
+        &truth,
+        &estimate,
+        &args!["--output", "/dev/stdout"],
+    );
+    let through_the_option = stdout_of(&args);
+    let plain = stdout_of(&metric_args("steps", &truth, &estimate, &[]));
+    assert!(!plain.is_empty());
+    assert_eq!(through_the_option, plain);
+}
+
 /// Waits up to `limit` for `condition`, checking every 20 ms.
 fn wait_for(limit: Duration, mut condition: impl FnMut() -> bool) -> bool {
     let start = Instant::now();
