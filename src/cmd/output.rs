@@ -61,7 +61,14 @@ impl OutputArgs {
         let Some(path) = &self.output else {
             return Ok(());
         };
-        target(path)?;
+        // Writing into a device or a FIFO destroys nothing: only an ordinary file can be an
+        // input that the output would replace (a terminal may well be both).
+        let Target::Replace {
+            existing: Some(_), ..
+        } = target(path)?
+        else {
+            return Ok(());
+        };
         let Some(output) = identity(path) else {
             return Ok(());
         };
