@@ -27,6 +27,7 @@ pub struct AuditArgs {
 }
 
 pub fn run(args: &AuditArgs) -> anyhow::Result<()> {
+    args.output.check(args.metric.input.paths())?;
     let (inputs, result) = compute(&args.metric)?;
     let (truth, estimate) = (&inputs.truth.set, &inputs.estimate.set);
     let switches = switch_events(&result.assignment, truth, estimate, &result.params);

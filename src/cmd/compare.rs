@@ -144,6 +144,12 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
     layout.distance = Some(distance.clone());
     if let Some(manifest_path) = &args.manifest {
         let manifest = read_manifest_path(manifest_path)?;
+        let named = manifest
+            .entries
+            .iter()
+            .flat_map(|e| [&e.truth, &e.estimate]);
+        args.output
+            .check(named.map(|p| p.as_path()).chain([Path::new(manifest_path)]))?;
         let data = Dataset::from_manifest(&manifest, &layout)?;
         let trackers = data
             .trackers()
@@ -195,6 +201,7 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
     let paths: Vec<&String> = std::iter::once(&truth)
         .chain(named.iter().map(|(_, f)| f))
         .collect();
+    args.output.check(&paths)?;
     let mut files: Vec<GroupedFile> = paths
         .par_iter()
         .map(|path| read_grouped_csv_path(path, &layout, &columns))

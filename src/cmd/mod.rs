@@ -5,11 +5,9 @@
 //! solver failed, or a result did not pass its consistency checks); 4 the work would not fit the
 //! memory budget (the message says why and what to do).
 
-use std::io::Write;
-use std::path::PathBuf;
 use std::process::ExitCode;
 
-use anyhow::{bail, Context};
+use anyhow::bail;
 use clap::{Args, Parser, Subcommand, ValueEnum};
 
 use switchyard::distance::{BoxLayout, Distance};
@@ -19,11 +17,14 @@ use switchyard::Error;
 
 mod audit;
 mod compare;
+mod output;
 mod report;
 mod score;
 mod steps;
 mod switches;
 mod synth;
+
+pub use output::OutputArgs;
 
 /// Score multi-object trackers against ground truth with GOSPA and trajectory GOSPA.
 #[derive(Parser, Debug)]
@@ -223,6 +224,11 @@ impl DistanceOptions {
 }
 
 impl InputArgs {
+    /// The two input files as named (`-` for standard input), for [`OutputArgs::check`].
+    pub fn paths(&self) -> [&str; 2] {
+        [&self.truth, &self.estimate]
+    }
+
     /// Reads both files and checks they can be compared with the chosen distance.
     pub fn read(&self, cutoff: f64) -> anyhow::Result<Inputs> {
         if self.truth == "-" && self.estimate == "-" {
@@ -443,71 +449,6 @@ pub enum Format {
     Csv,
     /// One JSON document.
     Json,
-}
-
-/// Where the output goes.
-#[derive(Args, Debug, Clone)]
-pub struct OutputArgs {
-    /// Write to FILE instead of standard output; the file appears only when complete.
-    #[arg(long, short = 'o', value_name = "FILE", visible_alias = "out")]
-    pub output: Option<PathBuf>,
-}
-
-impl OutputArgs {
-    /// Renders into memory with `render`, then writes it all at once: to a temporary file beside
-    /// the target that is renamed over it, or to standard output.
-    pub fn emit(
-        &self,
-        render: impl FnOnce(&mut Vec<u8>) -> anyhow::Result<()>,
-    ) -> anyhow::Result<()> {
-        let mut buffer = Vec::new();
-        render(&mut buffer)?;
-        match &self.output {
-            None => {
-                let mut stdout = std::io::stdout().lock();
-                match stdout.write_all(&buffer).and_then(|()| stdout.flush()) {
-                    Ok(()) => Ok(()),
-                    Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
-                    Err(e) => Err(e).context("writing to standard output"),
-                }
-            }
-            Some(path) => {
-                let dir = match path.parent() {
-                    Some(parent) if !parent.as_os_str().is_empty() => parent.to_path_buf(),
-                    _ => PathBuf::from("."),
-                };
-                let mut file = tempfile::NamedTempFile::new_in(&dir)
-                    .with_context(|| format!("{}: cannot create a file here", dir.display()))?;
-                file.write_all(&buffer)
-                    .with_context(|| format!("{}: write failed", path.display()))?;
-                // A temporary file is private; give the result the permissions of the file it
-                // replaces, or those of an ordinary new file.
-                let permissions = match std::fs::metadata(path) {
-                    Ok(existing) => existing.permissions(),
-                    Err(_) => ordinary_permissions(file.as_file())?,
-                };
-                file.as_file()
-                    .set_permissions(permissions)
-                    .with_context(|| format!("{}: cannot set permissions", path.display()))?;
-                file.persist(path)
-                    .with_context(|| format!("{}: cannot write the file", path.display()))?;
-                Ok(())
-            }
-        }
-    }
-}
-
-#[cfg(unix)]
-fn ordinary_permissions(file: &std::fs::File) -> anyhow::Result<std::fs::Permissions> {
-    use std::os::unix::fs::PermissionsExt;
-    let mut permissions = file.metadata()?.permissions();
-    permissions.set_mode(0o644);
-    Ok(permissions)
-}
-
-#[cfg(not(unix))]
-fn ordinary_permissions(file: &std::fs::File) -> anyhow::Result<std::fs::Permissions> {
-    Ok(file.metadata()?.permissions())
 }
 
 /// Runs the command line and maps errors to exit codes.

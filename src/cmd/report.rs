@@ -49,10 +49,9 @@ pub fn run(args: &ReportArgs) -> anyhow::Result<()> {
         }
         named.push((name, file));
     }
-    let stdin_readers = std::iter::once(&args.truth)
-        .chain(named.iter().map(|(_, file)| file))
-        .filter(|file| *file == "-")
-        .count();
+    let inputs = || std::iter::once(&args.truth).chain(named.iter().map(|(_, file)| file));
+    args.output.check(inputs())?;
+    let stdin_readers = inputs().filter(|file| *file == "-").count();
     if stdin_readers > 1 {
         bail!("invalid parameter: only one input can read standard input");
     }

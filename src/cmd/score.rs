@@ -39,6 +39,7 @@ pub fn compute(args: &TrajectoryArgs) -> anyhow::Result<(Inputs, TrajectoryScore
 }
 
 pub fn run(args: &ScoreArgs) -> anyhow::Result<()> {
+    args.output.check(args.metric.input.paths())?;
     if args.format == Format::Csv {
         anyhow::bail!(
             "invalid parameter: score writes text or json (csv is for steps, switches and audit)"

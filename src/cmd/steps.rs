@@ -29,6 +29,7 @@ pub struct StepsArgs {
 }
 
 pub fn run(args: &StepsArgs) -> anyhow::Result<()> {
+    args.output.check(args.input.paths())?;
     let params = GospaParams::new(args.cutoff, args.order, args.alpha)?;
     let Inputs {
         truth,

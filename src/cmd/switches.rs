@@ -22,6 +22,7 @@ pub struct SwitchesArgs {
 }
 
 pub fn run(args: &SwitchesArgs) -> anyhow::Result<()> {
+    args.output.check(args.metric.input.paths())?;
     let (inputs, result) = compute(&args.metric)?;
     let (truth, estimate) = (&inputs.truth.set, &inputs.estimate.set);
     let switches = switch_events(&result.assignment, truth, estimate, &result.params);

@@ -12,6 +12,7 @@ use switchyard::synth::{
 };
 use switchyard::trajectory::TrajectorySet;
 
+use super::output::same_output;
 use super::OutputArgs;
 
 /// The scenes offered on the command line.
@@ -157,8 +158,15 @@ pub fn run(args: &SynthArgs) -> anyhow::Result<()> {
     if args.truth_out.is_none() && args.estimate_out.is_none() {
         bail!("invalid parameter: give --truth-out, --estimate-out or both");
     }
-    if args.truth_out.is_some() && args.truth_out == args.estimate_out {
-        bail!("invalid parameter: --truth-out and --estimate-out name the same file");
+    if let (Some(truth), Some(estimate)) = (&args.truth_out, &args.estimate_out) {
+        if same_output(truth, estimate) {
+            bail!("invalid parameter: --truth-out and --estimate-out name the same file");
+        }
+    }
+    // Both outputs are checked before either is written, so that neither is left alone.
+    let outputs = [&args.truth_out, &args.estimate_out];
+    for output in outputs.into_iter().flatten() {
+        output_to(output).check(std::iter::empty::<&str>())?;
     }
     let (scene, tracker) = args.configs();
     // Check both before writing anything, so that a bad option leaves no file behind.
@@ -178,8 +186,12 @@ pub fn run(args: &SynthArgs) -> anyhow::Result<()> {
 
 /// Writes `set` as CSV to `path`; the file appears only when complete.
 fn write_set(set: &TrajectorySet, path: &std::path::Path) -> anyhow::Result<()> {
-    let output = OutputArgs {
+    output_to(path).emit(|out| Ok(write_csv(set, &["x", "y"], out)?))
+}
+
+/// The output options for one file.
+fn output_to(path: &std::path::Path) -> OutputArgs {
+    OutputArgs {
         output: Some(path.to_path_buf()),
-    };
-    output.emit(|out| Ok(write_csv(set, &["x", "y"], out)?))
+    }
 }

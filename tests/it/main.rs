@@ -7,6 +7,7 @@ mod distances;
 mod exact;
 mod metric_cases;
 mod numerics;
+mod output_safety;
 mod reductions;
 mod references;
 mod report;
