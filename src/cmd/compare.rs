@@ -84,9 +84,13 @@ pub struct CompareArgs {
     /// cut-off].
     #[arg(long, short = 'g', value_name = "G,...", value_delimiter = ',')]
     switch_penalty: Option<Vec<f64>>,
-    /// LP engine (highs only in builds with the `highs` feature).
+    /// LP engine: auto proves each group by Lagrangian bounds, with a simplex fallback (see
+    /// `score --help`); highs only in builds with the `highs` feature.
     #[arg(long, value_enum, default_value_t = EngineKind::Auto)]
     engine: EngineKind,
+    /// Memory each case's solve may use for its models, like `4G` (see `score --help`).
+    #[arg(long, value_name = "SIZE", default_value = "4G", value_parser = super::parse_size)]
+    memory_budget: u64,
     /// Also rank the trackers within each sequence.
     #[arg(long)]
     per_sequence: bool,
@@ -275,6 +279,7 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
         settings,
         solve: SolveOptions {
             engine,
+            memory_budget: args.memory_budget,
             ..SolveOptions::default()
         },
         bootstrap,
@@ -289,6 +294,20 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
     let result = run_comparison(&data, &distance, &options, &|| bar.inc(1));
     bar.finish_and_clear();
     let comparison = result?;
+    let unproven: usize = comparison
+        .settings
+        .iter()
+        .flat_map(|setting| &setting.trackers)
+        .map(|tracker| tracker.summary.unproven_cases)
+        .sum();
+    if unproven > 0 {
+        eprintln!(
+            "switchyard: note: {unproven} of the cases scored {} not proven optimal: their d is \
+             the cost of the best assignment found, an upper bound (`switchyard score` on a case \
+             shows its bounds and why; --memory-budget may prove it)",
+            if unproven == 1 { "is" } else { "are" }
+        );
+    }
     let sections = Sections {
         per_sequence: args.per_sequence,
         monte_carlo: args.monte_carlo,

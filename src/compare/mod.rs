@@ -121,6 +121,9 @@ pub struct CaseScore {
     pub switch_count: f64,
     /// True when the LP optimum is integral.
     pub integral: bool,
+    /// True when the value is proven optimal (see [`crate::trajectory_metric::Certificate`]).
+    #[serde(skip)]
+    pub proven: bool,
     /// Steps in the window.
     pub steps: usize,
 }
@@ -138,6 +141,7 @@ impl From<&TrajectoryScore> for CaseScore {
             false_count: s.false_count,
             switch_count: s.switch_count,
             integral: s.integral,
+            proven: s.certificate.proven,
             steps: s.steps,
         }
     }
@@ -373,6 +377,10 @@ pub struct Summary {
     pub switch_count: f64,
     /// Cases whose LP optimum is fractional (d is then a lower bound of the exact metric).
     pub fractional_cases: usize,
+    /// Cases whose value is not proven optimal (reported with bounds; the scores' notes say
+    /// why). Not written to the outputs: the command warns instead.
+    #[serde(skip)]
+    pub unproven_cases: usize,
 }
 
 /// Aggregates case scores: means of d, d^p and the parts, RMS of d, totals of the counts.
@@ -400,7 +408,8 @@ pub fn summarize<'a>(scores: impl IntoIterator<Item = &'a CaseScore>) -> Summary
         missed_count: sum(|s| s.missed_count),
         false_count: sum(|s| s.false_count),
         switch_count: sum(|s| s.switch_count),
-        fractional_cases: scores.iter().filter(|s| !s.integral).count(),
+        fractional_cases: scores.iter().filter(|s| s.proven && !s.integral).count(),
+        unproven_cases: scores.iter().filter(|s| !s.proven).count(),
     }
 }
 
@@ -758,6 +767,7 @@ mod tests {
             false_count: 0.0,
             switch_count,
             integral,
+            proven: true,
             steps: 3,
         };
         // d = 3 and 4: mean 3.5, RMS sqrt(12.5); localisation mean (1.5 + 2) / 2 = 1.75;
