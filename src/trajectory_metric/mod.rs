@@ -48,6 +48,13 @@ pub const DEFAULT_MEMORY_BUDGET: u64 = 4 << 30;
 /// Bytes a simplex engine needs per variable of the compressed LP, with a margin (measured:
 /// about 1.8 kB for microlp and 2.3 kB for HiGHS on the large benchmark scene).
 const BYTES_PER_LP_VARIABLE: u64 = 3000;
+/// The largest LP (in variables) the Lagrangian engine hands to microlp as a fallback, and to
+/// HiGHS: microlp needs about 6 s for 60,000 variables and minutes beyond (measured on this
+/// LP family), HiGHS about 5 s for 300,000. A count, so that results do not depend on the
+/// machine's speed; `--engine microlp` or `--engine highs` solve every group whatever its size.
+const FALLBACK_VARIABLES: [(Engine, usize); 2] =
+    [(Engine::Microlp, 60_000), (Engine::Highs, 1_500_000)];
+
 /// Bytes the Lagrangian engine needs per cell (gain, price, occupancy, back-pointer) and per
 /// close step of a candidate pair, with a margin.
 const BYTES_PER_CELL: u64 = 48;
@@ -865,27 +872,39 @@ fn solve_component(
         }
         let variables = model::event_variables(pairs, members, window, params.switch_cost());
         let need = (variables as u64).saturating_mul(BYTES_PER_LP_VARIABLE);
-        if need > options.memory_budget {
+        if !fallback_fits(variables, options) {
             // When most pairs of the group are candidates, the cut-off is what makes it hard.
             let crowded = members.len() * 2 > truths.len() * estimates.len();
-            let advice = if crowded {
-                "most truths of the group come within the cut-off of most estimates: a smaller \
-                 cut-off (near the errors a track may have while following an object) makes it \
-                 small, or raise --memory-budget to prove it"
+            let smaller = if crowded {
+                "most truths of the group come within the cut-off of most estimates, so a \
+                 smaller cut-off (near the errors a track may have while following an object) \
+                 makes it small; or "
             } else {
-                "raise --memory-budget to prove it"
+                ""
+            };
+            let why = if need > options.memory_budget {
+                format!(
+                    "would need about {} for its {variables} LP variables, over the memory \
+                     budget of {}; {smaller}raise --memory-budget",
+                    bytes(need),
+                    bytes(options.memory_budget)
+                )
+            } else {
+                format!(
+                    "has {variables} LP variables, more than the fallback gives the {} engine \
+                     (it would take minutes or more); {smaller}choose the engine yourself: \
+                     --engine highs (a build with `--features highs`) or --engine microlp",
+                    options.engine.simplex().name()
+                )
             };
             let note = format!(
                 "a group of {} truths and {} estimates was not proven optimal after {} \
-                 iterations (its d^p lies within {:.3e} of the value reported); proving it by \
-                 the simplex engine would need about {} for {variables} LP variables, over the \
-                 memory budget of {}; {advice}",
+                 iterations: its d^p lies within {:.3e} above the LP optimum; its proof by the \
+                 simplex engine {why}",
                 truths.len(),
                 estimates.len(),
                 outcome.iterations,
                 outcome.upper - outcome.lower,
-                bytes(need),
-                bytes(options.memory_budget)
             );
             return Ok(ComponentSolution {
                 pairs: outcome.pairs,
@@ -1073,7 +1092,7 @@ fn solve_restricted(
             .filter(|g| g.len() > 1)
             .map(|g| model::event_variables(pairs, g, window, params.switch_cost()))
             .sum();
-        if (variables as u64).saturating_mul(BYTES_PER_LP_VARIABLE) > options.memory_budget {
+        if !fallback_fits(variables, options) {
             return Ok(None);
         }
         let mut solution = ComponentSolution {
@@ -1122,6 +1141,18 @@ fn solve_restricted(
         return Ok(Some(prefer_integral(solution, Some(outcome.clone()))));
     }
     Ok(None)
+}
+
+/// Whether an LP of this many variables may go to the fallback simplex engine: within the memory
+/// budget and the engine's size limit ([`FALLBACK_VARIABLES`]).
+fn fallback_fits(variables: usize, options: &SolveOptions) -> bool {
+    let engine = options.engine.simplex();
+    let limit = FALLBACK_VARIABLES
+        .iter()
+        .find(|(e, _)| *e == engine)
+        .map_or(usize::MAX, |(_, limit)| *limit);
+    variables <= limit
+        && (variables as u64).saturating_mul(BYTES_PER_LP_VARIABLE) <= options.memory_budget
 }
 
 /// How much two optima of one component may differ by rounding alone.
