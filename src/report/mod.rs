@@ -112,8 +112,12 @@ pub fn write_table<W: std::io::Write>(
 /// command built on the trajectory LP (keys `integral`, `lp_total`, `exact_total`, `exact`).
 #[derive(Clone, Copy, Debug, Serialize)]
 pub struct Exactness<'a> {
-    /// True when the LP optimum is integral (the LP value is then the exact metric).
+    /// True when the assignment reported is integral and proven optimal (its value is then the
+    /// exact metric).
     pub integral: bool,
+    /// Whether the LP value is proven (the score's certificate); not a key of its own.
+    #[serde(skip)]
+    pub proven: bool,
     /// d^p of the LP relaxation.
     pub lp_total: f64,
     /// d^p of the exact metric when `--exact` was given and the result is proven; else null.
@@ -127,6 +131,7 @@ impl<'a> Exactness<'a> {
     pub fn new(score: &'a crate::trajectory_metric::TrajectoryScore) -> Self {
         Exactness {
             integral: score.integral,
+            proven: score.certificate.proven,
             lp_total: score.lp_total,
             exact_total: score.exact_total,
             exact: score.exact.as_ref(),
@@ -137,7 +142,12 @@ impl<'a> Exactness<'a> {
     /// stopped by its budget.
     pub fn write_text<W: std::io::Write>(&self, out: &mut W) -> std::io::Result<()> {
         let Some(exact) = self.exact else {
-            return if self.integral {
+            return if !self.proven {
+                writeln!(
+                    out,
+                    "d is the cost of the best integral assignment found: an upper bound of the exact trajectory GOSPA, within the bounds above."
+                )
+            } else if self.integral {
                 writeln!(
                     out,
                     "The LP optimum is integral: d is the exact trajectory GOSPA."

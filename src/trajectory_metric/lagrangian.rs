@@ -103,9 +103,16 @@ pub struct Outcome {
 
 /// Whether an upper bound `upper` and a lower bound `lower` (gain form) of a component whose
 /// all-unassigned cost is `scale` prove its value: their difference is at most 1e-9 of the
-/// component's d^p (`scale + upper`), plus 1e-12 of `scale` for rounding.
+/// component's d^p (`scale + upper`), or at most the rounding of sums of that size (8 units in
+/// the last place of `scale`) when the value is so small beside `scale` that the gain form
+/// cannot tell more.
 pub fn proves(lower: f64, upper: f64, scale: f64) -> bool {
-    upper - lower <= TOLERANCE * (scale + upper).max(0.0) + 1e-12 * scale
+    upper - lower <= tolerance(upper, scale)
+}
+
+/// The largest gap [`proves`] accepts.
+fn tolerance(upper: f64, scale: f64) -> f64 {
+    (TOLERANCE * (scale + upper).max(0.0)).max(8.0 * f64::EPSILON * scale)
 }
 
 /// The relative tolerance of a proof.
@@ -752,7 +759,7 @@ pub fn solve(
     let mut mu = vec![0.0; slots];
     let mut paths_time = Duration::ZERO;
     let mut repair_time = Duration::ZERO;
-    let tolerance = |upper: f64| TOLERANCE * (scale + upper).max(0.0) + 1e-12 * scale;
+    let tolerance = |upper: f64| tolerance(upper, scale);
 
     let started = Instant::now();
     let prefix = model.prefix(&mu);

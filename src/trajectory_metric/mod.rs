@@ -337,8 +337,9 @@ pub struct TrajectoryScore {
     pub false_count: f64,
     /// Full switches count 1, half switches 0.5.
     pub switch_count: f64,
-    /// True when every weight of the LP optimum is 0 or 1: then the LP value is also the exact
-    /// (assignment) metric. With [`SolveOptions::exact`] the weights reported are integral
+    /// True when every weight of the assignment reported is 0 or 1 and its value is proven
+    /// optimal ([`Certificate::proven`]): then the LP value is also the exact (assignment)
+    /// metric. With [`SolveOptions::exact`] the weights reported are integral
     /// whatever this says.
     pub integral: bool,
     /// The LP's optimal objective plus the constant, as the engine reported it.
@@ -679,11 +680,7 @@ fn certify(mut score: TrajectoryScore, methods: &[(Method, usize)], lower: f64) 
     let count = |m: Method| methods.iter().filter(|(method, _)| *method == m).count();
     let bounded = count(Method::Bounded);
     let upper = score.total;
-    let lower = if bounded == 0 {
-        upper
-    } else {
-        lower.min(upper)
-    };
+    let lower = lower.min(upper);
     score.certificate = Certificate {
         proven: bounded == 0,
         lower,
@@ -854,7 +851,7 @@ fn solve_component(
             return Ok(ComponentSolution {
                 pairs: outcome.pairs,
                 objective: outcome.upper,
-                lower: outcome.upper,
+                lower: outcome.lower,
                 method: Method::Lagrangian,
                 iterations: outcome.iterations,
                 note: None,
@@ -876,27 +873,37 @@ fn solve_component(
             // When most pairs of the group are candidates, the cut-off is what makes it hard.
             let crowded = members.len() * 2 > truths.len() * estimates.len();
             let smaller = if crowded {
-                "most truths of the group come within the cut-off of most estimates, so a \
-                 smaller cut-off (near the errors a track may have while following an object) \
-                 makes it small; or "
+                "(most truths of the group come within the cut-off of most estimates: a \
+                 smaller cut-off, near the errors a track may have while following an object, \
+                 makes it small) "
             } else {
                 ""
             };
-            let why = if need > options.memory_budget {
-                format!(
+            let engine = options.engine.simplex();
+            let mut why = Vec::new();
+            if need > options.memory_budget {
+                why.push(format!(
                     "would need about {} for its {variables} LP variables, over the memory \
-                     budget of {}; {smaller}raise --memory-budget",
+                     budget of {} (--memory-budget)",
                     bytes(need),
                     bytes(options.memory_budget)
-                )
-            } else {
-                format!(
+                ));
+            }
+            if variables > fallback_limit(engine) {
+                why.push(format!(
                     "has {variables} LP variables, more than the fallback gives the {} engine \
-                     (it would take minutes or more); {smaller}choose the engine yourself: \
-                     --engine highs (a build with `--features highs`) or --engine microlp",
-                    options.engine.simplex().name()
-                )
-            };
+                     ({}: it would take minutes or more; choose it yourself with --engine {}{})",
+                    engine.name(),
+                    fallback_limit(engine),
+                    engine.name(),
+                    if engine == Engine::Microlp {
+                        ", or build with `--features highs` for a faster one"
+                    } else {
+                        ""
+                    }
+                ));
+            }
+            let why = format!("{smaller}{}", why.join("; and it "));
             let note = format!(
                 "a group of {} truths and {} estimates was not proven optimal after {} \
                  iterations: its d^p lies within {:.3e} above the LP optimum; its proof by the \
@@ -918,6 +925,24 @@ fn solve_component(
             });
         }
         found = Some(outcome);
+    }
+    if options.engine == Engine::Lagrangian && reduced && found.is_none() {
+        // Too many cells for the Lagrangian engine: the simplex engine must fit instead.
+        let variables = model::event_variables(pairs, members, window, params.switch_cost());
+        if !fallback_fits(variables, options) {
+            let (truths, estimates) = component_objects(pairs, members);
+            return Err(Error::Budget(format!(
+                "a group of {} truths and {} estimates spans {cells} truth-steps between the \
+                 first and last steps its pairs are within the cut-off, about {} for the \
+                 Lagrangian engine, and {variables} LP variables for the simplex engine, over \
+                 the budget of {}; choose a smaller cut-off, split the scene into shorter \
+                 windows, or raise --memory-budget",
+                truths.len(),
+                estimates.len(),
+                bytes((cells as u64).saturating_mul(BYTES_PER_CELL)),
+                bytes(options.memory_budget)
+            )));
+        }
     }
     let started = Instant::now();
     let simplex = simplex_component(pairs, members, window, params, options)?;
@@ -976,7 +1001,8 @@ fn prefer_integral(
     let integral = solution.pairs.iter().all(is_integral);
     match found {
         Some(outcome)
-            if !integral && outcome.upper <= solution.objective + tie(solution.objective) =>
+            if !integral
+                && lagrangian::proves(solution.objective, outcome.upper, outcome.scale) =>
         {
             ComponentSolution {
                 pairs: outcome.pairs,
@@ -1137,7 +1163,6 @@ fn solve_restricted(
                 });
             }
         }
-        solution.lower = solution.objective;
         return Ok(Some(prefer_integral(solution, Some(outcome.clone()))));
     }
     Ok(None)
@@ -1146,18 +1171,16 @@ fn solve_restricted(
 /// Whether an LP of this many variables may go to the fallback simplex engine: within the memory
 /// budget and the engine's size limit ([`FALLBACK_VARIABLES`]).
 fn fallback_fits(variables: usize, options: &SolveOptions) -> bool {
-    let engine = options.engine.simplex();
-    let limit = FALLBACK_VARIABLES
-        .iter()
-        .find(|(e, _)| *e == engine)
-        .map_or(usize::MAX, |(_, limit)| *limit);
-    variables <= limit
+    variables <= fallback_limit(options.engine.simplex())
         && (variables as u64).saturating_mul(BYTES_PER_LP_VARIABLE) <= options.memory_budget
 }
 
-/// How much two optima of one component may differ by rounding alone.
-fn tie(objective: f64) -> f64 {
-    1e-9 * objective.abs().max(1.0)
+/// The most LP variables the fallback gives a simplex engine ([`FALLBACK_VARIABLES`]).
+fn fallback_limit(engine: Engine) -> usize {
+    FALLBACK_VARIABLES
+        .iter()
+        .find(|(e, _)| *e == engine)
+        .map_or(usize::MAX, |(_, limit)| *limit)
 }
 
 /// The truths and estimates of a component, each once, increasing.
