@@ -655,14 +655,24 @@ fn check_pair_budget(
     )))
 }
 
-/// A byte count for people: "3.2 GB".
+/// A byte count for people, to three significant figures: "3.21 GB", "184 kB", "512 bytes".
+/// (Rounding every size up to whole megabytes printed a need of 184 kB and a budget of 1 kB
+/// both as "1 MB".)
 fn bytes(count: u64) -> String {
-    let count = count as f64;
-    if count >= 1e9 {
-        format!("{:.1} GB", count / 1e9)
+    let (value, unit) = match count {
+        0..1_000 => return format!("{count} bytes"),
+        1_000..1_000_000 => (count as f64 / 1e3, "kB"),
+        1_000_000..1_000_000_000 => (count as f64 / 1e6, "MB"),
+        _ => (count as f64 / 1e9, "GB"),
+    };
+    let decimals = if value >= 100.0 {
+        0
+    } else if value >= 10.0 {
+        1
     } else {
-        format!("{:.0} MB", (count / 1e6).ceil())
-    }
+        2
+    };
+    format!("{value:.decimals$} {unit}")
 }
 
 /// Fills in the certificate of an LP score from how its components were solved and the proven
