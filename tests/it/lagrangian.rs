@@ -1,0 +1,755 @@
+//! The Lagrangian engine (`Engine::Lagrangian`, the default) against references outside it.
+//!
+//! Each check names its reference:
+//! - scipy: `scipy.optimize.linprog` / `milp` (HiGHS) on the full unreduced trajectory GOSPA
+//!   model (García-Fernández, Rahmathullah, Svensson, IEEE Trans. Signal Processing
+//!   68:3917-3928, 2020), committed in tests/data/reference/trajectory_cases.json and
+//!   tests/data/exact/fractional_scenes.json (tests/reference/README.md);
+//! - microlp: the simplex engine (`Engine::Microlp`) on the event-compressed LP, which shares
+//!   nothing with the Lagrangian engine but the candidate pairs;
+//! - the definition: the exact metric by brute force over per-step assignments
+//!   ([`crate::exact::brute_force`]), on scenes small enough for it;
+//! - per-step GOSPA: with switching penalty 0 the metric is the sum over the steps of GOSPA^p
+//!   with alpha = 2 (the paper above), computed by `switchyard::per_step` (itself checked
+//!   against scipy's `linear_sum_assignment` in references.rs).
+//!
+//! Tolerances: values are compared within 1e-9 of the value plus an absolute floor of 1e-12
+//! of the scene's all-unassigned cost (c^p / 2 per object-step). The floor covers rounding
+//! only: a total is a sum of at most a few hundred non-negative terms, each at most c^p, so
+//! summing in a different order moves it by well under 1e-13 of that cost; the engine itself
+//! allows the same 1e-12 for rounding (lagrangian.rs, `Settings::tolerance`).
+
+use assert_cmd::Command;
+use proptest::prelude::*;
+use switchyard::distance::Distance;
+use switchyard::error::Error;
+use switchyard::per_step::{per_step, GospaParams};
+use switchyard::trajectory::{Step, Trajectory, TrajectorySet};
+use switchyard::trajectory_metric::{
+    score_with, Engine, SolveOptions, TrajectoryParams, TrajectoryScore,
+};
+
+use crate::exact::{brute_force, fixtures, solve};
+use crate::references::{dimension, read, to_set, TrajectoryFile};
+use crate::support::seeded;
+
+/// The all-unassigned cost of a scene: c^p / 2 per truth and estimate object-step.
+fn scale(x: &TrajectorySet, y: &TrajectorySet, params: &TrajectoryParams) -> f64 {
+    params.cutoff_power() / 2.0 * (x.object_steps() + y.object_steps()) as f64
+}
+
+/// The tolerance of a comparison of d^p values: 1e-9 of the value, plus the rounding floor
+/// described in the module documentation.
+fn tolerance(value: f64, scale: f64) -> f64 {
+    1e-9 * value.abs() + 1e-12 * scale
+}
+
+fn lagrangian(x: &TrajectorySet, y: &TrajectorySet, params: &TrajectoryParams) -> TrajectoryScore {
+    let options = SolveOptions::default();
+    assert_eq!(options.engine, Engine::Lagrangian, "the default engine");
+    solve(x, y, params, options)
+}
+
+fn microlp(x: &TrajectorySet, y: &TrajectorySet, params: &TrajectoryParams) -> TrajectoryScore {
+    let options = SolveOptions {
+        engine: Engine::Microlp,
+        ..SolveOptions::default()
+    };
+    solve(x, y, params, options)
+}
+
+/// Whether every weight of the reported assignment is 0 or 1 (within 1e-6, the library's own
+/// reading of "integral").
+fn assignment_is_integral(s: &TrajectoryScore) -> bool {
+    s.assignment
+        .pairs
+        .iter()
+        .flat_map(|p| &p.spans)
+        .all(|span| (span.weight - 1.0).abs() < 1e-6 || span.weight < 1e-6)
+}
+
+/// What every certificate must say of itself, whatever the engine: `upper` is the total, the
+/// bounds are ordered, `gap` is their relative difference, `proven` means no component was
+/// left with bounds only (and then the bounds meet), and every component is counted once.
+fn check_certificate(s: &TrajectoryScore, scale: f64) -> Result<(), String> {
+    let c = &s.certificate;
+    let tol = tolerance(s.total, scale);
+    let fail = |what: &str| Err(format!("{what}: {c:?}, total {}", s.total));
+    if c.upper != s.total {
+        return fail("upper is not the total");
+    }
+    if c.lower > c.upper + tol {
+        return fail("lower above upper");
+    }
+    let gap = if c.upper > 0.0 {
+        (c.upper - c.lower) / c.upper
+    } else {
+        0.0
+    };
+    if (c.gap - gap).abs() > 1e-12 {
+        return fail("gap is not (upper - lower) / upper");
+    }
+    if c.proven != (c.bounded == 0) {
+        return fail("proven disagrees with the bounded count");
+    }
+    if c.proven && c.upper - c.lower > tol {
+        return fail("proven with bounds apart");
+    }
+    if c.closed_form + c.lagrangian + c.simplex + c.bounded != s.stats.components {
+        return fail("components not counted once each");
+    }
+    if s.integral && !assignment_is_integral(s) {
+        return fail("integral claimed for a fractional assignment");
+    }
+    if s.integral && !c.proven {
+        return fail("integral claimed for an unproven value");
+    }
+    Ok(())
+}
+
+/// Compares the default engine with microlp (and, when small enough, the definition by brute
+/// force; with gamma = 0, the per-step sum) on one random scene.
+fn compare_engines(scene: &Scene) -> Result<(), TestCaseError> {
+    let Scene {
+        truth: x,
+        estimate: y,
+        params,
+    } = scene;
+    check_engines(x, y, params).map_err(TestCaseError::fail)
+}
+
+fn check_engines(
+    x: &TrajectorySet,
+    y: &TrajectorySet,
+    params: &TrajectoryParams,
+) -> Result<(), String> {
+    let scale = scale(x, y, params);
+    let l = lagrangian(x, y, params);
+    let m = microlp(x, y, params);
+    check_certificate(&l, scale)?;
+    check_certificate(&m, scale)?;
+    let tol = tolerance(m.total, scale);
+    // Reference: microlp's simplex on the compressed LP.
+    if (l.total - m.total).abs() > tol {
+        return Err(format!(
+            "Lagrangian total {} vs microlp {} (difference {:e}); certificate {:?}",
+            l.total,
+            m.total,
+            l.total - m.total,
+            l.certificate
+        ));
+    }
+    let c = &l.certificate;
+    if !(c.lower <= m.total + tol && m.total <= c.upper + tol) {
+        return Err(format!(
+            "microlp {} outside the certificate {:?}",
+            m.total, c
+        ));
+    }
+    if !c.proven {
+        return Err(format!("not proven with the default memory budget: {c:?}"));
+    }
+    // A proven result from the Lagrangian bounds alone comes with its integral assignment.
+    if c.simplex == 0 && !l.integral {
+        return Err(format!("proven without a simplex but not integral: {c:?}"));
+    }
+    // Reference: the definition, by brute force over per-step assignments. The LP value is at
+    // most the exact metric, and equal to it when the reported optimum is integral.
+    if x.len() <= 3 && y.len() <= 3 {
+        let exact = brute_force(x, y, params);
+        let tol = tolerance(exact, scale);
+        if l.total > exact + tol {
+            return Err(format!("LP {} above the exact metric {exact}", l.total));
+        }
+        if l.integral && (l.total - exact).abs() > tol {
+            return Err(format!(
+                "integral LP optimum {} differs from the exact metric {exact}",
+                l.total
+            ));
+        }
+    }
+    // Reference: per-step GOSPA (alpha = 2) summed over the steps, when gamma = 0.
+    if params.switch_penalty == 0.0 {
+        let sum = per_step_sum(x, y, params);
+        if (l.total - sum).abs() > tolerance(sum, scale) {
+            return Err(format!("gamma = 0: {} vs per-step sum {sum}", l.total));
+        }
+    }
+    Ok(())
+}
+
+/// The sum over the steps of per-step GOSPA^p with alpha = 2: localisation + missed + false
+/// parts, all in p-th power units.
+fn per_step_sum(x: &TrajectorySet, y: &TrajectorySet, params: &TrajectoryParams) -> f64 {
+    let gospa = GospaParams::new(params.cutoff, params.order, 2.0).unwrap();
+    let series = per_step(x, y, &gospa, &Distance::default()).unwrap();
+    let s = series.summary;
+    s.localization.unwrap() + s.missed.unwrap() + s.false_.unwrap()
+}
+
+// ---------------------------------------------------------------------------------------------
+// 1. The committed scipy references.
+
+#[test]
+fn default_engine_matches_scipy_and_microlp_on_the_reference_scenes() {
+    // Reference: tests/data/reference/trajectory_cases.json, lp_total from scipy linprog
+    // (HiGHS) on the full unreduced model; exact_total from scipy milp.
+    let file: TrajectoryFile = read("trajectory_cases.json");
+    assert!(file.cases.len() >= 50);
+    for (n, case) in file.cases.iter().enumerate() {
+        let dim = dimension(case);
+        let (x, y) = (to_set(&case.truth, dim), to_set(&case.estimate, dim));
+        let params = TrajectoryParams::new(case.cutoff, case.order, case.switch_penalty).unwrap();
+        let scale = scale(&x, &y, &params);
+        let l = lagrangian(&x, &y, &params);
+        check_certificate(&l, scale).unwrap_or_else(|e| panic!("case {n}: {e}"));
+        assert_eq!(l.steps, case.steps, "case {n}");
+        let tol = tolerance(case.lp_total, scale);
+        assert!(
+            (l.total - case.lp_total).abs() <= tol,
+            "case {n}: Lagrangian {} vs scipy linprog {}",
+            l.total,
+            case.lp_total
+        );
+        let c = &l.certificate;
+        assert!(
+            c.lower <= case.lp_total + tol && case.lp_total <= c.upper + tol,
+            "case {n}: scipy linprog {} outside the certificate {c:?}",
+            case.lp_total
+        );
+        assert!(c.proven, "case {n}: {c:?}");
+        // Reference: scipy milp. An integral LP optimum is the exact metric.
+        if l.integral {
+            assert!(
+                (l.total - case.exact_total).abs() <= tolerance(case.exact_total, scale),
+                "case {n}: integral {} vs scipy milp {}",
+                l.total,
+                case.exact_total
+            );
+        }
+        // Reference: microlp.
+        let m = microlp(&x, &y, &params);
+        assert!(
+            (l.total - m.total).abs() <= tolerance(m.total, scale),
+            "case {n}: Lagrangian {} vs microlp {}",
+            l.total,
+            m.total
+        );
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// 3. Fractional LP optima: the Lagrangian bounds cannot meet (the upper bound is integral), so
+//    the component must go to the simplex.
+
+#[test]
+fn fractional_scenes_fall_back_to_the_simplex_and_match_scipy() {
+    let mut scenes: Vec<(
+        String,
+        TrajectorySet,
+        TrajectorySet,
+        TrajectoryParams,
+        f64,
+        f64,
+    )> = Vec::new();
+    // Reference: tests/data/exact/fractional_scenes.json (scipy linprog and milp).
+    for (f, x, y, params) in fixtures() {
+        scenes.push((f.name.clone(), x, y, params, f.lp_total, f.exact_total));
+    }
+    // Reference: the scenes of tests/data/reference/trajectory_cases.json whose scipy LP value
+    // lies strictly below the scipy milp value.
+    let file: TrajectoryFile = read("trajectory_cases.json");
+    for (n, case) in file.cases.iter().enumerate() {
+        if case.exact_total > case.lp_total + 1e-6 * case.exact_total.max(1.0) {
+            let dim = dimension(case);
+            let params =
+                TrajectoryParams::new(case.cutoff, case.order, case.switch_penalty).unwrap();
+            let (x, y) = (to_set(&case.truth, dim), to_set(&case.estimate, dim));
+            scenes.push((
+                format!("reference case {n}"),
+                x,
+                y,
+                params,
+                case.lp_total,
+                case.exact_total,
+            ));
+        }
+    }
+    assert!(scenes.len() >= 8 + 3, "{} fractional scenes", scenes.len());
+    let mut fallbacks = 0;
+    for (name, x, y, params, lp, exact) in &scenes {
+        let scale = scale(x, y, params);
+        let tol = tolerance(*lp, scale);
+        let l = lagrangian(x, y, params);
+        check_certificate(&l, scale).unwrap_or_else(|e| panic!("{name}: {e}"));
+        let c = &l.certificate;
+        assert!(c.simplex >= 1, "{name}: no simplex fallback: {c:?}");
+        fallbacks += c.simplex;
+        assert!(c.proven, "{name}: {c:?}");
+        assert!(
+            (l.total - lp).abs() <= tol,
+            "{name}: {} vs scipy linprog {lp}",
+            l.total
+        );
+        assert!(
+            c.lower <= lp + tol && *lp <= c.upper + tol,
+            "{name}: scipy linprog {lp} outside {c:?}"
+        );
+        // The optimum is below the integral optimum (scipy milp), so it cannot be integral.
+        assert!(*lp < exact - tol);
+        assert!(
+            !l.integral,
+            "{name}: integral claimed below scipy milp {exact}"
+        );
+        // Reference: the simplex engine alone.
+        let m = microlp(x, y, params);
+        assert!(
+            (l.total - m.total).abs() <= tolerance(m.total, scale),
+            "{name}: {} vs microlp {}",
+            l.total,
+            m.total
+        );
+    }
+    assert!(fallbacks >= scenes.len());
+}
+
+// ---------------------------------------------------------------------------------------------
+// 2. Seeded random scenes.
+
+/// A random scene's raw draw: objects as (first step, presence bits, grid points per step).
+type RawObject = (Step, u16, Vec<Vec<i8>>);
+
+/// How an estimate is made from the truths.
+#[derive(Clone, Copy, Debug)]
+enum Make {
+    /// Points of its own.
+    Clutter,
+    /// The points of a truth, exactly (coincident points).
+    Copy(usize),
+    /// A truth's points shifted by a fixed grid offset.
+    Shifted(usize),
+    /// One truth's points until `at`, another's after (an identity switch).
+    Switch(usize, usize, Step),
+}
+
+/// A scene on a grid: integer points times `unit`, optionally jittered off the grid so that
+/// ties are broken; estimates copy, shift, switch between or ignore the truths.
+#[derive(Clone, Debug)]
+struct Scene {
+    truth: TrajectorySet,
+    estimate: TrajectorySet,
+    params: TrajectoryParams,
+}
+
+fn raw_objects(
+    count: std::ops::RangeInclusive<usize>,
+    steps: Step,
+    dim: usize,
+) -> impl Strategy<Value = Vec<RawObject>> {
+    proptest::collection::vec(
+        (
+            0..steps,
+            any::<u16>(),
+            proptest::collection::vec(proptest::collection::vec(-2i8..=3, dim), steps as usize),
+        ),
+        count,
+    )
+}
+
+fn make() -> impl Strategy<Value = Make> {
+    prop_oneof![
+        1 => Just(Make::Clutter),
+        2 => (0usize..8).prop_map(Make::Copy),
+        2 => (0usize..8).prop_map(Make::Shifted),
+        3 => (0usize..8, 0usize..8, 0..16 as Step).prop_map(|(a, b, k)| Make::Switch(a, b, k)),
+    ]
+}
+
+fn scene_params() -> impl Strategy<Value = TrajectoryParams> {
+    (
+        prop::sample::select(vec![0.3, 1.0, 1.5, 2.0, 3.0, 10.0]),
+        prop::sample::select(vec![1.0, 2.0, 3.0]),
+        prop_oneof![
+            prop::sample::select(vec![0.0, 0.05, 0.5, 1.0, 2.0, 20.0]),
+            0.05f64..20.0,
+        ],
+    )
+        .prop_map(|(c, p, g)| TrajectoryParams::new(c, p, g).unwrap())
+}
+
+/// Scenes of 1 to `truths` truths, 1 to `estimates` estimates, 1 to `steps` steps (at most 16:
+/// presence is drawn as bits of a u16), in 1 to 3 dimensions.
+fn scene(truths: usize, estimates: usize, steps: Step) -> impl Strategy<Value = Scene> {
+    (1usize..=3, 1..=steps).prop_flat_map(move |(dim, steps)| {
+        (
+            raw_objects(1..=truths, steps, dim),
+            proptest::collection::vec((make(), any::<u16>(), 0..steps), 0..=estimates),
+            raw_objects(1..=estimates, steps, dim),
+            prop::sample::select(vec![1.0, 0.5, 0.75]),
+            any::<bool>(),
+            proptest::collection::vec(0u32..1000, 64),
+            scene_params(),
+        )
+            .prop_map(
+                move |(truths, makes, clutter, unit, jitter, noise, params)| {
+                    build_scene(
+                        dim, steps, &truths, &makes, &clutter, unit, jitter, &noise, params,
+                    )
+                },
+            )
+    })
+}
+
+#[allow(clippy::too_many_arguments)]
+fn build_scene(
+    dim: usize,
+    steps: Step,
+    truths: &[RawObject],
+    makes: &[(Make, u16, Step)],
+    clutter: &[RawObject],
+    unit: f64,
+    jitter: bool,
+    noise: &[u32],
+    params: TrajectoryParams,
+) -> Scene {
+    let mut draws = noise.iter().cycle();
+    let mut point = |grid: &[i8]| -> Vec<f64> {
+        grid.iter()
+            .map(|&v| {
+                let off = if jitter {
+                    (*draws.next().unwrap() as f64 / 1000.0 - 0.5) * 0.2 * unit
+                } else {
+                    0.0
+                };
+                v as f64 * unit + off
+            })
+            .collect()
+    };
+    // Presence: a run from the first step, with gaps where the bit is clear (the first step is
+    // always present, so no object is empty).
+    let present = |first: Step, bits: u16, k: Step| k == first || (k > first && bits >> k & 1 == 1);
+    let mut truth_points: Vec<Vec<(Step, Vec<f64>)>> = Vec::new();
+    for (first, bits, grid) in truths {
+        let points = (0..steps)
+            .filter(|&k| present(*first, *bits, k))
+            .map(|k| (k, point(&grid[k as usize])))
+            .collect();
+        truth_points.push(points);
+    }
+    let mut estimates: Vec<Vec<(Step, Vec<f64>)>> = Vec::new();
+    for (n, (first, bits, grid)) in clutter.iter().enumerate() {
+        let mode = makes.get(n).map(|m| m.0);
+        let own: Vec<(Step, Vec<f64>)> = (0..steps)
+            .filter(|&k| present(*first, *bits, k))
+            .map(|k| (k, point(&grid[k as usize])))
+            .collect();
+        let source = |i: usize, k: Step| -> Option<Vec<f64>> {
+            if truth_points.is_empty() {
+                return None;
+            }
+            let t = &truth_points[i % truth_points.len()];
+            t.iter().find(|(s, _)| *s == k).map(|(_, v)| v.clone())
+        };
+        let derived: Vec<(Step, Vec<f64>)> = match mode {
+            None | Some(Make::Clutter) => own,
+            Some(Make::Copy(i)) => (0..steps)
+                .filter(|&k| present(*first, *bits, k))
+                .filter_map(|k| source(i, k).map(|v| (k, v)))
+                .collect(),
+            Some(Make::Shifted(i)) => (0..steps)
+                .filter(|&k| present(*first, *bits, k))
+                .filter_map(|k| {
+                    source(i, k).map(|v| {
+                        let shift = &grid[0];
+                        let v = v
+                            .iter()
+                            .zip(shift)
+                            .map(|(a, &s)| a + s as f64 * unit * 0.5)
+                            .collect();
+                        (k, v)
+                    })
+                })
+                .collect(),
+            Some(Make::Switch(a, b, at)) => (0..steps)
+                .filter(|&k| present(*first, *bits, k))
+                .filter_map(|k| source(if k < at { a } else { b }, k).map(|v| (k, v)))
+                .collect(),
+        };
+        if !derived.is_empty() {
+            estimates.push(derived);
+        }
+    }
+    let set = |prefix: &str, objects: Vec<Vec<(Step, Vec<f64>)>>| {
+        TrajectorySet::new(
+            dim,
+            objects
+                .into_iter()
+                .enumerate()
+                .map(|(n, points)| Trajectory::new(format!("{prefix}{n}"), dim, points).unwrap())
+                .collect(),
+        )
+        .unwrap()
+    };
+    Scene {
+        truth: set("t", truth_points),
+        estimate: set("e", estimates),
+        params,
+    }
+}
+
+proptest! {
+    #![proptest_config(seeded(10_000, 20261203))]
+
+    /// Small scenes (up to 4 truths, 6 estimates, 8 steps). Reference: microlp on every scene;
+    /// the definition by brute force on those of at most 3 truths and 3 estimates; per-step
+    /// GOSPA when gamma = 0.
+    #[test]
+    fn default_engine_matches_microlp_on_small_random_scenes(scene in scene(4, 6, 8)) {
+        compare_engines(&scene)?;
+    }
+}
+
+proptest! {
+    #![proptest_config(seeded(1_500, 20261204))]
+
+    /// Larger, crowded scenes (up to 8 truths, 10 estimates, 16 steps), where components hold
+    /// several truths competing for the same estimates. Reference: microlp; per-step GOSPA
+    /// when gamma = 0.
+    #[test]
+    fn default_engine_matches_microlp_on_crowded_random_scenes(scene in scene(8, 10, 16)) {
+        compare_engines(&scene)?;
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// 4. gamma = 0: the sum of per-step GOSPA.
+
+#[test]
+fn without_switching_penalty_the_value_is_the_per_step_sum() {
+    // Reference: per-step GOSPA^p (alpha = 2), summed over the steps; with gamma = 0 trajectory
+    // GOSPA equals that sum (García-Fernández, Rahmathullah, Svensson, IEEE TSP 68, 2020).
+    // Scenes: the reference scenes and fractional fixtures, re-scored with gamma = 0.
+    let file: TrajectoryFile = read("trajectory_cases.json");
+    let mut scenes: Vec<(TrajectorySet, TrajectorySet, f64, f64)> = file
+        .cases
+        .iter()
+        .map(|case| {
+            let dim = dimension(case);
+            let (x, y) = (to_set(&case.truth, dim), to_set(&case.estimate, dim));
+            (x, y, case.cutoff, case.order)
+        })
+        .collect();
+    for (_, x, y, params) in fixtures() {
+        scenes.push((x, y, params.cutoff, params.order));
+    }
+    for (n, (x, y, cutoff, order)) in scenes.iter().enumerate() {
+        for order in [*order, 1.0, 2.0, 3.0] {
+            let params = TrajectoryParams::new(*cutoff, order, 0.0).unwrap();
+            let scale = scale(x, y, &params);
+            let sum = per_step_sum(x, y, &params);
+            let l = lagrangian(x, y, &params);
+            check_certificate(&l, scale).unwrap_or_else(|e| panic!("scene {n}: {e}"));
+            assert!(
+                (l.total - sum).abs() <= tolerance(sum, scale),
+                "scene {n}, p = {order}: {} vs per-step sum {sum}",
+                l.total
+            );
+            assert!(l.certificate.proven && l.switching == 0.0);
+        }
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// 5. The memory budget.
+
+/// The default options with a memory budget of `bytes`.
+fn within(bytes: u64) -> SolveOptions {
+    SolveOptions {
+        memory_budget: bytes,
+        ..SolveOptions::default()
+    }
+}
+
+#[test]
+fn a_tiny_budget_reports_an_unproven_component_with_true_bounds() {
+    // The fractional fixtures cannot be proven by the Lagrangian bounds (their LP optimum is
+    // below every integral assignment), and a budget of 1,000 bytes holds their few cells but
+    // not one simplex variable: each must be reported with bounds. References: microlp for the
+    // LP value, scipy milp for the integral optimum (the upper bound is an integral
+    // assignment's cost, so it is at least that).
+    for (f, x, y, params) in fixtures() {
+        let options = within(1000);
+        let s = solve(&x, &y, &params, options);
+        let scale = scale(&x, &y, &params);
+        check_certificate(&s, scale).unwrap_or_else(|e| panic!("{}: {e}", f.name));
+        let c = &s.certificate;
+        assert!(c.bounded >= 1 && !c.proven, "{}: {c:?}", f.name);
+        assert_eq!(c.simplex, 0, "{}: a simplex ran over the budget", f.name);
+        assert!(!s.integral, "{}", f.name);
+        let m = microlp(&x, &y, &params);
+        let tol = tolerance(m.total, scale);
+        assert!(
+            c.lower <= m.total + tol && m.total <= c.upper + tol,
+            "{}: microlp {} outside {c:?}",
+            f.name,
+            m.total
+        );
+        assert!(
+            (m.total - f.lp_total).abs() <= tolerance(f.lp_total, scale),
+            "{}: microlp {} vs scipy linprog {}",
+            f.name,
+            m.total,
+            f.lp_total
+        );
+        assert!(
+            c.upper >= f.exact_total - tolerance(f.exact_total, scale),
+            "{}: upper bound {} below scipy milp {}",
+            f.name,
+            c.upper,
+            f.exact_total
+        );
+        assert!(c.lower < c.upper && c.gap > 0.0, "{}: {c:?}", f.name);
+        assert_eq!(s.notes.len(), c.bounded, "{}: {:?}", f.name, s.notes);
+        for note in &s.notes {
+            assert!(
+                note.contains("not proven") && note.contains("--memory-budget"),
+                "{}: the note says neither why nor what to do: {note}",
+                f.name
+            );
+        }
+    }
+}
+
+#[test]
+fn a_budget_too_small_for_the_candidate_pairs_is_refused() {
+    // Any close pair needs some bytes: a budget of 1 byte refuses every scene with one.
+    for (f, x, y, params) in fixtures() {
+        let options = within(1);
+        match score_with(&x, &y, &params, &Distance::default(), &options) {
+            Err(Error::Budget(message)) => assert!(
+                message.contains("--memory-budget") && message.contains("cut-off"),
+                "{}: {message}",
+                f.name
+            ),
+            other => panic!("{}: expected a budget error, got {other:?}", f.name),
+        }
+    }
+}
+
+/// One truth and two estimates near it only at steps 0 and `steps - 1` (far in between):
+/// two close steps per pair, but a shortest-path window of `steps` cells per pair.
+fn sparse_close_scene(steps: Step) -> (TrajectorySet, TrajectorySet) {
+    let truth = (0..steps).map(|k| (k, vec![0.0])).collect();
+    let estimate = |near: f64| -> Vec<(Step, Vec<f64>)> {
+        (0..steps)
+            .map(|k| {
+                let x = if k == 0 || k == steps - 1 {
+                    near
+                } else {
+                    100.0
+                };
+                (k, vec![x])
+            })
+            .collect()
+    };
+    let x = TrajectorySet::new(1, vec![Trajectory::new("t", 1, truth).unwrap()]).unwrap();
+    let y = TrajectorySet::new(
+        1,
+        vec![
+            Trajectory::new("a", 1, estimate(0.1)).unwrap(),
+            Trajectory::new("b", 1, estimate(0.2)).unwrap(),
+        ],
+    )
+    .unwrap();
+    (x, y)
+}
+
+#[test]
+#[ignore = "fails: when the Lagrangian cells exceed the budget, solve_component goes straight to \
+            the simplex without checking the LP's need against the budget (reported to the lead)"]
+fn a_budget_that_holds_the_pairs_but_not_the_cells_starts_no_simplex_over_it() {
+    // Fails today: certificate { simplex: 1, proven: true }, 6 LP variables (about 18 kB by
+    // the library's own 3,000 bytes per variable) within a 1,000-byte budget. In
+    // src/trajectory_metric/mod.rs, `solve_component` checks `need > memory_budget` only after
+    // an uncertified Lagrangian run; when `cells_fit` is false it skips the Lagrangian and
+    // builds the simplex model unchecked.
+    // SolveOptions::memory_budget: "a simplex fallback that would need more is not started".
+    // Here the 4 close steps fit a budget of 1,000 bytes but the 400 cells of the shortest-path
+    // model do not, and no LP variable fits it either: the solve must either refuse or report
+    // bounds, never run a simplex.
+    let (x, y) = sparse_close_scene(200);
+    let params = TrajectoryParams::new(1.0, 1.0, 1.0).unwrap();
+    let options = within(1000);
+    match score_with(&x, &y, &params, &Distance::default(), &options) {
+        Err(Error::Budget(_)) => {}
+        Ok(s) => assert_eq!(
+            s.certificate.simplex, 0,
+            "a simplex ran within a 1,000-byte budget: {:?}, {} LP variables",
+            s.certificate, s.stats.variables
+        ),
+        Err(other) => panic!("unexpected error {other}"),
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// 6. The command line.
+
+fn demo(name: &str) -> String {
+    format!("{}/demo-data/{name}", env!("CARGO_MANIFEST_DIR"))
+}
+
+fn score_demo(budget: &str) -> std::process::Output {
+    Command::cargo_bin("switchyard")
+        .unwrap()
+        .args(["score", "--truth", &demo("truth.csv"), "--estimate"])
+        .arg(demo("tracker-swaps.csv"))
+        .args(["--cutoff", "20", "--memory-budget", budget])
+        .output()
+        .unwrap()
+}
+
+#[test]
+fn the_command_refuses_a_budget_too_small_and_says_why() {
+    // Exit codes: src/cmd/mod.rs documents 4 for a refused budget; 2 for a command line that
+    // does not parse (common practice of command-line parsers).
+    let output = score_demo("1K");
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert_eq!(output.status.code(), Some(4), "{stderr}");
+    assert!(output.stdout.is_empty());
+    // Why: the pairs within the cut-off; what to do: a smaller cut-off or a larger budget.
+    for words in [
+        "memory budget",
+        "within the cut-off",
+        "raise --memory-budget",
+    ] {
+        assert!(stderr.contains(words), "missing {words:?} in {stderr}");
+    }
+    assert_eq!(stderr.lines().count(), 1, "{stderr}");
+
+    let output = score_demo("nonsense");
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert_eq!(output.status.code(), Some(2), "{stderr}");
+    assert!(
+        stderr.contains("nonsense") && stderr.contains("--memory-budget"),
+        "{stderr}"
+    );
+}
+
+#[test]
+fn the_budget_message_shows_a_need_larger_than_the_budget() {
+    // The refusal of `--memory-budget 1K` gives two sizes, what the pairs would need and the
+    // budget; printed with the same figure ("about 1 MB, over the budget of 1 MB") it does not
+    // tell the user how far to raise the budget.
+    let output = score_demo("1K");
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    let need = stderr
+        .split("need about ")
+        .nth(1)
+        .and_then(|s| s.split(" of memory").next());
+    let budget = stderr
+        .split("the budget of ")
+        .nth(1)
+        .and_then(|s| s.split(';').next());
+    assert!(need.is_some() && budget.is_some(), "{stderr}");
+    assert_ne!(need, budget, "{stderr}");
+}
