@@ -13,11 +13,13 @@
 //!   with alpha = 2 (the paper above), computed by `switchyard::per_step` (itself checked
 //!   against scipy's `linear_sum_assignment` in references.rs).
 //!
-//! Tolerances: values are compared within 1e-9 of the value plus an absolute floor of 1e-12
-//! of the scene's all-unassigned cost (c^p / 2 per object-step). The floor covers rounding
-//! only: a total is a sum of at most a few hundred non-negative terms, each at most c^p, so
-//! summing in a different order moves it by well under 1e-13 of that cost; the engine itself
-//! allows the same 1e-12 for rounding (lagrangian.rs, `Settings::tolerance`).
+//! Tolerances: values are compared within 1e-9 of the value (the engine's promise: certified
+//! when upper - lower <= 1e-9 of the value). When a score has fractional weights an absolute
+//! floor of 1e-12 of the scene's all-unassigned cost (c^p / 2 per object-step) is added: the
+//! missed and false counts are then differences of float sums of weights, and a simplex's
+//! weights carry its own tolerances, so such a total can be off by rounding far below that
+//! cost. An integral assignment's total is a sum of non-negative parts from exact counts, off
+//! by a few ulps of the value itself, so it gets no floor ([`scale`]).
 
 use assert_cmd::Command;
 use proptest::prelude::*;
@@ -33,8 +35,19 @@ use crate::exact::{brute_force, fixtures, solve};
 use crate::references::{dimension, read, to_set, TrajectoryFile};
 use crate::support::seeded;
 
-/// The all-unassigned cost of a scene: c^p / 2 per truth and estimate object-step.
-fn scale(x: &TrajectorySet, y: &TrajectorySet, params: &TrajectoryParams) -> f64 {
+/// The base of the rounding floor (module documentation): the all-unassigned cost of the
+/// scene, c^p / 2 per truth and estimate object-step, when one of `scores` has fractional
+/// weights; 0 when all are integral, since an integral assignment's d^p is a sum of
+/// non-negative parts computed from exact counts, correct to a few ulps of the value itself.
+fn scale(
+    x: &TrajectorySet,
+    y: &TrajectorySet,
+    params: &TrajectoryParams,
+    scores: &[&TrajectoryScore],
+) -> f64 {
+    if scores.iter().all(|s| assignment_is_integral(s)) {
+        return 0.0;
+    }
     params.cutoff_power() / 2.0 * (x.object_steps() + y.object_steps()) as f64
 }
 
@@ -110,12 +123,7 @@ fn check_certificate(s: &TrajectoryScore, scale: f64) -> Result<(), String> {
 /// Compares the default engine with microlp (and, when small enough, the definition by brute
 /// force; with gamma = 0, the per-step sum) on one random scene.
 fn compare_engines(scene: &Scene) -> Result<(), TestCaseError> {
-    let Scene {
-        truth: x,
-        estimate: y,
-        params,
-    } = scene;
-    check_engines(x, y, params).map_err(TestCaseError::fail)
+    check_engines(&scene.truth, &scene.estimate, &scene.params).map_err(TestCaseError::fail)
 }
 
 fn check_engines(
@@ -123,9 +131,9 @@ fn check_engines(
     y: &TrajectorySet,
     params: &TrajectoryParams,
 ) -> Result<(), String> {
-    let scale = scale(x, y, params);
     let l = lagrangian(x, y, params);
     let m = microlp(x, y, params);
+    let scale = scale(x, y, params, &[&l, &m]);
     check_certificate(&l, scale)?;
     check_certificate(&m, scale)?;
     let tol = tolerance(m.total, scale);
@@ -200,8 +208,9 @@ fn default_engine_matches_scipy_and_microlp_on_the_reference_scenes() {
         let dim = dimension(case);
         let (x, y) = (to_set(&case.truth, dim), to_set(&case.estimate, dim));
         let params = TrajectoryParams::new(case.cutoff, case.order, case.switch_penalty).unwrap();
-        let scale = scale(&x, &y, &params);
         let l = lagrangian(&x, &y, &params);
+        let m = microlp(&x, &y, &params);
+        let scale = scale(&x, &y, &params, &[&l, &m]);
         check_certificate(&l, scale).unwrap_or_else(|e| panic!("case {n}: {e}"));
         assert_eq!(l.steps, case.steps, "case {n}");
         let tol = tolerance(case.lp_total, scale);
@@ -228,7 +237,6 @@ fn default_engine_matches_scipy_and_microlp_on_the_reference_scenes() {
             );
         }
         // Reference: microlp.
-        let m = microlp(&x, &y, &params);
         assert!(
             (l.total - m.total).abs() <= tolerance(m.total, scale),
             "case {n}: Lagrangian {} vs microlp {}",
@@ -278,9 +286,10 @@ fn fractional_scenes_fall_back_to_the_simplex_and_match_scipy() {
     assert!(scenes.len() >= 8 + 3, "{} fractional scenes", scenes.len());
     let mut fallbacks = 0;
     for (name, x, y, params, lp, exact) in &scenes {
-        let scale = scale(x, y, params);
-        let tol = tolerance(*lp, scale);
         let l = lagrangian(x, y, params);
+        let m = microlp(x, y, params);
+        let scale = scale(x, y, params, &[&l, &m]);
+        let tol = tolerance(*lp, scale);
         check_certificate(&l, scale).unwrap_or_else(|e| panic!("{name}: {e}"));
         let c = &l.certificate;
         assert!(c.simplex >= 1, "{name}: no simplex fallback: {c:?}");
@@ -302,7 +311,6 @@ fn fractional_scenes_fall_back_to_the_simplex_and_match_scipy() {
             "{name}: integral claimed below scipy milp {exact}"
         );
         // Reference: the simplex engine alone.
-        let m = microlp(x, y, params);
         assert!(
             (l.total - m.total).abs() <= tolerance(m.total, scale),
             "{name}: {} vs microlp {}",
@@ -365,10 +373,10 @@ fn make() -> impl Strategy<Value = Make> {
     ]
 }
 
-fn scene_params() -> impl Strategy<Value = TrajectoryParams> {
+fn scene_params(orders: &'static [f64]) -> impl Strategy<Value = TrajectoryParams> {
     (
         prop::sample::select(vec![0.3, 1.0, 1.5, 2.0, 3.0, 10.0]),
-        prop::sample::select(vec![1.0, 2.0, 3.0]),
+        prop::sample::select(orders),
         prop_oneof![
             prop::sample::select(vec![0.0, 0.05, 0.5, 1.0, 2.0, 20.0]),
             0.05f64..20.0,
@@ -377,18 +385,39 @@ fn scene_params() -> impl Strategy<Value = TrajectoryParams> {
         .prop_map(|(c, p, g)| TrajectoryParams::new(c, p, g).unwrap())
 }
 
+/// Grid units of ordinary scenes: ties on the grid, and near-ties when jittered.
+/// The grid units and orders p of a family of scenes.
+struct Kind {
+    units: &'static [f64],
+    orders: &'static [f64],
+}
+
+/// Ordinary scenes: ties on the grid, near-ties when jittered; p in {1, 2, 3}.
+const GRIDS: Kind = Kind {
+    units: &[1.0, 0.5, 0.75],
+    orders: &[1.0, 2.0, 3.0],
+};
+/// Distances 1e4 to 1e7 times below the cut-offs. p is at most 2 so that (d / c)^p stays
+/// above 1e-14, well clear of double precision (2.2e-16) relative to c^p: beyond that no
+/// engine working in double precision can tell the assignments apart, and the library
+/// refuses with a consistency error, as it says it does.
+const TINY: Kind = Kind {
+    units: &[1e-5, 3e-6],
+    orders: &[1.0, 2.0],
+};
+
 /// Scenes of 1 to `truths` truths, 1 to `estimates` estimates, 1 to `steps` steps (at most 16:
 /// presence is drawn as bits of a u16), in 1 to 3 dimensions.
-fn scene(truths: usize, estimates: usize, steps: Step) -> impl Strategy<Value = Scene> {
+fn scene(truths: usize, estimates: usize, steps: Step, kind: Kind) -> impl Strategy<Value = Scene> {
     (1usize..=3, 1..=steps).prop_flat_map(move |(dim, steps)| {
         (
             raw_objects(1..=truths, steps, dim),
             proptest::collection::vec((make(), any::<u16>(), 0..steps), 0..=estimates),
             raw_objects(1..=estimates, steps, dim),
-            prop::sample::select(vec![1.0, 0.5, 0.75]),
+            prop::sample::select(kind.units),
             any::<bool>(),
             proptest::collection::vec(0u32..1000, 64),
-            scene_params(),
+            scene_params(kind.orders),
         )
             .prop_map(
                 move |(truths, makes, clutter, unit, jitter, noise, params)| {
@@ -504,7 +533,7 @@ proptest! {
     /// the definition by brute force on those of at most 3 truths and 3 estimates; per-step
     /// GOSPA when gamma = 0.
     #[test]
-    fn default_engine_matches_microlp_on_small_random_scenes(scene in scene(4, 6, 8)) {
+    fn default_engine_matches_microlp_on_small_random_scenes(scene in scene(4, 6, 8, GRIDS)) {
         compare_engines(&scene)?;
     }
 }
@@ -516,9 +545,101 @@ proptest! {
     /// several truths competing for the same estimates. Reference: microlp; per-step GOSPA
     /// when gamma = 0.
     #[test]
-    fn default_engine_matches_microlp_on_crowded_random_scenes(scene in scene(8, 10, 16)) {
+    fn default_engine_matches_microlp_on_crowded_random_scenes(scene in scene(8, 10, 16, GRIDS)) {
         compare_engines(&scene)?;
     }
+}
+
+/// On scenes of at most 3 truths and 3 estimates, compares the default engine with the
+/// definition by brute force, and with the per-step sum when gamma = 0; no simplex reference.
+fn compare_with_definition(scene: &Scene) -> Result<(), TestCaseError> {
+    let (x, y, params) = (&scene.truth, &scene.estimate, &scene.params);
+    let l = score_with(x, y, params, &Distance::default(), &SolveOptions::default())
+        .map_err(|e| TestCaseError::fail(format!("default engine: {e}")))?;
+    let scale = scale(x, y, params, &[&l]);
+    check_certificate(&l, scale).map_err(TestCaseError::fail)?;
+    prop_assert!(l.certificate.proven, "{:?}", l.certificate);
+    let exact = brute_force(x, y, params);
+    let tol = tolerance(exact, scale);
+    prop_assert!(
+        l.total <= exact + tol,
+        "LP {} above the exact metric {}",
+        l.total,
+        exact
+    );
+    if l.integral {
+        prop_assert!(
+            (l.total - exact).abs() <= tol,
+            "{} vs the exact metric {}",
+            l.total,
+            exact
+        );
+    }
+    if params.switch_penalty == 0.0 {
+        let sum = per_step_sum(x, y, params);
+        prop_assert!(
+            (l.total - sum).abs() <= tolerance(sum, scale),
+            "{} vs {}",
+            l.total,
+            sum
+        );
+    }
+    Ok(())
+}
+
+proptest! {
+    #![proptest_config(seeded(2_000, 20261206))]
+
+    /// Distances 1e4 to 1e7 times below the cut-off, where the differences between
+    /// assignments are far below 1e-12 of the all-unassigned cost but far above double
+    /// precision. A simplex's tolerances may not resolve them (microlp refuses some such
+    /// scenes with a consistency error), so the references here are the definition by brute
+    /// force and, at gamma = 0, the per-step sum.
+    #[test]
+    #[ignore = "fails: the Lagrangian engine certifies assignments up to 1e-12 of the \
+                all-unassigned cost worse than the optimum (see \
+                a_proven_certificate_bounds_the_optimum_at_millimetre_distances)"]
+    fn default_engine_matches_the_definition_on_tiny_distances(scene in scene(3, 3, 6, TINY)) {
+        compare_with_definition(&scene)?;
+    }
+}
+
+#[test]
+#[ignore = "fails: a proven certificate whose lower bound is above the optimum (reported to \
+            the lead)"]
+fn a_proven_certificate_bounds_the_optimum_at_millimetre_distances() {
+    // The smallest case the tiny-distance search above found of a wrong proven value. One
+    // step, two truths at 0.0019 and 0.0019002, two estimates at -0.0001 and -0.0000932;
+    // c = 10, p = 2 (gamma plays no part in one step). By hand, from the definition: in one
+    // dimension with p > 1 the sorted matching is optimal, 0.002^2 + 0.0019934^2 =
+    // 4e-6 + 3.97364356e-6 = 7.97364356e-6 (also per-step GOSPA^p, alpha = 2); the crossed
+    // matching costs 0.0019932^2 + 0.0020002^2 = 7.97364628e-6, 3.4e-7 of the value more.
+    // Today the default engine reports the crossed matching as proven, with lower = upper =
+    // 7.97364628e-6: its stopping rule allows a gap of 1e-12 of the all-unassigned cost
+    // (c^p / 2 x 4 = 200, so 2e-10), not 1e-9 of the value. microlp gives 7.97364356e-6.
+    use crate::support::{line, lines};
+    let x = lines(vec![line("t0", 0, &[0.0019]), line("t1", 0, &[0.0019002])]);
+    let y = lines(vec![
+        line("e0", 0, &[-0.0001]),
+        line("e1", 0, &[-0.0000932]),
+    ]);
+    let params = TrajectoryParams::new(10.0, 2.0, 1.0).unwrap();
+    let optimum = 4e-6 + 3.97364356e-6;
+    assert!((per_step_sum(&x, &y, &params) - optimum).abs() <= 1e-9 * optimum);
+    assert!((microlp(&x, &y, &params).total - optimum).abs() <= 1e-9 * optimum);
+    let l = lagrangian(&x, &y, &params);
+    let c = &l.certificate;
+    assert!(c.proven, "{c:?}");
+    assert!(
+        c.lower <= optimum * (1.0 + 1e-9),
+        "the proven lower bound {} is above the optimum {optimum}",
+        c.lower
+    );
+    assert!(
+        (l.total - optimum).abs() <= 1e-9 * optimum,
+        "{} vs {optimum} by hand",
+        l.total
+    );
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -545,9 +666,9 @@ fn without_switching_penalty_the_value_is_the_per_step_sum() {
     for (n, (x, y, cutoff, order)) in scenes.iter().enumerate() {
         for order in [*order, 1.0, 2.0, 3.0] {
             let params = TrajectoryParams::new(*cutoff, order, 0.0).unwrap();
-            let scale = scale(x, y, &params);
             let sum = per_step_sum(x, y, &params);
             let l = lagrangian(x, y, &params);
+            let scale = scale(x, y, &params, &[&l]);
             check_certificate(&l, scale).unwrap_or_else(|e| panic!("scene {n}: {e}"));
             assert!(
                 (l.total - sum).abs() <= tolerance(sum, scale),
@@ -580,13 +701,13 @@ fn a_tiny_budget_reports_an_unproven_component_with_true_bounds() {
     for (f, x, y, params) in fixtures() {
         let options = within(1000);
         let s = solve(&x, &y, &params, options);
-        let scale = scale(&x, &y, &params);
+        let m = microlp(&x, &y, &params);
+        let scale = scale(&x, &y, &params, &[&s, &m]);
         check_certificate(&s, scale).unwrap_or_else(|e| panic!("{}: {e}", f.name));
         let c = &s.certificate;
         assert!(c.bounded >= 1 && !c.proven, "{}: {c:?}", f.name);
         assert_eq!(c.simplex, 0, "{}: a simplex ran over the budget", f.name);
         assert!(!s.integral, "{}", f.name);
-        let m = microlp(&x, &y, &params);
         let tol = tolerance(m.total, scale);
         assert!(
             c.lower <= m.total + tol && m.total <= c.upper + tol,
