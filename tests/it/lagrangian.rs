@@ -310,13 +310,21 @@ fn fractional_scenes_fall_back_to_the_simplex_and_match_scipy() {
             !l.integral,
             "{name}: integral claimed below scipy milp {exact}"
         );
-        // Reference: the simplex engine alone.
-        assert!(
-            (l.total - m.total).abs() <= tolerance(m.total, scale),
-            "{name}: {} vs microlp {}",
-            l.total,
-            m.total
-        );
+        // Reference: the simplex engines alone, microlp and the one the fallback uses in this
+        // build (`Engine::simplex`: HiGHS when built in, else microlp).
+        let fallback = Engine::default().simplex();
+        let options = SolveOptions {
+            engine: fallback,
+            ..SolveOptions::default()
+        };
+        let f = solve(x, y, params, options);
+        for (engine, total) in [(Engine::Microlp, m.total), (fallback, f.total)] {
+            assert!(
+                (l.total - total).abs() <= tolerance(total, scale),
+                "{name}: {} vs {engine:?} {total}",
+                l.total
+            );
+        }
     }
     assert!(fallbacks >= scenes.len());
 }
