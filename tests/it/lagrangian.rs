@@ -558,6 +558,46 @@ proptest! {
     }
 }
 
+/// Compares the default engine stopped after `iterations` subgradient steps (so that most
+/// components with competing truths fall back to the simplex, which must then keep the value
+/// and the certificate right) with microlp.
+fn compare_forced_fallback(scene: &Scene, iterations: usize) -> Result<(), TestCaseError> {
+    let (x, y, params) = (&scene.truth, &scene.estimate, &scene.params);
+    let options = SolveOptions {
+        max_iterations: iterations,
+        ..SolveOptions::default()
+    };
+    let l = solve(x, y, params, options);
+    let m = microlp(x, y, params);
+    let scale = scale(x, y, params, &[&l, &m]);
+    check_certificate(&l, scale).map_err(TestCaseError::fail)?;
+    let tol = tolerance(m.total, scale);
+    prop_assert!(
+        (l.total - m.total).abs() <= tol,
+        "stopped after {} iterations: {} vs microlp {}; {:?}",
+        iterations,
+        l.total,
+        m.total,
+        l.certificate
+    );
+    prop_assert!(l.certificate.proven, "{:?}", l.certificate);
+    Ok(())
+}
+
+proptest! {
+    #![proptest_config(seeded(3_000, 20261207))]
+
+    /// The simplex fallback on ordinary scenes, forced by an iteration limit of 0 or 1.
+    /// Reference: microlp.
+    #[test]
+    fn a_forced_fallback_keeps_the_microlp_value(
+        scene in scene(6, 8, 10, GRIDS),
+        iterations in 0usize..=1,
+    ) {
+        compare_forced_fallback(&scene, iterations)?;
+    }
+}
+
 /// On scenes of at most 3 truths and 3 estimates, compares the default engine with the
 /// definition by brute force, and with the per-step sum when gamma = 0; no simplex reference.
 fn compare_with_definition(scene: &Scene) -> Result<(), TestCaseError> {
