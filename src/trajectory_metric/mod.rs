@@ -663,15 +663,24 @@ fn check_pair_budget(
     )))
 }
 
-/// A byte count for people, in the units `--memory-budget` takes: "3.2 GiB", "12 MiB".
+/// A byte count for people, in the binary units `--memory-budget` takes, to three significant
+/// figures: "3.21 GiB", "184 KiB", "512 bytes" (so that a need and a budget never print alike
+/// when they differ).
 fn bytes(count: u64) -> String {
-    let count = count as f64;
-    let gib = (1u64 << 30) as f64;
-    if count >= gib {
-        format!("{:.1} GiB", count / gib)
+    let (value, unit) = match count {
+        0..1024 => return format!("{count} bytes"),
+        1024..0x10_0000 => (count as f64 / 1024.0, "KiB"),
+        0x10_0000..0x4000_0000 => (count as f64 / 1_048_576.0, "MiB"),
+        _ => (count as f64 / 1_073_741_824.0, "GiB"),
+    };
+    let decimals = if value >= 100.0 {
+        0
+    } else if value >= 10.0 {
+        1
     } else {
-        format!("{:.0} MiB", (count / (1u64 << 20) as f64).ceil())
-    }
+        2
+    };
+    format!("{value:.decimals$} {unit}")
 }
 
 /// Fills in the certificate of an LP score from how its components were solved and the proven

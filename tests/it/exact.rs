@@ -157,7 +157,8 @@ fn exact_options(budget: ExactBudget) -> SolveOptions {
     }
 }
 
-fn solve(
+/// Scores with `options`, which must succeed.
+pub(crate) fn solve(
     x: &TrajectorySet,
     y: &TrajectorySet,
     params: &TrajectoryParams,
@@ -375,16 +376,17 @@ struct FixtureFile {
     cases: Vec<Fixture>,
 }
 
+/// One scene of tests/data/exact/fractional_scenes.json with its scipy values.
 #[derive(Deserialize)]
-struct Fixture {
-    name: String,
+pub(crate) struct Fixture {
+    pub(crate) name: String,
     cutoff: f64,
     order: f64,
     switch_penalty: f64,
     truth: Objects,
     estimate: Objects,
-    lp_total: f64,
-    exact_total: f64,
+    pub(crate) lp_total: f64,
+    pub(crate) exact_total: f64,
 }
 
 type Objects = BTreeMap<String, Vec<(Step, Vec<f64>)>>;
@@ -418,7 +420,7 @@ fn read_json<T: for<'de> Deserialize<'de>>(path: &str) -> T {
     serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap()
 }
 
-fn fixtures() -> Vec<(Fixture, TrajectorySet, TrajectorySet, TrajectoryParams)> {
+pub(crate) fn fixtures() -> Vec<(Fixture, TrajectorySet, TrajectorySet, TrajectoryParams)> {
     let file: FixtureFile = read_json("exact/fractional_scenes.json");
     file.cases
         .into_iter()

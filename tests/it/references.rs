@@ -37,7 +37,7 @@ struct PerStepCase {
     false_count: Option<usize>,
 }
 
-fn read<T: for<'de> Deserialize<'de>>(name: &str) -> T {
+pub(crate) fn read<T: for<'de> Deserialize<'de>>(name: &str) -> T {
     let path = format!("{}/tests/data/reference/{name}", env!("CARGO_MANIFEST_DIR"));
     serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap()
 }
@@ -90,23 +90,24 @@ fn per_step_gospa_matches_scipy_assignment() {
 }
 
 #[derive(Deserialize)]
-struct TrajectoryFile {
-    cases: Vec<TrajectoryCase>,
+pub(crate) struct TrajectoryFile {
+    pub(crate) cases: Vec<TrajectoryCase>,
 }
 
+/// One scene of tests/data/reference/trajectory_cases.json with its scipy values.
 #[derive(Deserialize)]
-struct TrajectoryCase {
-    cutoff: f64,
-    order: f64,
-    switch_penalty: f64,
-    truth: std::collections::BTreeMap<String, Vec<(Step, Vec<f64>)>>,
-    estimate: std::collections::BTreeMap<String, Vec<(Step, Vec<f64>)>>,
-    lp_total: f64,
-    exact_total: f64,
-    steps: usize,
+pub(crate) struct TrajectoryCase {
+    pub(crate) cutoff: f64,
+    pub(crate) order: f64,
+    pub(crate) switch_penalty: f64,
+    pub(crate) truth: std::collections::BTreeMap<String, Vec<(Step, Vec<f64>)>>,
+    pub(crate) estimate: std::collections::BTreeMap<String, Vec<(Step, Vec<f64>)>>,
+    pub(crate) lp_total: f64,
+    pub(crate) exact_total: f64,
+    pub(crate) steps: usize,
 }
 
-fn to_set(
+pub(crate) fn to_set(
     objects: &std::collections::BTreeMap<String, Vec<(Step, Vec<f64>)>>,
     dim: usize,
 ) -> TrajectorySet {
@@ -120,7 +121,7 @@ fn to_set(
     .unwrap()
 }
 
-fn dimension(case: &TrajectoryCase) -> usize {
+pub(crate) fn dimension(case: &TrajectoryCase) -> usize {
     case.truth
         .values()
         .chain(case.estimate.values())
