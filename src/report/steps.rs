@@ -1,11 +1,16 @@
 //! Output of per-step GOSPA (`switchyard steps`). Schemas: `specs/formats.md`.
+//!
+//! The writers take the occupied steps only and make the empty ones as they write, so a long
+//! window with few objects costs time to write but no memory: CSV and JSON keep one row per step
+//! of the window; text puts each run of [`EMPTY_RUN_LINE`] or more empty steps on one line.
 
 use std::io::Write;
 
 use serde::Serialize;
 
 use super::{csv_number, fixed, fixed_or_dash, write_table, InputInfo};
-use crate::per_step::{GospaParams, StepScore, StepSeries, StepSummary};
+use crate::per_step::{GospaParams, OccupiedSteps, StepScore, StepSummary, Stretch};
+use crate::trajectory::Step;
 use crate::trajectory::Window;
 
 #[derive(Serialize)]
@@ -13,14 +18,26 @@ struct StepsDocument<'a> {
     params: &'a GospaParams,
     inputs: &'a InputInfo,
     window: Option<Window>,
-    steps: &'a [StepScore],
+    steps: EveryStep<'a>,
     summary: &'a StepSummary,
 }
+
+/// Serialises one entry per step of the window, made on the fly.
+struct EveryStep<'a>(&'a OccupiedSteps);
+
+impl Serialize for EveryStep<'_> {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.collect_seq(self.0.steps())
+    }
+}
+
+/// Text: a run of at least this many steps with no object is written as one line.
+pub const EMPTY_RUN_LINE: Step = 10;
 
 /// JSON: `params`, `inputs`, `window`, `steps` and `summary`.
 pub fn write_json<W: Write>(
     out: &mut W,
-    series: &StepSeries,
+    series: &OccupiedSteps,
     params: &GospaParams,
     inputs: &InputInfo,
 ) -> std::io::Result<()> {
@@ -28,20 +45,20 @@ pub fn write_json<W: Write>(
         params,
         inputs,
         window: series.window,
-        steps: &series.steps,
+        steps: EveryStep(series),
         summary: &series.summary,
     };
     serde_json::to_writer_pretty(&mut *out, &document)?;
     writeln!(out)
 }
 
-/// CSV: one row per step.
-pub fn write_csv<W: Write>(out: &mut W, series: &StepSeries) -> std::io::Result<()> {
+/// CSV: one row per step of the window, empty steps included.
+pub fn write_csv<W: Write>(out: &mut W, series: &OccupiedSteps) -> std::io::Result<()> {
     writeln!(
         out,
         "time,gospa,localization,missed,false,missed_count,false_count,truth_count,estimate_count"
     )?;
-    for s in &series.steps {
+    for s in series.steps() {
         writeln!(
             out,
             "{},{},{},{},{},{},{},{},{}",
@@ -59,10 +76,11 @@ pub fn write_csv<W: Write>(out: &mut W, series: &StepSeries) -> std::io::Result<
     Ok(())
 }
 
-/// Text: a header, an aligned table, and a summary.
+/// Text: a header, an aligned table (runs of [`EMPTY_RUN_LINE`] or more empty steps on one
+/// line each), and a summary.
 pub fn write_text<W: Write>(
     out: &mut W,
-    series: &StepSeries,
+    series: &OccupiedSteps,
     params: &GospaParams,
     inputs: &InputInfo,
 ) -> std::io::Result<()> {
@@ -76,34 +94,58 @@ pub fn write_text<W: Write>(
         "truth    {} ({} objects)\nestimate {} ({} tracks)\n",
         inputs.truth, inputs.truth_objects, inputs.estimate, inputs.estimate_tracks
     )?;
-    let rows: Vec<Vec<String>> = series
-        .steps
-        .iter()
-        .map(|s| {
-            vec![
-                s.time.to_string(),
-                fixed(s.gospa, 4),
-                fixed_or_dash(s.localization, 4),
-                fixed_or_dash(s.missed, 4),
-                fixed_or_dash(s.false_, 4),
-                format!("{}/{}", s.missed_count, s.truth_count),
-                format!("{}/{}", s.false_count, s.estimate_count),
-            ]
-        })
-        .collect();
-    write_table(
-        out,
-        &[
-            "step",
-            "GOSPA",
-            "localisation^p",
-            "missed^p",
-            "false^p",
-            "missed/truths",
-            "false/tracks",
-        ],
-        &rows,
-    )?;
+    let row = |s: &StepScore| {
+        vec![
+            s.time.to_string(),
+            fixed(s.gospa, 4),
+            fixed_or_dash(s.localization, 4),
+            fixed_or_dash(s.missed, 4),
+            fixed_or_dash(s.false_, 4),
+            format!("{}/{}", s.missed_count, s.truth_count),
+            format!("{}/{}", s.false_count, s.estimate_count),
+        ]
+    };
+    // Rows for the occupied steps and short empty runs; each long run is a line written before
+    // the row at its position.
+    let mut rows: Vec<Vec<String>> = Vec::new();
+    let mut runs: Vec<(usize, String)> = Vec::new();
+    for stretch in series.stretches() {
+        match stretch {
+            Stretch::Occupied(s) => rows.push(row(s)),
+            Stretch::Empty { first, last } if last - first + 1 >= EMPTY_RUN_LINE => {
+                runs.push((rows.len(), format!("steps {first} to {last}: no objects")));
+            }
+            Stretch::Empty { first, last } => {
+                rows.extend((first..=last).map(|time| row(&series.empty_step(time))));
+            }
+        }
+    }
+    let header = [
+        "step",
+        "GOSPA",
+        "localisation^p",
+        "missed^p",
+        "false^p",
+        "missed/truths",
+        "false/tracks",
+    ];
+    if runs.is_empty() {
+        write_table(out, &header, &rows)?;
+    } else {
+        let mut table = Vec::new();
+        write_table(&mut table, &header, &rows)?;
+        let mut runs = runs.into_iter().peekable();
+        // Line 0 is the header, line k + 1 the k-th row.
+        for (line, text) in table.split_inclusive(|&b| b == b'\n').enumerate() {
+            while let Some((_, run)) = runs.next_if(|(at, _)| *at + 1 == line) {
+                writeln!(out, "{run}")?;
+            }
+            out.write_all(text)?;
+        }
+        for (_, run) in runs {
+            writeln!(out, "{run}")?;
+        }
+    }
     let m = &series.summary;
     writeln!(out)?;
     match series.window {

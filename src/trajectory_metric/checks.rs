@@ -69,9 +69,12 @@ pub fn bounds(
     let mut lower = 0.0;
     let mut changes = 0usize;
     let mut first = true;
+    let mut previous_step = 0;
     let mut previous: Vec<(u32, u32)> = Vec::new();
     let mut current: Vec<(u32, u32)> = Vec::new();
-    for_each_step(truth, estimate, &gospa, distance, |_, score, xs, ys| {
+    // Steps with no object are skipped by the pass: they assign nothing, so a gap before this
+    // step drops every previous pair and then adds every current one.
+    for_each_step(truth, estimate, &gospa, distance, |step, score, xs, ys| {
         lower += score.power;
         current.clear();
         current.extend(
@@ -83,9 +86,14 @@ pub fn bounds(
         current.sort_unstable();
         // The first step's assignment is free: only changes between steps are charged.
         if !first {
-            changes += symmetric_difference(&previous, &current);
+            changes += if step == previous_step + 1 {
+                symmetric_difference(&previous, &current)
+            } else {
+                previous.len() + current.len()
+            };
         }
         first = false;
+        previous_step = step;
         std::mem::swap(&mut previous, &mut current);
     })?;
     let held = lower + params.switch_cost() * changes as f64;

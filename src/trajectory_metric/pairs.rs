@@ -52,12 +52,11 @@ pub fn candidate_pairs(
     let estimate_frames = Frames::new(estimate, window);
     let mut events: Vec<(u32, u32, Step, f64)> = Vec::new();
     let mut gate = Gate::default();
-    for k in 0..window.len() {
-        let (xs, ys) = (truth_frames.at(k), estimate_frames.at(k));
+    // Only the steps where some object is present: the window may be far longer than the data.
+    for (step, xs, ys) in truth_frames.occupied_with(&estimate_frames) {
         if xs.is_empty() || ys.is_empty() {
             continue;
         }
-        let step = window.first + k as Step;
         gate.close_pairs(
             (xs.len(), |i| {
                 truth.get(xs[i].object as usize).state(xs[i].point as usize)

@@ -10,6 +10,7 @@ mod numerics;
 mod reductions;
 mod references;
 mod report;
+mod sparse_windows;
 mod support;
 mod switch_events;
 mod synth;
