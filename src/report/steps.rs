@@ -48,21 +48,24 @@ pub fn write_json<W: Write>(
         steps: EveryStep(series),
         summary: &series.summary,
     };
-    serde_json::to_writer_pretty(&mut *out, &document)?;
-    writeln!(out)
+    // serde_json writes token by token: buffered, an unbuffered file is not called per token.
+    let mut out = std::io::BufWriter::with_capacity(1 << 16, out);
+    serde_json::to_writer_pretty(&mut out, &document)?;
+    writeln!(out)?;
+    out.flush()
 }
 
-/// CSV: one row per step of the window, empty steps included.
+/// CSV: one row per step of the window, empty steps included. The rows of a run of empty steps
+/// differ only in their time, so the rest of the row is formatted once per run.
 pub fn write_csv<W: Write>(out: &mut W, series: &OccupiedSteps) -> std::io::Result<()> {
+    let mut out = std::io::BufWriter::with_capacity(1 << 16, out);
     writeln!(
         out,
         "time,gospa,localization,missed,false,missed_count,false_count,truth_count,estimate_count"
     )?;
-    for s in series.steps() {
-        writeln!(
-            out,
-            "{},{},{},{},{},{},{},{},{}",
-            s.time,
+    let after_time = |s: &StepScore| {
+        format!(
+            ",{},{},{},{},{},{},{},{}\n",
             s.gospa,
             csv_number(s.localization),
             csv_number(s.missed),
@@ -71,9 +74,44 @@ pub fn write_csv<W: Write>(out: &mut W, series: &OccupiedSteps) -> std::io::Resu
             s.false_count,
             s.truth_count,
             s.estimate_count
-        )?;
+        )
+    };
+    for stretch in series.stretches() {
+        match stretch {
+            Stretch::Occupied(s) => {
+                write_step(&mut out, s.time)?;
+                out.write_all(after_time(s).as_bytes())?;
+            }
+            Stretch::Empty { first, last } => {
+                let rest = after_time(&series.empty_step(first));
+                for time in first..=last {
+                    write_step(&mut out, time)?;
+                    out.write_all(rest.as_bytes())?;
+                }
+            }
+        }
     }
-    Ok(())
+    out.flush()
+}
+
+/// Writes a step in decimal, as `Display` does, without the formatting machinery (it is called
+/// once per row of a long window).
+fn write_step(out: &mut impl Write, step: Step) -> std::io::Result<()> {
+    let mut digits = [0u8; 20];
+    let mut at = digits.len();
+    let mut rest = step.unsigned_abs();
+    loop {
+        at -= 1;
+        digits[at] = b'0' + (rest % 10) as u8;
+        rest /= 10;
+        if rest == 0 {
+            break;
+        }
+    }
+    if step < 0 {
+        out.write_all(b"-")?;
+    }
+    out.write_all(&digits[at..])
 }
 
 /// Text: a header, an aligned table (runs of [`EMPTY_RUN_LINE`] or more empty steps on one
@@ -171,4 +209,31 @@ pub fn write_text<W: Write>(
         "object-steps: {} missed, {} false",
         m.missed_count, m.false_count
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::write_step;
+
+    #[test]
+    fn steps_are_written_as_display_writes_them() {
+        // The reference is Rust's own `Display` for i64.
+        for step in [
+            i64::MIN,
+            -1_000_000,
+            -10,
+            -9,
+            -1,
+            0,
+            1,
+            9,
+            10,
+            49_999_999,
+            i64::MAX,
+        ] {
+            let mut out = Vec::new();
+            write_step(&mut out, step).unwrap();
+            assert_eq!(String::from_utf8(out).unwrap(), step.to_string());
+        }
+    }
 }
