@@ -442,3 +442,72 @@ pub fn evaluation_window(
     }
     Ok(Some(window))
 }
+
+#[cfg(test)]
+mod frames_tests {
+    use super::*;
+
+    fn set(objects: &[(&str, &[Step])]) -> TrajectorySet {
+        let trajectories = objects
+            .iter()
+            .map(|(id, steps)| {
+                Trajectory::new(*id, 1, steps.iter().map(|&s| (s, vec![s as f64])).collect())
+                    .unwrap()
+            })
+            .collect();
+        TrajectorySet::new(1, trajectories).unwrap()
+    }
+
+    /// Checks every step of the window against the definition: the objects whose trajectory
+    /// has a state at that step, by increasing index, pointing at that state.
+    fn check(set: &TrajectorySet, window: Window) {
+        let frames = Frames::new(set, window);
+        let mut occupied = Vec::new();
+        for index in 0..window.len() {
+            let step = window.first + index as Step;
+            let expected: Vec<u32> = (0..set.len())
+                .filter(|&k| set.get(k).state_at(step).is_some())
+                .map(|k| k as u32)
+                .collect();
+            let found = frames.at(index);
+            assert_eq!(
+                found.iter().map(|p| p.object).collect::<Vec<_>>(),
+                expected,
+                "step {step}"
+            );
+            for p in found {
+                let trajectory = set.get(p.object as usize);
+                assert_eq!(trajectory.steps()[p.point as usize], step);
+            }
+            if !expected.is_empty() {
+                occupied.push(step);
+            }
+        }
+        assert_eq!(frames.occupied(), occupied.as_slice());
+    }
+
+    #[test]
+    fn dense_and_sparse_indexing_agree_with_the_definition() {
+        // 9 points over 12 steps: indexed by counting (12 <= 4 x 9).
+        let dense = set(&[("a", &[0, 1, 2, 5]), ("b", &[1, 2, 11]), ("c", &[2, 9])]);
+        check(&dense, Window { first: 0, last: 11 });
+        // 5 points over 1,001 steps: indexed by sorting; ids given out of step order.
+        let sparse = set(&[("b", &[500, 1_000]), ("a", &[0, 500]), ("c", &[999])]);
+        check(
+            &sparse,
+            Window {
+                first: 0,
+                last: 1_000,
+            },
+        );
+        // Points outside the window are left out, in both ways.
+        check(
+            &sparse,
+            Window {
+                first: 1,
+                last: 999,
+            },
+        );
+        check(&dense, Window { first: 2, last: 9 });
+    }
+}

@@ -273,6 +273,31 @@ mod tests {
     }
 
     #[test]
+    fn held_bound_counts_the_changes_across_steps_with_no_object() {
+        // By hand, from the definitions (c = 10, p = 1, gamma = 10): truth a and estimate p
+        // are present at steps 0 and 1,000,000 only, 1 then 5 apart, so the lower bound is
+        // 1 + 5 = 6. Holding each step's own assignment drops the pair at step 1 (no object)
+        // and takes it again at the last step: 2 changes x gamma^p / 2 = 10, so held = 16.
+        let truth = set(&[("a", &[(0, 0.0), (1_000_000, 0.0)])]);
+        let estimate = set(&[("p", &[(0, 1.0), (1_000_000, 5.0)])]);
+        let params = TrajectoryParams::new(10.0, 1.0, 10.0).unwrap();
+        let bounds = bounds(&truth, &estimate, &params, &Distance::default()).unwrap();
+        assert!((bounds.lower - 6.0).abs() < 1e-12, "{bounds:?}");
+        assert!((bounds.held - 16.0).abs() < 1e-12, "{bounds:?}");
+        // Step 1 follows step 0 at once: the pair is held, no change, held = lower = 6.
+        let truth = set(&[("a", &[(0, 0.0), (1, 0.0)])]);
+        let estimate = set(&[("p", &[(0, 1.0), (1, 5.0)])]);
+        let bounds = crate::trajectory_metric::checks::bounds(
+            &truth,
+            &estimate,
+            &params,
+            &Distance::default(),
+        )
+        .unwrap();
+        assert!((bounds.held - 6.0).abs() < 1e-12, "{bounds:?}");
+    }
+
+    #[test]
     fn a_total_above_the_held_assignment_fails() {
         // A doctored solution that pays more than an available feasible one: all parts raised
         // together so that only the held-assignment check can object.
