@@ -18,23 +18,28 @@ struct StepsDocument<'a> {
     params: &'a GospaParams,
     inputs: &'a InputInfo,
     window: Option<Window>,
-    steps: EveryStep<'a>,
+    /// Always empty here: the entries are written in its place (see [`write_json`]).
+    steps: [StepScore; 0],
     summary: &'a StepSummary,
-}
-
-/// Serialises one entry per step of the window, made on the fly.
-struct EveryStep<'a>(&'a OccupiedSteps);
-
-impl Serialize for EveryStep<'_> {
-    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
-        serializer.collect_seq(self.0.steps())
-    }
 }
 
 /// Text: a run of at least this many steps with no object is written as one line.
 pub const EMPTY_RUN_LINE: Step = 10;
 
-/// JSON: `params`, `inputs`, `window`, `steps` and `summary`.
+/// Where the `steps` array sits in the pretty-printed document: its key is at the top level
+/// (two spaces in), and a JSON string holds no raw newline, so the match is unique.
+const EMPTY_STEPS: &str = "\n  \"steps\": []";
+
+/// One entry of `steps` as serde_json's pretty printer writes it inside the array (its lines
+/// four spaces further in than at the top level).
+fn entry(score: &StepScore) -> std::io::Result<String> {
+    Ok(serde_json::to_string_pretty(score)?.replace('\n', "\n    "))
+}
+
+/// JSON: `params`, `inputs`, `window`, `steps` and `summary`. The document around `steps` is
+/// printed by serde_json; the entries of `steps` are written in its array, one per step, the
+/// empty steps from one entry printed per run with only the time changed, so the bytes are
+/// those of printing every entry and nothing is held per step.
 pub fn write_json<W: Write>(
     out: &mut W,
     series: &OccupiedSteps,
@@ -45,12 +50,43 @@ pub fn write_json<W: Write>(
         params,
         inputs,
         window: series.window,
-        steps: EveryStep(series),
+        steps: [],
         summary: &series.summary,
     };
-    // serde_json writes token by token: buffered, an unbuffered file is not called per token.
+    let text = serde_json::to_string_pretty(&document)?;
+    let at = text
+        .find(EMPTY_STEPS)
+        .expect("the document has a steps key")
+        + EMPTY_STEPS.len()
+        - 1;
     let mut out = std::io::BufWriter::with_capacity(1 << 16, out);
-    serde_json::to_writer_pretty(&mut out, &document)?;
+    out.write_all(&text.as_bytes()[..at])?;
+    let mut separator: &[u8] = b"\n    ";
+    for stretch in series.stretches() {
+        match stretch {
+            Stretch::Occupied(score) => {
+                out.write_all(separator)?;
+                out.write_all(entry(score)?.as_bytes())?;
+            }
+            Stretch::Empty { first, last } => {
+                // Time is the first key: the entry is `head`, the time, `tail`.
+                let template = entry(&series.empty_step(0))?;
+                let split = template.find("\"time\": 0").expect("time comes first") + 8;
+                let (head, tail) = (&template[..split], &template[split + 1..]);
+                for time in first..=last {
+                    out.write_all(separator)?;
+                    out.write_all(head.as_bytes())?;
+                    write_step(&mut out, time)?;
+                    out.write_all(tail.as_bytes())?;
+                }
+            }
+        }
+        separator = b",\n    ";
+    }
+    if series.window.is_some() {
+        out.write_all(b"\n  ")?;
+    }
+    out.write_all(&text.as_bytes()[at..])?;
     writeln!(out)?;
     out.flush()
 }
