@@ -381,9 +381,10 @@ pub struct StepSeries {
     pub summary: StepSummary,
 }
 
-/// Solves GOSPA at every step of the window covering both sets, in time order, handing each
-/// step's result to `visit(time, score, truths present, estimates present)` without keeping
-/// it; the pairs in `score` index into those two lists. Returns the window.
+/// Solves GOSPA at every step of the window covering both sets where any object is present, in
+/// time order, handing each step's result to `visit(time, score, truths present, estimates
+/// present)` without keeping it; the pairs in `score` index into those two lists. Steps with no
+/// object are skipped: their GOSPA is 0 and they assign nothing. Returns the window.
 ///
 /// # Errors
 /// As [`per_step`].
@@ -400,9 +401,7 @@ pub(crate) fn for_each_step(
         let truth_frames = Frames::new(truth, window);
         let estimate_frames = Frames::new(estimate, window);
         let mut workspace = Workspace::default();
-        for k in 0..window.len() {
-            let xs = truth_frames.at(k);
-            let ys = estimate_frames.at(k);
+        for (time, xs, ys) in truth_frames.occupied_with(&estimate_frames) {
             let score = workspace.solve(
                 xs.len(),
                 ys.len(),
@@ -415,13 +414,104 @@ pub(crate) fn for_each_step(
                 params,
                 distance,
             );
-            visit(window.first + k as Step, &score, xs, ys);
+            visit(time, &score, xs, ys);
         }
     }
     Ok(window)
 }
 
-/// Per-step GOSPA for every step of the window covering both sets.
+/// Per-step GOSPA kept only at the steps where an object is present: memory follows the points,
+/// not the window. Every other step of the window has GOSPA 0, parts 0 (alpha = 2) and no
+/// objects; [`OccupiedSteps::steps`] gives them all, one per step.
+#[derive(Clone, Debug, PartialEq)]
+pub struct OccupiedSteps {
+    /// The window evaluated, `None` when both sets are empty.
+    pub window: Option<Window>,
+    /// One entry per step with at least one truth or estimate present, in time order.
+    pub occupied: Vec<StepScore>,
+    /// Totals over every step of the window (empty steps count as steps with GOSPA 0).
+    pub summary: StepSummary,
+    /// The score of a step with no object (its time set per step).
+    empty: StepScore,
+}
+
+/// A stretch of the window: one step with objects, or a run of steps with none.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Stretch<'a> {
+    /// A step where an object is present.
+    Occupied(&'a StepScore),
+    /// Every step from `first` to `last` (both included) has no object.
+    Empty {
+        /// The first empty step.
+        first: Step,
+        /// The last empty step.
+        last: Step,
+    },
+}
+
+impl OccupiedSteps {
+    /// The score of a step with no object at `time`.
+    pub fn empty_step(&self, time: Step) -> StepScore {
+        StepScore {
+            time,
+            ..self.empty.clone()
+        }
+    }
+
+    /// The window in order: each occupied step, and each maximal run of empty steps as one
+    /// item. O(occupied steps) items.
+    pub fn stretches(&self) -> impl Iterator<Item = Stretch<'_>> + '_ {
+        let end = self.window.map_or(0, |w| w.last + 1);
+        let mut next = self.window.map_or(0, |w| w.first);
+        let mut k = 0;
+        std::iter::from_fn(move || {
+            if next >= end {
+                return None;
+            }
+            let stretch = match self.occupied.get(k) {
+                Some(score) if score.time == next => {
+                    k += 1;
+                    Stretch::Occupied(score)
+                }
+                upcoming => {
+                    let last = upcoming.map_or(end - 1, |score| score.time - 1);
+                    Stretch::Empty { first: next, last }
+                }
+            };
+            next = match stretch {
+                Stretch::Occupied(score) => score.time + 1,
+                Stretch::Empty { last, .. } => last + 1,
+            };
+            Some(stretch)
+        })
+    }
+
+    /// Every step of the window in time order, empty ones made on the fly (nothing is held).
+    pub fn steps(&self) -> impl Iterator<Item = StepScore> + '_ {
+        self.stretches().flat_map(move |stretch| {
+            let (first, last, occupied) = match stretch {
+                Stretch::Occupied(score) => (score.time, score.time, Some(score)),
+                Stretch::Empty { first, last } => (first, last, None),
+            };
+            (first..=last).map(move |time| match occupied {
+                Some(score) => score.clone(),
+                None => self.empty_step(time),
+            })
+        })
+    }
+
+    /// The series with one entry per step of the window (memory follows the window).
+    pub fn into_series(self) -> StepSeries {
+        StepSeries {
+            window: self.window,
+            steps: self.steps().collect(),
+            summary: self.summary,
+        }
+    }
+}
+
+/// Per-step GOSPA for every step of the window covering both sets, one entry per step. For long
+/// windows with few objects use [`occupied_steps`], whose memory follows the points.
 ///
 /// # Errors
 /// Sets of different dimensions, a window too long to hold, a distance that does not fit the
@@ -432,21 +522,38 @@ pub fn per_step(
     params: &GospaParams,
     distance: &Distance,
 ) -> Result<StepSeries> {
-    let mut steps = Vec::new();
-    let window = for_each_step(truth, estimate, params, distance, |time, score, xs, ys| {
-        steps.push(StepScore {
-            time,
-            gospa: root(score.power, params.order),
-            localization: score.localization,
-            missed: score.missed,
-            false_: score.false_,
-            missed_count: score.missed_count,
-            false_count: score.false_count,
-            truth_count: xs.len(),
-            estimate_count: ys.len(),
-        });
+    occupied_steps(truth, estimate, params, distance).map(OccupiedSteps::into_series)
+}
+
+/// Per-step GOSPA at the steps of the window where an object is present, with totals over the
+/// whole window. O(points) memory.
+///
+/// # Errors
+/// As [`per_step`].
+pub fn occupied_steps(
+    truth: &TrajectorySet,
+    estimate: &TrajectorySet,
+    params: &GospaParams,
+    distance: &Distance,
+) -> Result<OccupiedSteps> {
+    let score = |time: Step, score: &SetScore, truths: usize, estimates: usize| StepScore {
+        time,
+        gospa: root(score.power, params.order),
+        localization: score.localization,
+        missed: score.missed,
+        false_: score.false_,
+        missed_count: score.missed_count,
+        false_count: score.false_count,
+        truth_count: truths,
+        estimate_count: estimates,
+    };
+    let mut occupied = Vec::new();
+    let window = for_each_step(truth, estimate, params, distance, |time, s, xs, ys| {
+        occupied.push(score(time, s, xs.len(), ys.len()));
     })?;
-    let summary = summarise(&steps, params);
+    let nothing = Workspace::default().solve(0, 0, |_| &[], |_| &[], params, distance);
+    let empty = score(0, &nothing, 0, 0);
+    let summary = summarise(&occupied, window.map_or(0, |w| w.len()), params);
     let parts = [summary.localization, summary.missed, summary.false_];
     if !(summary.sum.is_finite()
         && summary.root_mean_power.is_finite()
@@ -457,15 +564,18 @@ pub fn per_step(
             params.cutoff
         )));
     }
-    Ok(StepSeries {
+    Ok(OccupiedSteps {
         window,
-        steps,
+        occupied,
         summary,
+        empty,
     })
 }
 
-fn summarise(steps: &[StepScore], params: &GospaParams) -> StepSummary {
-    let count = steps.len();
+/// Totals over `count` steps of which `steps` are the occupied ones; the others add GOSPA 0 and
+/// parts 0, and adding +0.0 to a sum that started at +0.0 leaves it unchanged, so leaving them
+/// out gives the same bits as summing every step.
+fn summarise(steps: &[StepScore], count: usize, params: &GospaParams) -> StepSummary {
     // Sums fold from +0.0 (`Sum` for f64 starts from -0.0, which would print as "-0").
     let sum: f64 = steps.iter().fold(0.0, |sum, s| sum + s.gospa);
     let power_sum: f64 = steps

@@ -258,52 +258,96 @@ pub struct Presence {
     pub point: u32,
 }
 
-/// The objects of one set present at each step of a window, built in O(points + steps).
+/// The objects of one set present at each step of a window. Only the steps where an object is
+/// present are stored, so the memory follows the points, not the length of the window.
 #[derive(Clone, Debug)]
 pub struct Frames {
     window: Window,
+    /// The steps with at least one object, increasing.
+    steps: Vec<Step>,
+    /// `members[offsets[k]..offsets[k + 1]]` are present at `steps[k]`.
     offsets: Vec<usize>,
     members: Vec<Presence>,
 }
 
+/// A window at most this many times longer than the points is indexed by counting (O(points +
+/// steps), memory a few words a step); a longer, sparser one by sorting the points (O(points log
+/// points)), so the memory never follows the window.
+const DENSE_STEPS_PER_POINT: usize = 4;
+
 impl Frames {
     /// Indexes `set` by step over `window`. Points outside the window are left out.
     pub fn new(set: &TrajectorySet, window: Window) -> Self {
-        let steps = window.len();
-        let mut counts = vec![0usize; steps + 1];
-        for trajectory in set.trajectories() {
-            for &step in trajectory.steps() {
-                if step >= window.first && step <= window.last {
+        let inside = |step: Step| step >= window.first && step <= window.last;
+        let points: usize = set
+            .trajectories()
+            .iter()
+            .map(|t| t.steps().iter().filter(|&&s| inside(s)).count())
+            .sum();
+        let mut members = Vec::with_capacity(points);
+        let mut steps = Vec::new();
+        let mut offsets = Vec::new();
+        if window.len() <= DENSE_STEPS_PER_POINT.saturating_mul(points.max(1)) {
+            let mut counts = vec![0usize; window.len() + 1];
+            for trajectory in set.trajectories() {
+                for &step in trajectory.steps().iter().filter(|&&s| inside(s)) {
                     counts[window.index(step) + 1] += 1;
                 }
             }
-        }
-        for k in 0..steps {
-            counts[k + 1] += counts[k];
-        }
-        let offsets = counts.clone();
-        let mut fill = counts;
-        let mut members = vec![
-            Presence {
-                object: 0,
-                point: 0
-            };
-            offsets[steps]
-        ];
-        for (object, trajectory) in set.trajectories().iter().enumerate() {
-            for (point, &step) in trajectory.steps().iter().enumerate() {
-                if step >= window.first && step <= window.last {
-                    let slot = &mut fill[window.index(step)];
-                    members[*slot] = Presence {
-                        object: object as u32,
-                        point: point as u32,
-                    };
-                    *slot += 1;
+            for k in 0..window.len() {
+                if counts[k + 1] > 0 {
+                    steps.push(window.first + k as Step);
+                    offsets.push(counts[k]);
+                }
+                counts[k + 1] += counts[k];
+            }
+            members.resize(
+                points,
+                Presence {
+                    object: 0,
+                    point: 0,
+                },
+            );
+            let mut fill = counts;
+            for (object, trajectory) in set.trajectories().iter().enumerate() {
+                for (point, &step) in trajectory.steps().iter().enumerate() {
+                    if inside(step) {
+                        let slot = &mut fill[window.index(step)];
+                        members[*slot] = Presence {
+                            object: object as u32,
+                            point: point as u32,
+                        };
+                        *slot += 1;
+                    }
                 }
             }
+        } else {
+            let mut keyed: Vec<(Step, Presence)> = Vec::with_capacity(points);
+            for (object, trajectory) in set.trajectories().iter().enumerate() {
+                for (point, &step) in trajectory.steps().iter().enumerate() {
+                    if inside(step) {
+                        let presence = Presence {
+                            object: object as u32,
+                            point: point as u32,
+                        };
+                        keyed.push((step, presence));
+                    }
+                }
+            }
+            // (step, object) is unique, so the unstable sort is deterministic.
+            keyed.sort_unstable_by_key(|&(step, p)| (step, p.object));
+            for (index, &(step, presence)) in keyed.iter().enumerate() {
+                if steps.last() != Some(&step) {
+                    steps.push(step);
+                    offsets.push(index);
+                }
+                members.push(presence);
+            }
         }
+        offsets.push(points);
         Frames {
             window,
+            steps,
             offsets,
             members,
         }
@@ -315,8 +359,54 @@ impl Frames {
     }
 
     /// The objects present at the `index`-th step of the window, by increasing object index.
+    /// O(log occupied steps).
     pub fn at(&self, index: usize) -> &[Presence] {
-        &self.members[self.offsets[index]..self.offsets[index + 1]]
+        match self
+            .steps
+            .binary_search(&(self.window.first + index as Step))
+        {
+            Ok(k) => self.occupant(k),
+            Err(_) => &[],
+        }
+    }
+
+    /// The steps with at least one object present, increasing.
+    pub fn occupied(&self) -> &[Step] {
+        &self.steps
+    }
+
+    /// The objects present at the `k`-th occupied step, by increasing object index.
+    pub fn occupant(&self, k: usize) -> &[Presence] {
+        &self.members[self.offsets[k]..self.offsets[k + 1]]
+    }
+
+    /// Every step with an object in `self` or `other` (two indexings of one window), in time
+    /// order, with the objects of each present then (possibly none).
+    pub fn occupied_with<'a>(
+        &'a self,
+        other: &'a Frames,
+    ) -> impl Iterator<Item = (Step, &'a [Presence], &'a [Presence])> + 'a {
+        let (mut a, mut b) = (0, 0);
+        std::iter::from_fn(move || {
+            let next_a = self.steps.get(a).copied();
+            let next_b = other.steps.get(b).copied();
+            let step = match (next_a, next_b) {
+                (Some(x), Some(y)) => x.min(y),
+                (Some(x), None) | (None, Some(x)) => x,
+                (None, None) => return None,
+            };
+            let take = |frames: &'a Frames, next: Option<Step>, k: &mut usize| {
+                if next == Some(step) {
+                    *k += 1;
+                    frames.occupant(*k - 1)
+                } else {
+                    &[]
+                }
+            };
+            let xs = take(self, next_a, &mut a);
+            let ys = take(other, next_b, &mut b);
+            Some((step, xs, ys))
+        })
     }
 }
 
@@ -351,4 +441,73 @@ pub fn evaluation_window(
         )));
     }
     Ok(Some(window))
+}
+
+#[cfg(test)]
+mod frames_tests {
+    use super::*;
+
+    fn set(objects: &[(&str, &[Step])]) -> TrajectorySet {
+        let trajectories = objects
+            .iter()
+            .map(|(id, steps)| {
+                Trajectory::new(*id, 1, steps.iter().map(|&s| (s, vec![s as f64])).collect())
+                    .unwrap()
+            })
+            .collect();
+        TrajectorySet::new(1, trajectories).unwrap()
+    }
+
+    /// Checks every step of the window against the definition: the objects whose trajectory
+    /// has a state at that step, by increasing index, pointing at that state.
+    fn check(set: &TrajectorySet, window: Window) {
+        let frames = Frames::new(set, window);
+        let mut occupied = Vec::new();
+        for index in 0..window.len() {
+            let step = window.first + index as Step;
+            let expected: Vec<u32> = (0..set.len())
+                .filter(|&k| set.get(k).state_at(step).is_some())
+                .map(|k| k as u32)
+                .collect();
+            let found = frames.at(index);
+            assert_eq!(
+                found.iter().map(|p| p.object).collect::<Vec<_>>(),
+                expected,
+                "step {step}"
+            );
+            for p in found {
+                let trajectory = set.get(p.object as usize);
+                assert_eq!(trajectory.steps()[p.point as usize], step);
+            }
+            if !expected.is_empty() {
+                occupied.push(step);
+            }
+        }
+        assert_eq!(frames.occupied(), occupied.as_slice());
+    }
+
+    #[test]
+    fn dense_and_sparse_indexing_agree_with_the_definition() {
+        // 9 points over 12 steps: indexed by counting (12 <= 4 x 9).
+        let dense = set(&[("a", &[0, 1, 2, 5]), ("b", &[1, 2, 11]), ("c", &[2, 9])]);
+        check(&dense, Window { first: 0, last: 11 });
+        // 5 points over 1,001 steps: indexed by sorting; ids given out of step order.
+        let sparse = set(&[("b", &[500, 1_000]), ("a", &[0, 500]), ("c", &[999])]);
+        check(
+            &sparse,
+            Window {
+                first: 0,
+                last: 1_000,
+            },
+        );
+        // Points outside the window are left out, in both ways.
+        check(
+            &sparse,
+            Window {
+                first: 1,
+                last: 999,
+            },
+        );
+        check(&dense, Window { first: 2, last: 9 });
+    }
 }

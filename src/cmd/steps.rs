@@ -2,7 +2,7 @@
 
 use clap::Args;
 
-use switchyard::per_step::{per_step, GospaParams};
+use switchyard::per_step::{occupied_steps, GospaParams};
 use switchyard::report::{steps, InputInfo};
 
 use super::{Format, InputArgs, Inputs, OutputArgs};
@@ -36,7 +36,7 @@ pub fn run(args: &StepsArgs) -> anyhow::Result<()> {
         estimate,
         distance,
     } = args.input.read(args.cutoff)?;
-    let series = per_step(&truth.set, &estimate.set, &params, &distance)?;
+    let series = occupied_steps(&truth.set, &estimate.set, &params, &distance)?;
     let info = InputInfo::new(&truth, &estimate, &distance);
     args.output.emit(|out| {
         match args.format {

@@ -24,7 +24,7 @@ use std::fmt::Write;
 use crate::audit::{audit, Audit};
 use crate::distance::Distance;
 use crate::error::Result;
-use crate::per_step::{per_step, GospaParams, StepSeries};
+use crate::per_step::{occupied_steps, GospaParams, OccupiedSteps};
 use crate::switches::{switch_events, SwitchEvent};
 use crate::trajectory::{TrajectorySet, Window};
 use crate::trajectory_metric::{score_with, SolveOptions, TrajectoryParams, TrajectoryScore};
@@ -43,8 +43,9 @@ pub struct TrackerResults {
     pub estimate: TrajectorySet,
     /// Trajectory GOSPA with its parts and assignment.
     pub score: TrajectoryScore,
-    /// Per-step GOSPA (alpha = 2, same cut-off and order) with its parts.
-    pub steps: StepSeries,
+    /// Per-step GOSPA (alpha = 2, same cut-off and order) with its parts, at the steps where an
+    /// object is present (the charts bin time, so nothing is kept per empty step).
+    pub steps: OccupiedSteps,
     /// The switches seen from the true objects.
     pub switches: Vec<SwitchEvent>,
     /// How each true object was covered, worst first.
@@ -56,7 +57,7 @@ impl TrackerResults {
     /// with alpha = 2 and the same cut-off and order, the switch events and the audit.
     ///
     /// # Errors
-    /// As [`score_with`] and [`per_step`]: sets of different dimensions, a window too long, an
+    /// As [`score_with`] and [`occupied_steps`]: sets of different dimensions, a window too long, an
     /// LP engine failure.
     pub fn compute(
         name: impl Into<String>,
@@ -69,7 +70,7 @@ impl TrackerResults {
     ) -> Result<Self> {
         let score = score_with(truth, &estimate, params, distance, options)?;
         let gospa = GospaParams::new(params.cutoff, params.order, 2.0)?;
-        let steps = per_step(truth, &estimate, &gospa, distance)?;
+        let steps = occupied_steps(truth, &estimate, &gospa, distance)?;
         let switches = switch_events(&score.assignment, truth, &estimate, &score.params);
         let audit = audit(&score, truth, &estimate, &switches);
         Ok(TrackerResults {

@@ -1,11 +1,16 @@
 //! Output of per-step GOSPA (`switchyard steps`). Schemas: `specs/formats.md`.
+//!
+//! The writers take the occupied steps only and make the empty ones as they write, so a long
+//! window with few objects costs time to write but no memory: CSV and JSON keep one row per step
+//! of the window; text puts each run of [`EMPTY_RUN_LINE`] or more empty steps on one line.
 
 use std::io::Write;
 
 use serde::Serialize;
 
 use super::{csv_number, fixed, fixed_or_dash, write_table, InputInfo};
-use crate::per_step::{GospaParams, StepScore, StepSeries, StepSummary};
+use crate::per_step::{GospaParams, OccupiedSteps, StepScore, StepSummary, Stretch};
+use crate::trajectory::Step;
 use crate::trajectory::Window;
 
 #[derive(Serialize)]
@@ -13,14 +18,31 @@ struct StepsDocument<'a> {
     params: &'a GospaParams,
     inputs: &'a InputInfo,
     window: Option<Window>,
-    steps: &'a [StepScore],
+    /// Always empty here: the entries are written in its place (see [`write_json`]).
+    steps: [StepScore; 0],
     summary: &'a StepSummary,
 }
 
-/// JSON: `params`, `inputs`, `window`, `steps` and `summary`.
+/// Text: a run of at least this many steps with no object is written as one line.
+pub const EMPTY_RUN_LINE: Step = 10;
+
+/// Where the `steps` array sits in the pretty-printed document: its key is at the top level
+/// (two spaces in), and a JSON string holds no raw newline, so the match is unique.
+const EMPTY_STEPS: &str = "\n  \"steps\": []";
+
+/// One entry of `steps` as serde_json's pretty printer writes it inside the array (its lines
+/// four spaces further in than at the top level).
+fn entry(score: &StepScore) -> std::io::Result<String> {
+    Ok(serde_json::to_string_pretty(score)?.replace('\n', "\n    "))
+}
+
+/// JSON: `params`, `inputs`, `window`, `steps` and `summary`. The document around `steps` is
+/// printed by serde_json; the entries of `steps` are written in its array, one per step, the
+/// empty steps from one entry printed per run with only the time changed, so the bytes are
+/// those of printing every entry and nothing is held per step.
 pub fn write_json<W: Write>(
     out: &mut W,
-    series: &StepSeries,
+    series: &OccupiedSteps,
     params: &GospaParams,
     inputs: &InputInfo,
 ) -> std::io::Result<()> {
@@ -28,24 +50,58 @@ pub fn write_json<W: Write>(
         params,
         inputs,
         window: series.window,
-        steps: &series.steps,
+        steps: [],
         summary: &series.summary,
     };
-    serde_json::to_writer_pretty(&mut *out, &document)?;
-    writeln!(out)
+    let text = serde_json::to_string_pretty(&document)?;
+    let at = text
+        .find(EMPTY_STEPS)
+        .expect("the document has a steps key")
+        + EMPTY_STEPS.len()
+        - 1;
+    let mut out = std::io::BufWriter::with_capacity(1 << 16, out);
+    out.write_all(&text.as_bytes()[..at])?;
+    let mut separator: &[u8] = b"\n    ";
+    for stretch in series.stretches() {
+        match stretch {
+            Stretch::Occupied(score) => {
+                out.write_all(separator)?;
+                out.write_all(entry(score)?.as_bytes())?;
+            }
+            Stretch::Empty { first, last } => {
+                // Time is the first key: the entry is `head`, the time, `tail`.
+                let template = entry(&series.empty_step(0))?;
+                let split = template.find("\"time\": 0").expect("time comes first") + 8;
+                let (head, tail) = (&template[..split], &template[split + 1..]);
+                for time in first..=last {
+                    out.write_all(separator)?;
+                    out.write_all(head.as_bytes())?;
+                    write_step(&mut out, time)?;
+                    out.write_all(tail.as_bytes())?;
+                }
+            }
+        }
+        separator = b",\n    ";
+    }
+    if series.window.is_some() {
+        out.write_all(b"\n  ")?;
+    }
+    out.write_all(&text.as_bytes()[at..])?;
+    writeln!(out)?;
+    out.flush()
 }
 
-/// CSV: one row per step.
-pub fn write_csv<W: Write>(out: &mut W, series: &StepSeries) -> std::io::Result<()> {
+/// CSV: one row per step of the window, empty steps included. The rows of a run of empty steps
+/// differ only in their time, so the rest of the row is formatted once per run.
+pub fn write_csv<W: Write>(out: &mut W, series: &OccupiedSteps) -> std::io::Result<()> {
+    let mut out = std::io::BufWriter::with_capacity(1 << 16, out);
     writeln!(
         out,
         "time,gospa,localization,missed,false,missed_count,false_count,truth_count,estimate_count"
     )?;
-    for s in &series.steps {
-        writeln!(
-            out,
-            "{},{},{},{},{},{},{},{},{}",
-            s.time,
+    let after_time = |s: &StepScore| {
+        format!(
+            ",{},{},{},{},{},{},{},{}\n",
             s.gospa,
             csv_number(s.localization),
             csv_number(s.missed),
@@ -54,15 +110,51 @@ pub fn write_csv<W: Write>(out: &mut W, series: &StepSeries) -> std::io::Result<
             s.false_count,
             s.truth_count,
             s.estimate_count
-        )?;
+        )
+    };
+    for stretch in series.stretches() {
+        match stretch {
+            Stretch::Occupied(s) => {
+                write_step(&mut out, s.time)?;
+                out.write_all(after_time(s).as_bytes())?;
+            }
+            Stretch::Empty { first, last } => {
+                let rest = after_time(&series.empty_step(first));
+                for time in first..=last {
+                    write_step(&mut out, time)?;
+                    out.write_all(rest.as_bytes())?;
+                }
+            }
+        }
     }
-    Ok(())
+    out.flush()
 }
 
-/// Text: a header, an aligned table, and a summary.
+/// Writes a step in decimal, as `Display` does, without the formatting machinery (it is called
+/// once per row of a long window).
+fn write_step(out: &mut impl Write, step: Step) -> std::io::Result<()> {
+    let mut digits = [0u8; 20];
+    let mut at = digits.len();
+    let mut rest = step.unsigned_abs();
+    loop {
+        at -= 1;
+        digits[at] = b'0' + (rest % 10) as u8;
+        rest /= 10;
+        if rest == 0 {
+            break;
+        }
+    }
+    if step < 0 {
+        out.write_all(b"-")?;
+    }
+    out.write_all(&digits[at..])
+}
+
+/// Text: a header, an aligned table (runs of [`EMPTY_RUN_LINE`] or more empty steps on one
+/// line each), and a summary.
 pub fn write_text<W: Write>(
     out: &mut W,
-    series: &StepSeries,
+    series: &OccupiedSteps,
     params: &GospaParams,
     inputs: &InputInfo,
 ) -> std::io::Result<()> {
@@ -76,34 +168,58 @@ pub fn write_text<W: Write>(
         "truth    {} ({} objects)\nestimate {} ({} tracks)\n",
         inputs.truth, inputs.truth_objects, inputs.estimate, inputs.estimate_tracks
     )?;
-    let rows: Vec<Vec<String>> = series
-        .steps
-        .iter()
-        .map(|s| {
-            vec![
-                s.time.to_string(),
-                fixed(s.gospa, 4),
-                fixed_or_dash(s.localization, 4),
-                fixed_or_dash(s.missed, 4),
-                fixed_or_dash(s.false_, 4),
-                format!("{}/{}", s.missed_count, s.truth_count),
-                format!("{}/{}", s.false_count, s.estimate_count),
-            ]
-        })
-        .collect();
-    write_table(
-        out,
-        &[
-            "step",
-            "GOSPA",
-            "localisation^p",
-            "missed^p",
-            "false^p",
-            "missed/truths",
-            "false/tracks",
-        ],
-        &rows,
-    )?;
+    let row = |s: &StepScore| {
+        vec![
+            s.time.to_string(),
+            fixed(s.gospa, 4),
+            fixed_or_dash(s.localization, 4),
+            fixed_or_dash(s.missed, 4),
+            fixed_or_dash(s.false_, 4),
+            format!("{}/{}", s.missed_count, s.truth_count),
+            format!("{}/{}", s.false_count, s.estimate_count),
+        ]
+    };
+    // Rows for the occupied steps and short empty runs; each long run is a line written before
+    // the row at its position.
+    let mut rows: Vec<Vec<String>> = Vec::new();
+    let mut runs: Vec<(usize, String)> = Vec::new();
+    for stretch in series.stretches() {
+        match stretch {
+            Stretch::Occupied(s) => rows.push(row(s)),
+            Stretch::Empty { first, last } if last - first + 1 >= EMPTY_RUN_LINE => {
+                runs.push((rows.len(), format!("steps {first} to {last}: no objects")));
+            }
+            Stretch::Empty { first, last } => {
+                rows.extend((first..=last).map(|time| row(&series.empty_step(time))));
+            }
+        }
+    }
+    let header = [
+        "step",
+        "GOSPA",
+        "localisation^p",
+        "missed^p",
+        "false^p",
+        "missed/truths",
+        "false/tracks",
+    ];
+    if runs.is_empty() {
+        write_table(out, &header, &rows)?;
+    } else {
+        let mut table = Vec::new();
+        write_table(&mut table, &header, &rows)?;
+        let mut runs = runs.into_iter().peekable();
+        // Line 0 is the header, line k + 1 the k-th row.
+        for (line, text) in table.split_inclusive(|&b| b == b'\n').enumerate() {
+            while let Some((_, run)) = runs.next_if(|(at, _)| *at + 1 == line) {
+                writeln!(out, "{run}")?;
+            }
+            out.write_all(text)?;
+        }
+        for (_, run) in runs {
+            writeln!(out, "{run}")?;
+        }
+    }
     let m = &series.summary;
     writeln!(out)?;
     match series.window {
@@ -129,4 +245,31 @@ pub fn write_text<W: Write>(
         "object-steps: {} missed, {} false",
         m.missed_count, m.false_count
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::write_step;
+
+    #[test]
+    fn steps_are_written_as_display_writes_them() {
+        // The reference is Rust's own `Display` for i64.
+        for step in [
+            i64::MIN,
+            -1_000_000,
+            -10,
+            -9,
+            -1,
+            0,
+            1,
+            9,
+            10,
+            49_999_999,
+            i64::MAX,
+        ] {
+            let mut out = Vec::new();
+            write_step(&mut out, step).unwrap();
+            assert_eq!(String::from_utf8(out).unwrap(), step.to_string());
+        }
+    }
 }

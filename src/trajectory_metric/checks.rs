@@ -69,9 +69,12 @@ pub fn bounds(
     let mut lower = 0.0;
     let mut changes = 0usize;
     let mut first = true;
+    let mut previous_step = 0;
     let mut previous: Vec<(u32, u32)> = Vec::new();
     let mut current: Vec<(u32, u32)> = Vec::new();
-    for_each_step(truth, estimate, &gospa, distance, |_, score, xs, ys| {
+    // Steps with no object are skipped by the pass: they assign nothing, so a gap before this
+    // step drops every previous pair and then adds every current one.
+    for_each_step(truth, estimate, &gospa, distance, |step, score, xs, ys| {
         lower += score.power;
         current.clear();
         current.extend(
@@ -83,9 +86,14 @@ pub fn bounds(
         current.sort_unstable();
         // The first step's assignment is free: only changes between steps are charged.
         if !first {
-            changes += symmetric_difference(&previous, &current);
+            changes += if step == previous_step + 1 {
+                symmetric_difference(&previous, &current)
+            } else {
+                previous.len() + current.len()
+            };
         }
         first = false;
+        previous_step = step;
         std::mem::swap(&mut previous, &mut current);
     })?;
     let held = lower + params.switch_cost() * changes as f64;
@@ -262,6 +270,31 @@ mod tests {
         // Holding each step's own assignment follows the swap too: 4 + 4 changes x 0.5 = 6.
         assert!((bounds.held - 6.0).abs() < 1e-12, "{bounds:?}");
         check_consistency(&result, &bounds).unwrap();
+    }
+
+    #[test]
+    fn held_bound_counts_the_changes_across_steps_with_no_object() {
+        // By hand, from the definitions (c = 10, p = 1, gamma = 10): truth a and estimate p
+        // are present at steps 0 and 1,000,000 only, 1 then 5 apart, so the lower bound is
+        // 1 + 5 = 6. Holding each step's own assignment drops the pair at step 1 (no object)
+        // and takes it again at the last step: 2 changes x gamma^p / 2 = 10, so held = 16.
+        let truth = set(&[("a", &[(0, 0.0), (1_000_000, 0.0)])]);
+        let estimate = set(&[("p", &[(0, 1.0), (1_000_000, 5.0)])]);
+        let params = TrajectoryParams::new(10.0, 1.0, 10.0).unwrap();
+        let bounds = bounds(&truth, &estimate, &params, &Distance::default()).unwrap();
+        assert!((bounds.lower - 6.0).abs() < 1e-12, "{bounds:?}");
+        assert!((bounds.held - 16.0).abs() < 1e-12, "{bounds:?}");
+        // Step 1 follows step 0 at once: the pair is held, no change, held = lower = 6.
+        let truth = set(&[("a", &[(0, 0.0), (1, 0.0)])]);
+        let estimate = set(&[("p", &[(0, 1.0), (1, 5.0)])]);
+        let bounds = crate::trajectory_metric::checks::bounds(
+            &truth,
+            &estimate,
+            &params,
+            &Distance::default(),
+        )
+        .unwrap();
+        assert!((bounds.held - 6.0).abs() < 1e-12, "{bounds:?}");
     }
 
     #[test]

@@ -87,12 +87,11 @@ pub fn for_each_close_step(
     let truth_frames = Frames::new(truth, window);
     let estimate_frames = Frames::new(estimate, window);
     let mut gate = Gate::default();
-    for k in 0..window.len() {
-        let (xs, ys) = (truth_frames.at(k), estimate_frames.at(k));
+    // Only the steps where some object is present: the window may be far longer than the data.
+    for (step, xs, ys) in truth_frames.occupied_with(&estimate_frames) {
         if xs.is_empty() || ys.is_empty() {
             continue;
         }
-        let step = window.first + k as Step;
         gate.close_pairs(
             (xs.len(), |i| {
                 truth.get(xs[i].object as usize).state(xs[i].point as usize)

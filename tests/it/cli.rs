@@ -27,7 +27,8 @@ fn demo_args(command: &str, truth: &str, estimate: &str, format: &str) -> Vec<St
     .to_vec()
 }
 
-fn run<S: AsRef<std::ffi::OsStr> + std::fmt::Debug>(args: &[S]) -> Vec<u8> {
+/// Runs the binary, asserts success, returns standard output.
+pub(crate) fn run<S: AsRef<std::ffi::OsStr> + std::fmt::Debug>(args: &[S]) -> Vec<u8> {
     let output = Command::cargo_bin("switchyard")
         .unwrap()
         .args(args)
@@ -45,7 +46,8 @@ fn json<S: AsRef<std::ffi::OsStr> + std::fmt::Debug>(args: &[S]) -> Value {
     serde_json::from_slice(&run(args)).unwrap()
 }
 
-fn number(value: &Value, key: &str) -> f64 {
+/// The number at `key`, or a panic naming it.
+pub(crate) fn number(value: &Value, key: &str) -> f64 {
     value[key]
         .as_f64()
         .unwrap_or_else(|| panic!("{key} is not a number in {value}"))

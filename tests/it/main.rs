@@ -12,6 +12,7 @@ mod output_safety;
 mod reductions;
 mod references;
 mod report;
+mod sparse_windows;
 mod support;
 mod switch_events;
 mod synth;

@@ -55,7 +55,8 @@ fn bins(context: &Context, size: usize) -> Vec<Bin> {
         });
         first = last + 1;
     }
-    for step in &context.tracker.steps.steps {
+    // Steps with no object add 0 to every part: only the occupied ones are visited.
+    for step in &context.tracker.steps.occupied {
         if step.time < window.first || step.time > window.last {
             continue;
         }
