@@ -4,7 +4,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{csv_number, fixed, fixed_or_dash, write_table, InputInfo};
+use super::{csv_number, fixed, fixed_or_dash, param, write_table, InputInfo};
 use crate::per_step::{GospaParams, StepScore, StepSeries, StepSummary};
 use crate::trajectory::Window;
 
@@ -69,13 +69,12 @@ pub fn write_text<W: Write>(
     writeln!(
         out,
         "Per-step GOSPA   cut-off c = {}   order p = {}   alpha = {}   distance: {}",
-        params.cutoff, params.order, params.alpha, inputs.distance
+        param(params.cutoff),
+        param(params.order),
+        param(params.alpha),
+        inputs.distance
     )?;
-    writeln!(
-        out,
-        "truth    {} ({} objects)\nestimate {} ({} tracks)\n",
-        inputs.truth, inputs.truth_objects, inputs.estimate, inputs.estimate_tracks
-    )?;
+    writeln!(out, "{}", inputs.lines("truth    ", "estimate "))?;
     let rows: Vec<Vec<String>> = series
         .steps
         .iter()
@@ -107,7 +106,13 @@ pub fn write_text<W: Write>(
     let m = &series.summary;
     writeln!(out)?;
     match series.window {
-        Some(w) => writeln!(out, "{} steps, {} to {}", m.steps, w.first, w.last)?,
+        Some(w) => writeln!(
+            out,
+            "{}, {} to {}",
+            super::plural(m.steps, "step", "steps"),
+            w.first,
+            w.last
+        )?,
         None => writeln!(out, "no steps: both inputs are empty")?,
     }
     writeln!(

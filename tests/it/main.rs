@@ -5,6 +5,7 @@ mod cli;
 mod compare;
 mod distances;
 mod exact;
+mod messages;
 mod metric_cases;
 mod numerics;
 mod reductions;
