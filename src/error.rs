@@ -98,3 +98,68 @@ impl Error {
 
 /// The library's result type.
 pub type Result<T, E = Error> = std::result::Result<T, E>;
+
+/// Whether a character would act on a terminal (or reorder the text around it) rather than
+/// show as itself: C0 controls (among them ESC, which opens ANSI escape sequences), DEL, C1
+/// controls, the bidirectional controls, line and paragraph separators, and the byte-order
+/// mark (invisible when it is not the first character of a file).
+pub fn is_hidden_char(c: char) -> bool {
+    matches!(c,
+        '\u{0}'..='\u{1f}'
+        | '\u{7f}'..='\u{9f}'
+        | '\u{61c}'
+        | '\u{200e}' | '\u{200f}'
+        | '\u{2028}'..='\u{202e}'
+        | '\u{2066}'..='\u{2069}'
+        | '\u{feff}')
+}
+
+/// Text from an input (an id, a name, a header) made safe to show on a terminal: every
+/// character of [`is_hidden_char`] is written as an escape, `\t`, `\n`, `\r`, `\0` or `\u{hex}`
+/// (so ESC is `\u{1b}`); everything else is unchanged, backslashes included (a file name like
+/// `C:\data` stays readable; the JSON and CSV outputs carry the exact text). Borrowed when
+/// nothing needed escaping.
+pub fn printable(text: &str) -> std::borrow::Cow<'_, str> {
+    if !text.chars().any(is_hidden_char) {
+        return std::borrow::Cow::Borrowed(text);
+    }
+    let mut shown = String::with_capacity(text.len() + 8);
+    for c in text.chars() {
+        match c {
+            '\t' => shown.push_str("\\t"),
+            '\n' => shown.push_str("\\n"),
+            '\r' => shown.push_str("\\r"),
+            '\0' => shown.push_str("\\0"),
+            c if is_hidden_char(c) => shown.push_str(&format!("\\u{{{:x}}}", u32::from(c))),
+            c => shown.push(c),
+        }
+    }
+    std::borrow::Cow::Owned(shown)
+}
+
+/// [`printable`] in double quotes: how messages quote a name from an input.
+pub fn quoted(text: &str) -> String {
+    format!("\"{}\"", printable(text))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn printable_escapes_what_a_terminal_would_act_on() {
+        // ESC [ 3 1 m is the ANSI (ECMA-48) "red foreground" sequence; U+202E is the
+        // right-to-left override of the Unicode bidirectional algorithm (UAX #9).
+        assert_eq!(printable("a\u{1b}[31mb"), "a\\u{1b}[31mb");
+        assert_eq!(
+            printable("x\u{202e}y\u{7f}\0\t\r\n"),
+            "x\\u{202e}y\\u{7f}\\0\\t\\r\\n"
+        );
+        assert_eq!(printable("\u{feff}time"), "\\u{feff}time");
+        assert!(matches!(
+            printable("C:\\data\\é"),
+            std::borrow::Cow::Borrowed(_)
+        ));
+        assert_eq!(quoted("id\0"), "\"id\\0\"");
+    }
+}

@@ -498,6 +498,28 @@ impl Mover {
     }
 }
 
+/// Refuses a generated set with a coordinate that is not finite: parameters so large (a
+/// region size or noise near the largest double) that positions overflow. `what` names the
+/// set and the parameters that shape it, for the message.
+///
+/// # Errors
+/// [`Error::Parameter`] naming the object and step of the first such coordinate.
+pub fn check_finite(set: &TrajectorySet, what: &str) -> Result<()> {
+    for trajectory in set.trajectories() {
+        if let Some((step, _)) = trajectory
+            .points()
+            .find(|(_, state)| state.iter().any(|v| !v.is_finite()))
+        {
+            return Err(Error::Parameter(format!(
+                "{what} give a position that is not a finite number ({:?} at step {step}); \
+                 choose smaller values",
+                trajectory.id()
+            )));
+        }
+    }
+    Ok(())
+}
+
 /// Generates a ground truth: trajectories `T1`, `T2`, ... of dimension 2, in order of first
 /// appearance, present at steps `first_step .. first_step + steps`. O(total object steps).
 ///

@@ -234,6 +234,11 @@ impl InputArgs {
         if self.truth == "-" && self.estimate == "-" {
             bail!("invalid parameter: only one of --truth and --estimate can read standard input");
         }
+        for (option, path) in [("--truth", &self.truth), ("--estimate", &self.estimate)] {
+            if path.is_empty() {
+                bail!("invalid parameter: {option} is empty: give a CSV file, or - for standard input");
+            }
+        }
         let distance = self.distance.build(&self.csv)?;
         distance.check_cutoff(cutoff)?;
         let mut layout = self.csv.layout()?;

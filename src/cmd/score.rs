@@ -13,7 +13,7 @@ use super::{Format, Inputs, OutputArgs, TrajectoryArgs};
 pub struct ScoreArgs {
     #[command(flatten)]
     metric: TrajectoryArgs,
-    /// Output format (text or json).
+    /// Output format (text, json, or csv: one row of the score and its parts).
     #[arg(long, short = 'f', value_enum, default_value_t = Format::Text)]
     format: Format,
     #[command(flatten)]
@@ -40,11 +40,6 @@ pub fn compute(args: &TrajectoryArgs) -> anyhow::Result<(Inputs, TrajectoryScore
 
 pub fn run(args: &ScoreArgs) -> anyhow::Result<()> {
     args.output.check(args.metric.input.paths())?;
-    if args.format == Format::Csv {
-        anyhow::bail!(
-            "invalid parameter: score writes text or json (csv is for steps, switches and audit)"
-        );
-    }
     let (inputs, result) = compute(&args.metric)?;
     let info = InputInfo::new(&inputs.truth, &inputs.estimate, &inputs.distance);
     let engine = args.metric.engine_name();
@@ -57,7 +52,8 @@ pub fn run(args: &ScoreArgs) -> anyhow::Result<()> {
                 let document = score::ScoreDocument::new(&result, &info, engine, &switches, &jumps);
                 score::write_json(out, &document)?
             }
-            _ => score::write_text(out, &result, &info, engine)?,
+            Format::Csv => score::write_csv(out, &result)?,
+            Format::Text => score::write_text(out, &result, &info, engine)?,
         }
         Ok(())
     })

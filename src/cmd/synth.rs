@@ -8,7 +8,8 @@ use clap::{Args, ValueEnum};
 
 use switchyard::input::write_csv;
 use switchyard::synth::{
-    generate_truth, imitate_tracker, SceneConfig, ScenePreset, TrackerConfig, TrackerStyle,
+    check_finite, generate_truth, imitate_tracker, SceneConfig, ScenePreset, TrackerConfig,
+    TrackerStyle,
 };
 use switchyard::trajectory::TrajectorySet;
 
@@ -173,13 +174,22 @@ pub fn run(args: &SynthArgs) -> anyhow::Result<()> {
     scene.validate()?;
     tracker.validate()?;
     let truth = generate_truth(&scene, args.seed)?;
+    check_finite(&truth, "the scene's region size and lifetime")?;
+    // Both sets are made and checked before either is written.
+    let estimate = match &args.estimate_out {
+        Some(_) => {
+            let seed = args.tracker_seed.unwrap_or(args.seed);
+            let estimate = imitate_tracker(&truth, &tracker, seed)?;
+            check_finite(&estimate, "the tracker's position noise and swap distance")?;
+            Some(estimate)
+        }
+        None => None,
+    };
     if let Some(path) = &args.truth_out {
         write_set(&truth, path)?;
     }
-    if let Some(path) = &args.estimate_out {
-        let seed = args.tracker_seed.unwrap_or(args.seed);
-        let estimate = imitate_tracker(&truth, &tracker, seed)?;
-        write_set(&estimate, path)?;
+    if let (Some(path), Some(estimate)) = (&args.estimate_out, &estimate) {
+        write_set(estimate, path)?;
     }
     Ok(())
 }

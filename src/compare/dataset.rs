@@ -422,7 +422,10 @@ impl Dataset {
         paths.dedup();
         let files: Vec<TrajectoryFile> = paths
             .par_iter()
-            .map(|path| read_csv_path(&path.to_string_lossy(), layout))
+            .map(|path| {
+                read_csv_path(&path.to_string_lossy(), layout)
+                    .map_err(|error| listed_file_error(manifest, path, error))
+            })
             .collect::<Vec<Result<_>>>()
             .into_iter()
             .collect::<Result<_>>()?;
@@ -473,10 +476,28 @@ pub fn describe(key: &CaseKey) -> String {
 }
 
 fn place(entry: &crate::input::manifest::ManifestEntry) -> String {
-    match entry.location.line {
-        Some(line) => format!("line {line}"),
-        None => format!("entry {}", entry.entry),
+    match (entry.location.line, entry.numbered) {
+        (Some(line), false) => format!("line {line}"),
+        (Some(line), true) => format!("entry {} (line {line})", entry.entry),
+        (None, _) => format!("entry {}", entry.entry),
     }
+}
+
+/// A file of a manifest that could not be read: the error names the manifest line (and the
+/// key) that lists it, then what went wrong in the file.
+fn listed_file_error(manifest: &Manifest, path: &PathBuf, error: Error) -> Error {
+    let Some((entry, key)) = manifest.entries.iter().find_map(|e| {
+        if &e.truth == path {
+            Some((e, "truth"))
+        } else if &e.estimate == path {
+            Some((e, "estimate"))
+        } else {
+            None
+        }
+    }) else {
+        return error;
+    };
+    entry.error(format!("the {key} file: {error}"))
 }
 
 fn unknown_group(file: &GroupedFile, group: &Group, truth: &str) -> Error {

@@ -104,6 +104,11 @@ pub fn read_csv_path(path: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
     if path == "-" {
         return read_csv(io::stdin().lock(), "<stdin>", layout);
     }
+    if path.is_empty() {
+        return Err(Error::Parameter(
+            "an empty file name: give a CSV file, or - for standard input".into(),
+        ));
+    }
     let io_error = |error| Error::Io {
         source_name: path.to_string(),
         error,
@@ -152,28 +157,46 @@ pub(crate) fn find_columns(
         ));
     }
     let find = |wanted: &str| names.iter().position(|name| name == wanted);
+    let other_delimiter = [';', '\t', '|', ',']
+        .into_iter()
+        .find(|&c| names.len() == 1 && c != char::from(layout.delimiter) && names[0].contains(c));
     let missing = |wanted: &str| {
+        if !looks_like_header(&names, other_delimiter.is_some()) {
+            // Not a CSV header: its text is not quoted (an error must not print lines of
+            // an arbitrary file).
+            return Error::input(
+                Location::line(source, 1),
+                format!(
+                    "the header has no column {wanted:?}, and the first line does not look like \
+                     a CSV header ({}): is this a CSV file?",
+                    if names.len() == 1 {
+                        "one field".to_string()
+                    } else {
+                        format!("{} fields", names.len())
+                    }
+                ),
+            );
+        }
         let mut message = if names.len() == 1 {
             format!(
                 "the header has no column {wanted:?} (it has one column, {:?})",
                 names[0]
             )
         } else {
+            let shown: Vec<_> = names
+                .iter()
+                .map(|name| crate::error::printable(name))
+                .collect();
             format!(
                 "the header has no column {wanted:?} (it has: {})",
-                names.join(", ")
+                shown.join(", ")
             )
         };
-        if names.len() == 1 {
-            if let Some(other) = [';', '\t', '|', ',']
-                .into_iter()
-                .find(|&c| c != char::from(layout.delimiter) && names[0].contains(c))
-            {
-                message.push_str(&format!(
-                    "; the file seems to be delimited by {other:?}, not {:?}",
-                    char::from(layout.delimiter)
-                ));
-            }
+        if let Some(other) = other_delimiter {
+            message.push_str(&format!(
+                "; the file seems to be delimited by {other:?}, not {:?}",
+                char::from(layout.delimiter)
+            ));
         }
         if !not_utf8.is_empty() {
             message.push_str(&format!(
@@ -224,6 +247,29 @@ pub(crate) fn find_columns(
     })
 }
 
+/// The longest header name quoted in a message; a longer one means the first line is not a
+/// CSV header.
+const MAX_QUOTED_NAME: usize = 64;
+
+/// Whether a first line read as fields looks like a CSV header, so that its names may be
+/// quoted in a message: several fields (or one holding another delimiter), none longer than
+/// [`MAX_QUOTED_NAME`] characters, and at most one hidden or unreadable character per field
+/// (a stray NUL or byte-order mark is shown escaped; binary data is not shown at all).
+fn looks_like_header(names: &[String], other_delimiter: bool) -> bool {
+    let odd = names
+        .iter()
+        .flat_map(|name| name.chars())
+        .filter(|&c| {
+            c == char::REPLACEMENT_CHARACTER || (c != '\t' && crate::error::is_hidden_char(c))
+        })
+        .count();
+    (names.len() > 1 || other_delimiter)
+        && names
+            .iter()
+            .all(|name| name.chars().count() <= MAX_QUOTED_NAME)
+        && odd <= names.len()
+}
+
 /// Parses a finite number from a trimmed field.
 pub(crate) fn parse_number(field: &[u8]) -> std::result::Result<f64, String> {
     let text = std::str::from_utf8(field)
@@ -248,12 +294,16 @@ pub(crate) fn parse_step(
     time_step: Option<f64>,
 ) -> std::result::Result<Step, String> {
     if time_step.is_none() {
-        if let Ok(text) = std::str::from_utf8(field) {
-            if let Ok(step) = text.parse::<i64>() {
-                if step.unsigned_abs() <= MAX_STEP as u64 {
-                    return Ok(step);
-                }
+        if let Some(step) = std::str::from_utf8(field).ok().and_then(integer_text) {
+            // Beyond 2^53 a double no longer holds every integer: 2^53 + 1 would be read as
+            // 2^53, a different step.
+            if step.unsigned_abs() > MAX_STEP as u64 {
+                return Err(format!(
+                    "the time {step} is beyond the supported range of +-2^53 \
+                     (9007199254740992): larger integers are not exact in floating point"
+                ));
             }
+            return Ok(step as Step);
         }
     }
     let value = parse_number(field)?;
@@ -262,7 +312,8 @@ pub(crate) fn parse_step(
         None => {
             if value.fract() != 0.0 {
                 return Err(format!(
-                    "the time {text} is not an integer step; give a step size for decimal timestamps"
+                    "the time {text} is not an integer step; give a step size with --time-step \
+                     for decimal timestamps"
                 ));
             }
             value
@@ -274,7 +325,29 @@ pub(crate) fn parse_step(
             "the time {text} gives step {step:e}, beyond the supported range of +-2^53"
         ));
     }
+    // From 2^52 on a double has no fraction bits: "4503599627370496.5" or
+    // "9.007199254740993e15" would silently become a different integer.
+    if time_step.is_none() && step.abs() >= MAX_STEP / 2.0 {
+        return Err(format!(
+            "the time {text} is too large to be read exactly as a step; write it as a plain \
+             integer (at most 2^53 = 9007199254740992)"
+        ));
+    }
     Ok(step as Step)
+}
+
+/// An integer written in plain digits, with an optional sign and an optional fraction of
+/// zeros ("12", "-3", "+7", "40.000"); `None` for anything else, or beyond `i64`.
+fn integer_text(text: &str) -> Option<i64> {
+    let (whole, fraction) = text.split_once('.').unwrap_or((text, ""));
+    let digits = whole.strip_prefix(['-', '+']).unwrap_or(whole);
+    if digits.is_empty()
+        || !digits.bytes().all(|b| b.is_ascii_digit())
+        || !fraction.bytes().all(|b| b == b'0')
+    {
+        return None;
+    }
+    whole.parse::<i64>().ok()
 }
 
 /// The objects read so far, by id, in order of first appearance. Ids are hashed with a fast

@@ -15,8 +15,6 @@
 
 use std::path::{Path, PathBuf};
 
-use serde::Deserialize;
-
 use super::csv::LineIndex;
 use crate::error::{Error, Location, Result};
 
@@ -37,12 +35,15 @@ pub struct ManifestEntry {
     pub location: Location,
     /// The entry's position in the manifest, from 1.
     pub entry: usize,
+    /// True when messages name the entry's position beside its line (JSON, where one line
+    /// may hold several entries).
+    pub numbered: bool,
 }
 
 impl ManifestEntry {
     /// An error about this entry, naming the manifest and the line or the entry number.
     pub fn error(&self, message: impl std::fmt::Display) -> Error {
-        if self.location.line.is_some() {
+        if !self.numbered {
             Error::input(self.location.clone(), message.to_string())
         } else {
             Error::input(
@@ -182,6 +183,7 @@ pub fn read_manifest_csv(text: &[u8], source: &str, base: &Path) -> Result<Manif
             estimate: resolve(base, &field(estimate, true)?),
             location: Location::line(source, line),
             entry: entries.len() + 1,
+            numbered: false,
         });
     }
     Ok(Manifest {
@@ -198,73 +200,144 @@ fn csv_problem(error: csv::Error, source: &str) -> Error {
     Error::input(location, format!("malformed CSV: {error}"))
 }
 
-/// A string or an integer in a JSON manifest.
-#[derive(Deserialize)]
-#[serde(untagged)]
-enum Name {
-    Text(String),
-    Number(i64),
-}
+/// The keys of a JSON manifest entry, required first.
+const JSON_KEYS: [&str; 5] = ["tracker", "sequence", "truth", "estimate", "run"];
 
-impl Name {
-    fn text(self) -> String {
-        match self {
-            Name::Text(text) => text.trim().to_string(),
-            Name::Number(number) => number.to_string(),
-        }
+/// What a JSON value is, for messages.
+fn json_kind(value: &serde_json::Value) -> &'static str {
+    match value {
+        serde_json::Value::Null => "null",
+        serde_json::Value::Bool(_) => "a boolean",
+        serde_json::Value::Number(n) if n.is_i64() || n.is_u64() => "an integer",
+        serde_json::Value::Number(_) => "a decimal number",
+        serde_json::Value::String(_) => "a string",
+        serde_json::Value::Array(_) => "an array",
+        serde_json::Value::Object(_) => "an object",
     }
 }
 
-#[derive(Deserialize)]
-#[serde(deny_unknown_fields)]
-struct JsonEntry {
-    tracker: String,
-    sequence: Name,
-    #[serde(default)]
-    run: Option<Name>,
-    truth: String,
-    estimate: String,
+/// The line on which each element of the top-level array begins (the text is valid JSON).
+/// CR, LF and CRLF each end a line.
+fn element_lines(text: &[u8]) -> Vec<u64> {
+    let (mut lines, mut line, mut depth) = (Vec::new(), 1u64, 0usize);
+    let (mut in_string, mut escaped, mut expecting) = (false, false, false);
+    for (k, &byte) in text.iter().enumerate() {
+        if byte == b'\n' || (byte == b'\r' && text.get(k + 1) != Some(&b'\n')) {
+            line += 1;
+        }
+        if in_string {
+            match byte {
+                _ if escaped => escaped = false,
+                b'\\' => escaped = true,
+                b'"' => in_string = false,
+                _ => {}
+            }
+            continue;
+        }
+        if byte.is_ascii_whitespace() {
+            continue;
+        }
+        if depth == 1 && expecting && !matches!(byte, b']' | b',') {
+            lines.push(line);
+            expecting = false;
+        }
+        match byte {
+            b'"' => in_string = true,
+            b'[' | b'{' => {
+                depth += 1;
+                expecting = depth == 1;
+            }
+            b']' | b'}' => depth = depth.saturating_sub(1),
+            b',' if depth == 1 => expecting = true,
+            _ => {}
+        }
+    }
+    lines
 }
 
 /// Reads a JSON manifest from bytes; relative paths are joined to `base`.
 ///
 /// # Errors
-/// Invalid JSON or an entry of the wrong form (naming the line and column), an empty required
-/// value (naming the entry).
+/// Invalid JSON (naming the line and column); an entry that is not an object, lacks a key,
+/// has an unknown key or a value of the wrong type or an empty value (naming the entry, its
+/// line and the key).
 pub fn read_manifest_json(text: &[u8], source: &str, base: &Path) -> Result<Manifest> {
-    let raw: Vec<JsonEntry> = serde_json::from_slice(text).map_err(|error| {
+    const FORM: &str = "a JSON manifest is an array of objects with the keys tracker, \
+                        sequence, truth, estimate and optionally run";
+    let value: serde_json::Value = serde_json::from_slice(text).map_err(|error| {
         Error::input(
             Location::line(source, error.line() as u64),
             format!(
-                "column {}: {} (a JSON manifest is an array of objects with the keys tracker, \
-                 sequence, truth, estimate and optionally run)",
+                "column {}: {} ({FORM})",
                 error.column(),
                 strip_position(&error)
             ),
         )
     })?;
-    let mut entries = Vec::with_capacity(raw.len());
-    for (index, item) in raw.into_iter().enumerate() {
+    let serde_json::Value::Array(items) = value else {
+        return Err(Error::input(
+            Location::file(source),
+            format!("{FORM}; this file holds {}", json_kind(&value)),
+        ));
+    };
+    let lines = element_lines(text);
+    let mut entries = Vec::with_capacity(items.len());
+    for (index, item) in items.into_iter().enumerate() {
         let entry = index + 1;
-        let location = Location::file(source);
-        let required = |key: &str, value: String| -> Result<String> {
-            let value = value.trim().to_string();
+        let location = match lines.get(index) {
+            Some(&line) => Location::line(source, line),
+            None => Location::file(source),
+        };
+        let fail =
+            |message: String| Error::input(location.clone(), format!("entry {entry}: {message}"));
+        let serde_json::Value::Object(fields) = item else {
+            return Err(fail(format!(
+                "expected an object, found {} ({FORM})",
+                json_kind(&item)
+            )));
+        };
+        if let Some(key) = fields.keys().find(|key| !JSON_KEYS.contains(&key.as_str())) {
+            return Err(fail(format!(
+                "unknown key {} (the keys are tracker, sequence, truth, estimate and run)",
+                crate::error::quoted(key)
+            )));
+        }
+        // A value as text: strings always, integers where `numbers` allows them.
+        let read = |key: &str, numbers: bool| -> Result<Option<String>> {
+            match fields.get(key) {
+                None | Some(serde_json::Value::Null) if key == "run" => Ok(None),
+                None => Err(fail(format!("the key {key:?} is missing"))),
+                Some(serde_json::Value::String(text)) => Ok(Some(text.trim().to_string())),
+                Some(serde_json::Value::Number(n)) if numbers && (n.is_i64() || n.is_u64()) => {
+                    Ok(Some(n.to_string()))
+                }
+                Some(other) => Err(fail(format!(
+                    "the value of {key:?} must be {}, found {}",
+                    if numbers {
+                        "a string or an integer"
+                    } else {
+                        "a string"
+                    },
+                    json_kind(other)
+                ))),
+            }
+        };
+        let required = |key: &str, numbers: bool| -> Result<String> {
+            let value = read(key, numbers)?.unwrap_or_default();
             if value.is_empty() {
-                return Err(Error::input(
-                    location.clone(),
-                    format!("entry {entry}: the value of {key:?} is empty"),
-                ));
+                return Err(fail(format!("the value of {key:?} is empty")));
             }
             Ok(value)
         };
         entries.push(ManifestEntry {
-            tracker: required("tracker", item.tracker)?,
-            sequence: required("sequence", item.sequence.text())?,
-            run: item.run.map(Name::text).unwrap_or_default(),
-            truth: resolve(base, &required("truth", item.truth)?),
-            estimate: resolve(base, &required("estimate", item.estimate)?),
+            tracker: required("tracker", false)?,
+            sequence: required("sequence", true)?,
+            run: read("run", true)?.unwrap_or_default(),
+            truth: resolve(base, &required("truth", false)?),
+            estimate: resolve(base, &required("estimate", false)?),
             location: location.clone(),
             entry,
+            numbered: true,
         });
     }
     Ok(Manifest {
@@ -335,6 +408,14 @@ mod tests {
     }
 
     #[test]
+    fn json_entry_lines_follow_line_ends() {
+        // Elements on lines 2, 2 and 5 (counting CRLF, LF and CR as one line end each), with
+        // brackets, commas and escaped quotes inside strings that must not count.
+        let text = b"[\r\n {\"a\": \"[,\\\"{\"}, 3,\n\r\n\r [1, 2]]";
+        assert_eq!(element_lines(text), vec![2, 2, 5]);
+    }
+
+    #[test]
     fn json_manifest_reads_numbers_and_reports_positions() {
         let text = br#"[{"tracker": "A", "sequence": 3, "run": 7, "truth": "t.csv", "estimate": "a.csv"}]"#;
         let manifest = read_manifest_json(text, "m.json", Path::new("d")).unwrap();
@@ -343,15 +424,21 @@ mod tests {
         assert_eq!(manifest.entries[0].truth, Path::new("d/t.csv"));
         let error = read_manifest_json(b"[\n {\"tracker\": \"A\"}\n]", "m.json", Path::new(""))
             .unwrap_err();
+        assert_eq!(
+            error.to_string(),
+            "m.json, line 2: entry 1: the key \"sequence\" is missing"
+        );
+        let error =
+            read_manifest_json(b"[\n {\"tracker\": \"A\",\n", "m.json", Path::new("")).unwrap_err();
         assert!(
-            error.to_string().starts_with("m.json, line 2: column"),
+            error.to_string().starts_with("m.json, line 3: column"),
             "{error}"
         );
         let text = br#"[{"tracker": " ", "sequence": "s", "truth": "t", "estimate": "e"}]"#;
         let error = read_manifest_json(text, "m.json", Path::new("")).unwrap_err();
         assert_eq!(
             error.to_string(),
-            "m.json: entry 1: the value of \"tracker\" is empty"
+            "m.json, line 1: entry 1: the value of \"tracker\" is empty"
         );
     }
 }

@@ -4,7 +4,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{count, fixed, write_run_header, write_table, Exactness, InputInfo};
+use super::{count, fixed, printable, write_run_header, write_table, Exactness, InputInfo};
 use crate::audit::{EstimateAudit, TruthAudit};
 use crate::trajectory::Step;
 use crate::trajectory_metric::TrajectoryParams;
@@ -165,17 +165,18 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
     )?;
     for t in document.truths {
         writeln!(out)?;
-        writeln!(out, "{} (rank {}):", t.truth, t.rank)?;
+        writeln!(out, "{} (rank {}):", printable(&t.truth), t.rank)?;
         let mut lines: Vec<(i64, String)> = Vec::new();
         for s in &t.covered {
             lines.push((
                 s.first,
                 format!(
-                    "  {:>6} .. {:<6} {:>5} steps  covered by {}  mean error {}",
+                    "  {:>6} .. {:<6} {:>5} {}  covered by {}  mean error {}",
                     s.first,
                     s.last,
                     s.steps,
-                    s.estimate,
+                    steps_word(s.steps),
+                    printable(&s.estimate),
                     fixed(s.mean_error, 3)
                 ),
             ));
@@ -184,8 +185,11 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
             lines.push((
                 s.first,
                 format!(
-                    "  {:>6} .. {:<6} {:>5} steps  missed",
-                    s.first, s.last, s.steps
+                    "  {:>6} .. {:<6} {:>5} {}  missed",
+                    s.first,
+                    s.last,
+                    s.steps,
+                    steps_word(s.steps)
                 ),
             ));
         }
@@ -225,4 +229,13 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
     )?;
     writeln!(out)?;
     document.exactness.write_text(out)
+}
+
+/// "step " or "steps", padded to one width so the span lines stay aligned.
+fn steps_word(n: usize) -> &'static str {
+    if n == 1 {
+        "step "
+    } else {
+        "steps"
+    }
 }

@@ -6,7 +6,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{count, csv_number, fixed, write_table};
+use super::{count, csv_number, fixed, param, plural, printable, write_table};
 use crate::compare::{
     Comparison, ResampleBy, SettingResult, StepsOverRuns, Summary, TrackerResult, Verdict,
 };
@@ -57,10 +57,6 @@ fn resample_name(by: ResampleBy) -> &'static str {
     }
 }
 
-fn plural(n: usize, one: &str, many: &str) -> String {
-    format!("{n} {}", if n == 1 { one } else { many })
-}
-
 /// "A < B = C": the trackers best first, `=` between exact ties.
 pub fn ranking_line(setting: &SettingResult) -> String {
     let mut text = String::new();
@@ -69,13 +65,14 @@ pub fn ranking_line(setting: &SettingResult) -> String {
             let tied = setting.trackers[i - 1].rank == t.rank;
             text.push_str(if tied { " = " } else { " < " });
         }
-        text.push_str(&t.tracker);
+        text.push_str(&printable(&t.tracker));
     }
     text
 }
 
 /// The plain statement for a tracker against the best.
 pub fn verdict_statement(tracker: &str, against: &str, verdict: Verdict, by: ResampleBy) -> String {
+    let (tracker, against) = (printable(tracker), printable(against));
     match verdict {
         Verdict::Worse => format!("{tracker} is worse than {against}: the interval lies above 0."),
         Verdict::Better => format!(
@@ -95,7 +92,9 @@ pub fn verdict_statement(tracker: &str, against: &str, verdict: Verdict, by: Res
 fn settings_line(p: &TrajectoryParams) -> String {
     format!(
         "cut-off c = {}   order p = {}   switching penalty gamma = {}",
-        p.cutoff, p.order, p.switch_penalty
+        param(p.cutoff),
+        param(p.order),
+        param(p.switch_penalty)
     )
 }
 
@@ -187,17 +186,17 @@ pub fn write_text<W: Write>(
         inputs.engine
     )?;
     if let Some(truth) = &inputs.truth {
-        writeln!(out, "truth     {truth}")?;
+        writeln!(out, "truth     {}", printable(truth))?;
     }
     if let Some(manifest) = &inputs.manifest {
-        writeln!(out, "manifest  {manifest}")?;
+        writeln!(out, "manifest  {}", printable(manifest))?;
     }
     let trackers: Vec<String> = inputs
         .trackers
         .iter()
         .map(|t| match &t.estimate {
-            Some(file) => format!("{} ({file})", t.name),
-            None => t.name.clone(),
+            Some(file) => format!("{} ({})", printable(&t.name), printable(file)),
+            None => printable(&t.name).into_owned(),
         })
         .collect();
     writeln!(out, "trackers  {}", trackers.join("; "))?;
@@ -229,7 +228,7 @@ pub fn write_text<W: Write>(
                 t.summary.cases.to_string(),
             ]
         })?;
-        let best = &setting.trackers[0].tracker;
+        let best = printable(&setting.trackers[0].tracker);
         if setting.trackers.len() > 1 {
             writeln!(out)?;
             writeln!(
@@ -318,9 +317,9 @@ pub fn write_text<W: Write>(
             .iter()
             .map(|s| {
                 vec![
-                    s.params.cutoff.to_string(),
-                    s.params.order.to_string(),
-                    s.params.switch_penalty.to_string(),
+                    param(s.params.cutoff),
+                    param(s.params.order),
+                    param(s.params.switch_penalty),
                 ]
             })
             .collect();
@@ -387,10 +386,10 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
     writeln!(
         out,
         "Per-step GOSPA over runs   cut-off c = {}   order p = {}   sequence {}   tracker {}   {}",
-        block.cutoff,
-        block.order,
-        shown(&block.sequence),
-        block.tracker,
+        param(block.cutoff),
+        param(block.order),
+        printable(&shown(&block.sequence)),
+        printable(&block.tracker),
         plural(block.runs, "run", "runs")
     )?;
     let rows: Vec<Vec<String>> = block

@@ -11,6 +11,8 @@ pub mod switches;
 
 use serde::Serialize;
 
+pub use crate::error::printable;
+
 /// What was compared, shown at the top of every output.
 #[derive(Clone, Debug, Serialize)]
 pub struct InputInfo {
@@ -37,18 +39,29 @@ pub fn write_run_header<W: std::io::Write>(
     writeln!(
         out,
         "{title}   cut-off c = {}   order p = {}   switching penalty gamma = {}   distance: {}",
-        params.cutoff, params.order, params.switch_penalty, inputs.distance
+        param(params.cutoff),
+        param(params.order),
+        param(params.switch_penalty),
+        inputs.distance
     )?;
-    writeln!(
-        out,
-        "truth     {} ({} objects)",
-        inputs.truth, inputs.truth_objects
-    )?;
-    writeln!(
-        out,
-        "estimate  {} ({} tracks)",
-        inputs.estimate, inputs.estimate_tracks
-    )
+    write!(out, "{}", inputs.lines("truth     ", "estimate  "))
+}
+
+/// A parameter for text: plain decimals for ordinary magnitudes, scientific notation (`1e300`,
+/// `2.5e-9`) beyond them, so a huge value is not a 300-digit line. The shortest text that
+/// reads back exactly either way.
+pub fn param(value: f64) -> String {
+    let size = value.abs();
+    if size != 0.0 && !(1e-6..1e16).contains(&size) {
+        format!("{value:e}")
+    } else {
+        value.to_string()
+    }
+}
+
+/// "1 object", "2 objects": a count with its noun.
+pub fn plural(n: usize, one: &str, many: &str) -> String {
+    format!("{n} {}", if n == 1 { one } else { many })
 }
 
 /// Formats a count that may be fractional (object-steps or switches of a fractional LP
@@ -61,8 +74,12 @@ pub fn count(value: f64) -> String {
     }
 }
 
-/// Formats a number for text tables: fixed decimals, no negative zero.
+/// Formats a number for text tables: fixed decimals, no negative zero; scientific notation
+/// with as many decimals from 1e16 on (a cut-off of 1e300 gives parts of that size).
 pub fn fixed(value: f64, decimals: usize) -> String {
+    if value.abs() >= 1e16 && value.is_finite() {
+        return format!("{value:.decimals$e}");
+    }
     let text = format!("{value:.decimals$}");
     if text.starts_with('-') && text[1..].chars().all(|c| c == '0' || c == '.') {
         text[1..].to_string()
@@ -81,31 +98,45 @@ pub fn csv_number(value: Option<f64>) -> String {
     value.map_or_else(String::new, |v| v.to_string())
 }
 
-/// Writes a table with right-aligned columns under a header line.
+/// Writes a table with right-aligned columns under a header line. Cells are shown through
+/// [`printable`] (ids from the inputs may hold control characters) and padded by hand: the
+/// standard formatter's width is limited to 65,535, and a cell may be longer than that.
 pub fn write_table<W: std::io::Write>(
     out: &mut W,
     header: &[&str],
     rows: &[Vec<String>],
 ) -> std::io::Result<()> {
-    let mut widths: Vec<usize> = header.iter().map(|h| h.chars().count()).collect();
-    for row in rows {
+    let shown: Vec<Vec<std::borrow::Cow<str>>> = std::iter::once(header.to_vec())
+        .chain(
+            rows.iter()
+                .map(|row| row.iter().map(String::as_str).collect()),
+        )
+        .map(|cells| cells.into_iter().map(printable).collect())
+        .collect();
+    let mut widths: Vec<usize> = vec![0; header.len()];
+    for row in &shown {
         for (width, cell) in widths.iter_mut().zip(row) {
             *width = (*width).max(cell.chars().count());
         }
     }
-    let line = |cells: Vec<&str>| -> String {
-        let parts: Vec<String> = cells
-            .iter()
-            .zip(&widths)
-            .map(|(cell, width)| format!("{cell:>width$}"))
-            .collect();
-        parts.join("  ")
-    };
-    writeln!(out, "{}", line(header.to_vec()))?;
-    for row in rows {
-        writeln!(out, "{}", line(row.iter().map(String::as_str).collect()))?;
+    for row in &shown {
+        let mut line = String::new();
+        for (index, (cell, width)) in row.iter().zip(&widths).enumerate() {
+            if index > 0 {
+                line.push_str("  ");
+            }
+            pad_left(&mut line, cell, *width);
+        }
+        writeln!(out, "{line}")?;
     }
     Ok(())
+}
+
+/// Appends `text` right-aligned in `width` characters (no limit on the width).
+pub fn pad_left(line: &mut String, text: &str, width: usize) {
+    let missing = width.saturating_sub(text.chars().count());
+    line.extend(std::iter::repeat_n(' ', missing));
+    line.push_str(text);
 }
 
 /// How a trajectory GOSPA value relates to the exact (integral) metric: in the JSON of every
@@ -257,6 +288,18 @@ pub fn certificate_line(certificate: &crate::trajectory_metric::Certificate) -> 
 }
 
 impl InputInfo {
+    /// The two lines naming the inputs with their counts, after the given labels; file names
+    /// shown through [`printable`].
+    pub fn lines(&self, truth_label: &str, estimate_label: &str) -> String {
+        format!(
+            "{truth_label}{} ({})\n{estimate_label}{} ({})\n",
+            printable(&self.truth),
+            plural(self.truth_objects, "object", "objects"),
+            printable(&self.estimate),
+            plural(self.estimate_tracks, "track", "tracks")
+        )
+    }
+
     /// Describes two input files and the distance used.
     pub fn new(
         truth: &crate::input::TrajectoryFile,

@@ -4,7 +4,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{certificate_line, count, fixed, write_run_header, Exactness, InputInfo};
+use super::{certificate_line, count, fixed, plural, write_run_header, Exactness, InputInfo};
 use crate::switches::{JumpEvent, SwitchEvent};
 use crate::trajectory::Window;
 use crate::trajectory_metric::{Certificate, SolveStats, TrajectoryParams, TrajectoryScore};
@@ -97,6 +97,44 @@ pub fn write_json<W: Write>(out: &mut W, document: &ScoreDocument) -> std::io::R
     writeln!(out)
 }
 
+/// CSV: a header and one row, the score and its parts (columns in `specs/formats.md`).
+pub fn write_csv<W: Write>(out: &mut W, score: &TrajectoryScore) -> std::io::Result<()> {
+    let mut writer = csv::Writer::from_writer(&mut *out);
+    writer.write_record([
+        "metric",
+        "total",
+        "per_step",
+        "steps",
+        "localization",
+        "missed",
+        "false",
+        "switching",
+        "missed_count",
+        "false_count",
+        "switch_count",
+        "integral",
+        "exact_total",
+    ])?;
+    let numbers = [
+        score.metric,
+        score.total,
+        score.per_step,
+        score.steps as f64,
+        score.localization,
+        score.missed,
+        score.false_,
+        score.switching,
+        score.missed_count,
+        score.false_count,
+        score.switch_count,
+    ];
+    let mut row: Vec<String> = numbers.iter().map(f64::to_string).collect();
+    row.push(score.integral.to_string());
+    row.push(super::csv_number(score.exact_total));
+    writer.write_record(&row)?;
+    writer.flush()
+}
+
 /// Text: a compact summary.
 pub fn write_text<W: Write>(
     out: &mut W,
@@ -108,8 +146,10 @@ pub fn write_text<W: Write>(
     match score.window {
         Some(w) => writeln!(
             out,
-            "steps     {} to {} ({} steps)",
-            w.first, w.last, score.steps
+            "steps     {} to {} ({})",
+            w.first,
+            w.last,
+            plural(score.steps, "step", "steps")
         )?,
         None => writeln!(out, "steps     none: both inputs are empty")?,
     }
@@ -161,8 +201,13 @@ pub fn write_text<W: Write>(
             "switching",
             score.switching,
             format!(
-                "{} switches (full = 1, half = 0.5)",
-                count(score.switch_count)
+                "{} {} (full = 1, half = 0.5)",
+                count(score.switch_count),
+                if score.switch_count == 1.0 {
+                    "switch"
+                } else {
+                    "switches"
+                }
             ),
         ),
     ];
@@ -182,14 +227,20 @@ pub fn write_text<W: Write>(
     if s.lp_components > 0 {
         writeln!(
             out,
-            "LP ({engine}): {} candidate pairs in {} groups, {} solved as LPs ({} variables, {} rows)",
-            s.candidate_pairs, s.components, s.lp_components, s.variables, s.constraints
+            "LP ({engine}): {} in {}, {} solved as {} ({}, {})",
+            plural(s.candidate_pairs, "candidate pair", "candidate pairs"),
+            plural(s.components, "group", "groups"),
+            s.lp_components,
+            if s.lp_components == 1 { "an LP" } else { "LPs" },
+            plural(s.variables, "variable", "variables"),
+            plural(s.constraints, "row", "rows")
         )?;
     } else {
         writeln!(
             out,
-            "LP ({engine}): {} candidate pairs in {} groups",
-            s.candidate_pairs, s.components
+            "LP ({engine}): {} in {}",
+            plural(s.candidate_pairs, "candidate pair", "candidate pairs"),
+            plural(s.components, "group", "groups"),
         )?;
     }
     writeln!(out, "{}", certificate_line(&score.certificate))?;

@@ -8,7 +8,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{csv_number, fixed, fixed_or_dash, write_table, InputInfo};
+use super::{csv_number, fixed, fixed_or_dash, param, write_table, InputInfo};
 use crate::per_step::{GospaParams, OccupiedSteps, StepScore, StepSummary, Stretch};
 use crate::trajectory::Step;
 use crate::trajectory::Window;
@@ -161,13 +161,12 @@ pub fn write_text<W: Write>(
     writeln!(
         out,
         "Per-step GOSPA   cut-off c = {}   order p = {}   alpha = {}   distance: {}",
-        params.cutoff, params.order, params.alpha, inputs.distance
+        param(params.cutoff),
+        param(params.order),
+        param(params.alpha),
+        inputs.distance
     )?;
-    writeln!(
-        out,
-        "truth    {} ({} objects)\nestimate {} ({} tracks)\n",
-        inputs.truth, inputs.truth_objects, inputs.estimate, inputs.estimate_tracks
-    )?;
+    writeln!(out, "{}", inputs.lines("truth    ", "estimate "))?;
     let row = |s: &StepScore| {
         vec![
             s.time.to_string(),
@@ -223,7 +222,13 @@ pub fn write_text<W: Write>(
     let m = &series.summary;
     writeln!(out)?;
     match series.window {
-        Some(w) => writeln!(out, "{} steps, {} to {}", m.steps, w.first, w.last)?,
+        Some(w) => writeln!(
+            out,
+            "{}, {} to {}",
+            super::plural(m.steps, "step", "steps"),
+            w.first,
+            w.last
+        )?,
         None => writeln!(out, "no steps: both inputs are empty")?,
     }
     writeln!(

@@ -11,29 +11,29 @@ use assert_cmd::Command;
 use tempfile::TempDir;
 
 /// A folder of input files; commands run inside it so that messages name the bare file names.
-struct Files {
+pub(crate) struct Files {
     dir: TempDir,
 }
 
 impl Files {
-    fn new() -> Self {
+    pub(crate) fn new() -> Self {
         Files {
             dir: tempfile::tempdir().unwrap(),
         }
     }
 
-    fn write(&self, name: &str, bytes: impl AsRef<[u8]>) -> PathBuf {
+    pub(crate) fn write(&self, name: &str, bytes: impl AsRef<[u8]>) -> PathBuf {
         let path = self.dir.path().join(name);
         std::fs::write(&path, bytes).unwrap();
         path
     }
 
-    fn path(&self) -> &Path {
+    pub(crate) fn path(&self) -> &Path {
         self.dir.path()
     }
 
     /// Runs `switchyard args` in the folder; returns (exit code, stdout, stderr).
-    fn run(&self, args: &[&str]) -> (i32, String, String) {
+    pub(crate) fn run(&self, args: &[&str]) -> (i32, String, String) {
         let output = Command::cargo_bin("switchyard")
             .unwrap()
             .current_dir(self.path())
@@ -51,7 +51,7 @@ impl Files {
     }
 
     /// Runs a command that must fail with `code` and exactly `message` on standard error.
-    fn fails(&self, args: &[&str], code: i32, message: &str) {
+    pub(crate) fn fails(&self, args: &[&str], code: i32, message: &str) {
         let (status, stdout, stderr) = self.run(args);
         assert_eq!(
             (status, stderr.as_str()),
@@ -383,7 +383,7 @@ fn steps_negative_decimal_fractional_and_out_of_range() {
     files.fails(
         &steps("fraction.csv", "2"),
         1,
-        r#"fraction.csv, line 3, column 1 ("time"): the time 2.5 is not an integer step; give a step size for decimal timestamps"#,
+        r#"fraction.csv, line 3, column 1 ("time"): the time 2.5 is not an integer step; give a step size with --time-step for decimal timestamps"#,
     );
     // With a step size the same file reads: 2.5 / 0.5 = step 5.
     let (status, _, stderr) = files.run(&[

@@ -6,6 +6,7 @@ mod compare;
 mod distances;
 mod exact;
 mod lagrangian;
+mod messages;
 mod metric_cases;
 mod numerics;
 mod output_safety;
