@@ -104,11 +104,7 @@ pub fn read_csv_path(path: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
     if path == "-" {
         return read_csv(io::stdin().lock(), "<stdin>", layout);
     }
-    if path.is_empty() {
-        return Err(Error::Parameter(
-            "an empty file name: give a CSV file, or - for standard input".into(),
-        ));
-    }
+    check_file_name(path)?;
     let io_error = |error| Error::Io {
         source_name: path.to_string(),
         error,
@@ -122,6 +118,17 @@ pub fn read_csv_path(path: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
     }
     let file = File::open(path).map_err(io_error)?;
     read_csv(io::BufReader::with_capacity(1 << 16, file), path, layout)
+}
+
+/// Refuses an empty file name (the operating system's message for it, ": No such file", names
+/// nothing).
+pub(crate) fn check_file_name(path: &str) -> Result<()> {
+    if path.is_empty() {
+        return Err(Error::Parameter(
+            "an empty file name: give a CSV file, or - for standard input".into(),
+        ));
+    }
+    Ok(())
 }
 
 pub(crate) struct Columns {

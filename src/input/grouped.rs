@@ -76,6 +76,7 @@ pub fn read_grouped_csv_path(
     if path == "-" {
         return read_grouped_csv(io::stdin().lock(), "<stdin>", layout, columns);
     }
+    super::csv::check_file_name(path)?;
     let io_error = |error| Error::Io {
         source_name: path.to_string(),
         error,

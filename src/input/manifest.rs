@@ -68,6 +68,7 @@ pub struct Manifest {
 /// # Errors
 /// The file cannot be read, or is not a valid manifest.
 pub fn read_manifest_path(path: &str) -> Result<Manifest> {
+    super::csv::check_file_name(path)?;
     let text = std::fs::read(path).map_err(|error| Error::Io {
         source_name: path.to_string(),
         error,

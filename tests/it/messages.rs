@@ -269,6 +269,17 @@ fn an_empty_file_name_is_a_parameter_error() {
         1,
         "invalid parameter: --truth is empty: give a CSV file, or - for standard input",
     );
+    // compare reads its files through the grouped reader and the manifest reader.
+    for args in [
+        &["compare", "--truth", "", "--estimate", "A=e.csv", "-c", "1"][..],
+        &["compare", "--manifest", "", "-c", "1"][..],
+    ] {
+        files.fails(
+            args,
+            1,
+            "invalid parameter: an empty file name: give a CSV file, or - for standard input",
+        );
+    }
 }
 
 #[test]
