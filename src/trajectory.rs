@@ -410,8 +410,9 @@ impl Frames {
     }
 }
 
-/// The longest window accepted, in steps: beyond it the per-step tables would not fit in
-/// memory, and such a window almost always comes from a wrong step size.
+/// The longest window accepted, in steps. The metrics keep nothing per empty step, but `steps`
+/// writes a CSV or JSON row for every step of the window, and such a window almost always comes
+/// from a wrong step size.
 pub const MAX_WINDOW_STEPS: usize = 50_000_000;
 
 /// The evaluation window of two sets, after checking that they can be compared.
