@@ -14,7 +14,7 @@ use switchyard::compare::{
     TrackerData,
 };
 use switchyard::distance::Distance;
-use switchyard::per_step::{per_step, GospaParams};
+use switchyard::per_step::{occupied_steps, GospaParams};
 use switchyard::report::audit::AuditDocument;
 use switchyard::report::compare::{CompareInputs, Sections, TrackerSource};
 use switchyard::report::score::ScoreDocument;
@@ -107,7 +107,7 @@ fn run(u: &mut Unstructured) -> Drawn<()> {
     let cutoff = f64::from(u.int_in_range(1..=4u8)?);
 
     let gospa = GospaParams::new(cutoff, 1.0, 2.0).expect("valid parameters");
-    if let Ok(series) = per_step(&truth, &estimate, &gospa, &distance) {
+    if let Ok(series) = occupied_steps(&truth, &estimate, &gospa, &distance) {
         text(&written(|o| {
             report::steps::write_text(o, &series, &gospa, &info)
         }));

@@ -4,8 +4,9 @@
 //!
 //! An ordinary file (new, or existing and writable) is written to a temporary file beside it,
 //! flushed to disk, then renamed over it; a symbolic link is followed and its target replaced,
-//! so the link stays. Character devices (`/dev/null`, a terminal) and FIFOs are written
-//! directly, once the whole output is ready. Folders, block devices, sockets and files without
+//! so the link stays. Standard output, character devices (`/dev/null`, a terminal) and FIFOs
+//! are written directly, once the whole output is ready (or, past 64 MiB, as it is rendered:
+//! memory follows the data). Folders, block devices, sockets and files without
 //! write permission are refused before anything is computed. SIGINT, SIGTERM and SIGHUP remove
 //! the temporary file before the process ends.
 
@@ -25,7 +26,8 @@ pub struct OutputArgs {
 }
 
 /// What a command renders its output into: a temporary file beside the target, or memory when
-/// the output goes to standard output, a device or a FIFO (written at once when complete).
+/// the output goes to standard output, a device or a FIFO (written at once when complete, or
+/// as it comes past 64 MiB).
 pub struct Sink<'a>(Box<dyn Write + 'a>);
 
 impl Write for Sink<'_> {
@@ -96,35 +98,23 @@ impl OutputArgs {
     /// left as it was.
     pub fn emit(&self, render: impl FnOnce(&mut Sink) -> anyhow::Result<()>) -> anyhow::Result<()> {
         let Some(path) = &self.output else {
-            let buffer = in_memory(render)?;
-            return write_at_once(&mut std::io::stdout().lock(), &buffer)
+            return spilled(render, || Ok(std::io::stdout().lock()))
                 .context("writing to standard output");
         };
         match target(path)? {
-            Target::Direct(device) => {
-                let buffer = in_memory(render)?;
+            Target::Direct(device) => spilled(render, || {
                 // No truncation and no creation: a device or FIFO is written, never made.
-                let mut file = std::fs::OpenOptions::new()
+                std::fs::OpenOptions::new()
                     .write(true)
                     .open(&device)
-                    .with_context(|| format!("{}: cannot open for writing", path.display()))?;
-                write_at_once(&mut file, &buffer)
-                    .with_context(|| format!("{}: write failed", path.display()))
-            }
+                    .with_context(|| format!("{}: cannot open for writing", path.display()))
+            })
+            .with_context(|| format!("{}: write failed", path.display())),
             Target::Replace {
                 path: resolved,
                 existing,
             } => replace(path, &resolved, existing.as_ref(), render),
         }
-    }
-}
-
-/// Writes `buffer` and flushes; a reader that has gone (a closed pipe) is not an error, as
-/// for any filter whose reader stops early.
-fn write_at_once(out: &mut impl Write, buffer: &[u8]) -> std::io::Result<()> {
-    match out.write_all(buffer).and_then(|()| out.flush()) {
-        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
-        result => result,
     }
 }
 
@@ -150,12 +140,93 @@ fn planned_location(path: &Path) -> Option<PathBuf> {
     Some(folder.join(name))
 }
 
-fn in_memory(render: impl FnOnce(&mut Sink) -> anyhow::Result<()>) -> anyhow::Result<Vec<u8>> {
-    let mut buffer = Vec::new();
-    let mut sink = Sink(Box::new(&mut buffer));
-    render(&mut sink)?;
-    drop(sink);
-    Ok(buffer)
+/// Output held in memory before standard output, a device or a FIFO gets any of it: an error
+/// while rendering (which the commands find before they write) then leaves nothing behind.
+/// Output larger than this is passed on as it is rendered, so that memory follows the data,
+/// not the output (a per-step table over millions of steps).
+const HOLD_AT_MOST: usize = 64 << 20;
+
+/// Renders into memory up to [`HOLD_AT_MOST`] bytes, then opens the target with `open` and
+/// passes the rest on as it comes; a reader that has gone (a closed pipe) is not an error, as
+/// for any filter whose reader stops early.
+fn spilled<W: Write>(
+    render: impl FnOnce(&mut Sink) -> anyhow::Result<()>,
+    open: impl FnOnce() -> anyhow::Result<W>,
+) -> anyhow::Result<()> {
+    let mut spill = Spill {
+        held: Vec::new(),
+        open: Some(open),
+        out: None,
+        gone: false,
+    };
+    {
+        let mut sink = Sink(Box::new(&mut spill));
+        render(&mut sink)?;
+    }
+    spill.pass_on()?;
+    if let Some(out) = spill.out.as_mut() {
+        if !spill.gone {
+            match out.flush() {
+                Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => {}
+                result => result?,
+            }
+        }
+    }
+    Ok(())
+}
+
+/// The writer behind [`spilled`].
+struct Spill<W: Write, F> {
+    held: Vec<u8>,
+    open: Option<F>,
+    out: Option<BufWriter<W>>,
+    /// The reader has gone: the rest is dropped.
+    gone: bool,
+}
+
+impl<W: Write, F: FnOnce() -> anyhow::Result<W>> Spill<W, F> {
+    /// Opens the target if need be and writes what is held.
+    fn pass_on(&mut self) -> std::io::Result<()> {
+        if self.out.is_none() {
+            let open = self.open.take().expect("opened once");
+            let file = open().map_err(|e| std::io::Error::other(format!("{e:#}")))?;
+            self.out = Some(BufWriter::with_capacity(1 << 16, file));
+        }
+        let held = std::mem::take(&mut self.held);
+        self.send(&held)
+    }
+
+    fn send(&mut self, bytes: &[u8]) -> std::io::Result<()> {
+        if self.gone {
+            return Ok(());
+        }
+        let out = self.out.as_mut().expect("opened");
+        match out.write_all(bytes) {
+            Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => {
+                self.gone = true;
+                Ok(())
+            }
+            result => result,
+        }
+    }
+}
+
+impl<W: Write, F: FnOnce() -> anyhow::Result<W>> Write for Spill<W, F> {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        if self.out.is_some() {
+            self.send(buf)?;
+        } else {
+            self.held.extend_from_slice(buf);
+            if self.held.len() > HOLD_AT_MOST {
+                self.pass_on()?;
+            }
+        }
+        Ok(buf.len())
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        Ok(())
+    }
 }
 
 /// The folder a file is in (`.` for a bare name).
