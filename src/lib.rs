@@ -16,7 +16,8 @@
 //! - [`input`]: the CSV reader;
 //! - [`distance`]: base distances and the cut-off arithmetic;
 //! - [`per_step`]: GOSPA at each step, with its parts;
-//! - [`trajectory_metric`]: trajectory GOSPA as a linear program, reduced exactly;
+//! - [`trajectory_metric`]: trajectory GOSPA as a linear program, reduced exactly and solved
+//!   by a Lagrangian engine whose bounds prove the value (a simplex engine where they do not);
 //! - [`synth`]: seeded synthetic scenes: a ground truth and an imaginary tracker's output;
 //! - [`compare`]: several trackers over sequences and Monte Carlo runs: rankings, paired
 //!   bootstrap intervals, parameter sweeps;
