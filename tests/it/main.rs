@@ -13,6 +13,7 @@ mod output_safety;
 mod reductions;
 mod references;
 mod report;
+mod snapshots;
 mod sparse_windows;
 mod support;
 mod switch_events;
