@@ -76,7 +76,7 @@ fn main() {
         solved.as_secs_f64(),
         score.total,
         score.integral,
-        score.switch_count
+        score.parts.switch_count
     );
     let s = &score.stats;
     println!(

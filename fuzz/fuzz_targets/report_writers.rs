@@ -132,8 +132,8 @@ fn run(u: &mut Unstructured) -> Drawn<()> {
     let document = SwitchesDocument {
         params: &result.params,
         inputs: &info,
-        switching: result.switching,
-        switch_count: result.switch_count,
+        switching: result.parts.switching,
+        switch_count: result.parts.switch_count,
         switches: &switches,
         jumps: &jumps,
         exactness: Exactness::new(&result),

@@ -44,7 +44,7 @@ fuzz_target!(|data: &[u8]| {
             Err(error @ Error::Solver(_)) => panic!("{error}"),
             Err(error) => panic!("unexpected error on valid inputs: {error}"),
         };
-        let parts = result.localization + result.missed + result.false_ + result.switching;
+        let parts = result.parts.sum();
         assert!(
             (parts - result.total).abs() <= 1e-9 * (1.0 + result.total.abs()),
             "parts {parts} total {}",

@@ -31,8 +31,8 @@ pub fn run(args: &SwitchesArgs) -> anyhow::Result<()> {
     let document = SwitchesDocument {
         params: &result.params,
         inputs: &info,
-        switching: result.switching,
-        switch_count: result.switch_count,
+        switching: result.parts.switching,
+        switch_count: result.parts.switch_count,
         switches: &switches,
         jumps: &jumps,
         exactness: Exactness::new(&result),

@@ -26,7 +26,9 @@ use self::montecarlo::{mean_and_rms, steps_over_runs, StepOverRuns};
 use crate::distance::Distance;
 use crate::error::{Error, Result};
 use crate::per_step::{per_step, GospaParams, StepSeries};
-use crate::trajectory_metric::{score_with, SolveOptions, TrajectoryParams, TrajectoryScore};
+use crate::trajectory_metric::{
+    score_with, Parts, SolveOptions, TrajectoryParams, TrajectoryScore,
+};
 
 /// What the bootstrap resamples.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
@@ -104,21 +106,9 @@ pub struct CaseScore {
     pub metric: f64,
     /// d^p.
     pub total: f64,
-    /// Localisation part.
-    pub localization: f64,
-    /// Missed part.
-    pub missed: f64,
-    /// False part.
-    #[serde(rename = "false")]
-    pub false_: f64,
-    /// Switching part.
-    pub switching: f64,
-    /// Missed object-steps.
-    pub missed_count: f64,
-    /// False object-steps.
-    pub false_count: f64,
-    /// Switches (full 1, half 0.5).
-    pub switch_count: f64,
+    /// The parts and counts.
+    #[serde(flatten)]
+    pub parts: Parts,
     /// True when the LP optimum is integral.
     pub integral: bool,
     /// True when the value is proven optimal (see [`crate::trajectory_metric::Certificate`]).
@@ -133,13 +123,7 @@ impl From<&TrajectoryScore> for CaseScore {
         CaseScore {
             metric: s.metric,
             total: s.total,
-            localization: s.localization,
-            missed: s.missed,
-            false_: s.false_,
-            switching: s.switching,
-            missed_count: s.missed_count,
-            false_count: s.false_count,
-            switch_count: s.switch_count,
+            parts: s.parts,
             integral: s.integral,
             proven: s.certificate.proven,
             steps: s.steps,
@@ -360,21 +344,10 @@ pub struct Summary {
     pub metric_rms: f64,
     /// Mean of d^p over the cases (the sum of the four mean parts).
     pub total_mean: f64,
-    /// Mean localisation part.
-    pub localization: f64,
-    /// Mean missed part.
-    pub missed: f64,
-    /// Mean false part.
-    #[serde(rename = "false")]
-    pub false_: f64,
-    /// Mean switching part.
-    pub switching: f64,
-    /// Missed object-steps, summed over the cases.
-    pub missed_count: f64,
-    /// False object-steps, summed over the cases.
-    pub false_count: f64,
-    /// Switches, summed over the cases.
-    pub switch_count: f64,
+    /// The four parts as means over the cases; the counts (missed and false object-steps,
+    /// switches) as sums over the cases.
+    #[serde(flatten)]
+    pub parts: Parts,
     /// Cases whose LP optimum is fractional (d is then a lower bound of the exact metric).
     pub fractional_cases: usize,
     /// Cases whose value is not proven optimal (reported with bounds; the scores' notes say
@@ -401,13 +374,15 @@ pub fn summarize<'a>(scores: impl IntoIterator<Item = &'a CaseScore>) -> Summary
         metric_mean,
         metric_rms,
         total_mean: mean(|s| s.total),
-        localization: mean(|s| s.localization),
-        missed: mean(|s| s.missed),
-        false_: mean(|s| s.false_),
-        switching: mean(|s| s.switching),
-        missed_count: sum(|s| s.missed_count),
-        false_count: sum(|s| s.false_count),
-        switch_count: sum(|s| s.switch_count),
+        parts: Parts {
+            localization: mean(|s| s.parts.localization),
+            missed: mean(|s| s.parts.missed),
+            false_: mean(|s| s.parts.false_),
+            switching: mean(|s| s.parts.switching),
+            missed_count: sum(|s| s.parts.missed_count),
+            false_count: sum(|s| s.parts.false_count),
+            switch_count: sum(|s| s.parts.switch_count),
+        },
         fractional_cases: scores.iter().filter(|s| s.proven && !s.integral).count(),
         unproven_cases: scores.iter().filter(|s| !s.proven).count(),
     }
@@ -759,13 +734,13 @@ mod tests {
         let case = |metric: f64, switch_count: f64, integral: bool| CaseScore {
             metric,
             total: metric,
-            localization: metric / 2.0,
-            missed: metric / 2.0,
-            false_: 0.0,
-            switching: 0.0,
-            missed_count: 1.0,
-            false_count: 0.0,
-            switch_count,
+            parts: Parts {
+                localization: metric / 2.0,
+                missed: metric / 2.0,
+                missed_count: 1.0,
+                switch_count,
+                ..Parts::default()
+            },
             integral,
             proven: true,
             steps: 3,
@@ -778,9 +753,9 @@ mod tests {
         assert_eq!(s.cases, 2);
         assert!((s.metric_mean - 3.5).abs() < 1e-12);
         assert!((s.metric_rms - 12.5f64.sqrt()).abs() < 1e-12);
-        assert!((s.localization - 1.75).abs() < 1e-12);
-        assert!((s.switch_count - 1.5).abs() < 1e-12);
-        assert!((s.missed_count - 2.0).abs() < 1e-12);
+        assert!((s.parts.localization - 1.75).abs() < 1e-12);
+        assert!((s.parts.switch_count - 1.5).abs() < 1e-12);
+        assert!((s.parts.missed_count - 2.0).abs() < 1e-12);
         assert_eq!(s.fractional_cases, 1);
     }
 }

@@ -7,7 +7,7 @@ use serde::Serialize;
 use super::{certificate_line, count, fixed, plural, write_run_header, Exactness, InputInfo};
 use crate::switches::{JumpEvent, SwitchEvent};
 use crate::trajectory::Window;
-use crate::trajectory_metric::{Certificate, SolveStats, TrajectoryParams, TrajectoryScore};
+use crate::trajectory_metric::{Certificate, Parts, SolveStats, TrajectoryParams, TrajectoryScore};
 
 /// The `score` JSON document. The top-level keys are a contract.
 #[derive(Serialize)]
@@ -20,21 +20,9 @@ pub struct ScoreDocument<'a> {
     pub per_step: f64,
     /// Steps in the window.
     pub steps: usize,
-    /// Localisation part.
-    pub localization: f64,
-    /// Missed part.
-    pub missed: f64,
-    /// False part.
-    #[serde(rename = "false")]
-    pub false_: f64,
-    /// Switching part.
-    pub switching: f64,
-    /// Missed object-steps.
-    pub missed_count: f64,
-    /// False object-steps.
-    pub false_count: f64,
-    /// Full switches count 1, half switches 0.5.
-    pub switch_count: f64,
+    /// The four parts and the counts behind them.
+    #[serde(flatten)]
+    pub parts: Parts,
     /// Whether the LP optimum is integral, the LP value, and the exact value with its
     /// certificate (`integral`, `lp_total`, `exact_total`, `exact`).
     #[serde(flatten)]
@@ -71,13 +59,7 @@ impl<'a> ScoreDocument<'a> {
             total: score.total,
             per_step: score.per_step,
             steps: score.steps,
-            localization: score.localization,
-            missed: score.missed,
-            false_: score.false_,
-            switching: score.switching,
-            missed_count: score.missed_count,
-            false_count: score.false_count,
-            switch_count: score.switch_count,
+            parts: score.parts,
             exactness: Exactness::new(score),
             params: &score.params,
             inputs,
@@ -120,13 +102,13 @@ pub fn write_csv<W: Write>(out: &mut W, score: &TrajectoryScore) -> std::io::Res
         score.total,
         score.per_step,
         score.steps as f64,
-        score.localization,
-        score.missed,
-        score.false_,
-        score.switching,
-        score.missed_count,
-        score.false_count,
-        score.switch_count,
+        score.parts.localization,
+        score.parts.missed,
+        score.parts.false_,
+        score.parts.switching,
+        score.parts.missed_count,
+        score.parts.false_count,
+        score.parts.switch_count,
     ];
     let mut row: Vec<String> = numbers.iter().map(f64::to_string).collect();
     row.push(score.integral.to_string());
@@ -170,40 +152,40 @@ pub fn write_text<W: Write>(
         }
     };
     let width = [
-        score.localization,
-        score.missed,
-        score.false_,
-        score.switching,
+        score.parts.localization,
+        score.parts.missed,
+        score.parts.false_,
+        score.parts.switching,
     ]
     .iter()
     .map(|v| fixed(*v, 4).len())
     .max()
     .unwrap_or(1);
     let rows = [
-        ("localisation", score.localization, String::new()),
+        ("localisation", score.parts.localization, String::new()),
         (
             "missed",
-            score.missed,
+            score.parts.missed,
             format!(
                 "{} truth object-steps unassigned",
-                count(score.missed_count)
+                count(score.parts.missed_count)
             ),
         ),
         (
             "false",
-            score.false_,
+            score.parts.false_,
             format!(
                 "{} estimate object-steps unassigned",
-                count(score.false_count)
+                count(score.parts.false_count)
             ),
         ),
         (
             "switching",
-            score.switching,
+            score.parts.switching,
             format!(
                 "{} {} (full = 1, half = 0.5)",
-                count(score.switch_count),
-                if score.switch_count == 1.0 {
+                count(score.parts.switch_count),
+                if score.parts.switch_count == 1.0 {
                     "switch"
                 } else {
                     "switches"

@@ -143,10 +143,10 @@ fn check_against(
 ) -> Result<()> {
     let fail = |what: String| Err(Error::Solver(format!("consistency check failed: {what}")));
     let parts = [
-        ("localisation", score.localization),
-        ("missed", score.missed),
-        ("false", score.false_),
-        ("switching", score.switching),
+        ("localisation", score.parts.localization),
+        ("missed", score.parts.missed),
+        ("false", score.parts.false_),
+        ("switching", score.parts.switching),
     ];
     let values = parts
         .iter()
@@ -302,7 +302,7 @@ mod tests {
         // A doctored solution that pays more than an available feasible one: all parts raised
         // together so that only the held-assignment check can object.
         let (mut result, bounds) = solved();
-        result.localization += 1.0;
+        result.parts.localization += 1.0;
         result.total += 1.0;
         result.lp_objective += 1.0;
         let text = message(check_consistency(&result, &bounds));
@@ -342,9 +342,9 @@ mod tests {
     fn a_total_below_the_per_step_bound_fails() {
         let (mut result, bounds) = solved();
         // A solver that dropped the localisation and switching costs: parts still add up.
-        result.localization = 0.0;
-        result.switching = 1.0;
-        result.total = result.missed + result.false_ + 1.0;
+        result.parts.localization = 0.0;
+        result.parts.switching = 1.0;
+        result.total = result.parts.missed + result.parts.false_ + 1.0;
         result.lp_objective = result.total;
         let text = message(check_consistency(&result, &bounds));
         assert!(text.contains("below the per-step lower bound 4"), "{text}");
@@ -353,7 +353,7 @@ mod tests {
     #[test]
     fn a_total_above_the_unassigned_bound_fails() {
         let (mut result, bounds) = solved();
-        result.switching += 20.0;
+        result.parts.switching += 20.0;
         result.total += 20.0;
         result.lp_objective += 20.0;
         let text = message(check_consistency(&result, &bounds));
@@ -366,11 +366,11 @@ mod tests {
     #[test]
     fn a_value_that_is_not_finite_fails() {
         let (mut result, bounds) = solved();
-        result.missed = f64::NAN;
+        result.parts.missed = f64::NAN;
         let text = message(check_consistency(&result, &bounds));
         assert!(text.contains("the missed is NaN"), "{text}");
         let (mut result, bounds) = solved();
-        result.false_ = -0.5;
+        result.parts.false_ = -0.5;
         result.total -= 0.5;
         result.lp_objective -= 0.5;
         let text = message(check_consistency(&result, &bounds));

@@ -308,6 +308,35 @@ pub struct Certificate {
     pub iterations: usize,
 }
 
+/// The four parts of trajectory GOSPA's d^p and the counts behind them: one struct wherever a
+/// score is reported (a single case, or aggregated over cases; the aggregate's documentation
+/// says whether it holds means or sums).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
+pub struct Parts {
+    /// Localisation part (p-th power units).
+    pub localization: f64,
+    /// Missed part.
+    pub missed: f64,
+    /// False part.
+    #[serde(rename = "false")]
+    pub false_: f64,
+    /// Switching part.
+    pub switching: f64,
+    /// Truth object-steps not assigned (fractional when the LP is).
+    pub missed_count: f64,
+    /// Estimate object-steps not assigned.
+    pub false_count: f64,
+    /// Full switches count 1, half switches 0.5.
+    pub switch_count: f64,
+}
+
+impl Parts {
+    /// d^p: the sum of the four parts.
+    pub fn sum(&self) -> f64 {
+        self.localization + self.missed + self.false_ + self.switching
+    }
+}
+
 /// Trajectory GOSPA and its parts.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct TrajectoryScore {
@@ -323,20 +352,9 @@ pub struct TrajectoryScore {
     pub total: f64,
     /// (d^p / steps)^(1/p): the metric normalised per step.
     pub per_step: f64,
-    /// Localisation part (p-th power units).
-    pub localization: f64,
-    /// Missed part.
-    pub missed: f64,
-    /// False part.
-    pub false_: f64,
-    /// Switching part.
-    pub switching: f64,
-    /// Truth object-steps not assigned (fractional when the LP is).
-    pub missed_count: f64,
-    /// Estimate object-steps not assigned.
-    pub false_count: f64,
-    /// Full switches count 1, half switches 0.5.
-    pub switch_count: f64,
+    /// The four parts of d^p and the counts behind them.
+    #[serde(flatten)]
+    pub parts: Parts,
     /// True when every weight of the assignment reported is 0 or 1 and its value is proven
     /// optimal ([`Certificate::proven`]): then the LP value is also the exact (assignment)
     /// metric. With [`SolveOptions::exact`] the weights reported are integral
@@ -1296,10 +1314,16 @@ fn finish(
     }
     let missed_count = (truth_points as f64 - assigned).max(0.0);
     let false_count = (estimate_points as f64 - assigned).max(0.0);
-    let missed = half * missed_count;
-    let false_ = half * false_count;
-    let switching = params.switch_cost() * variation;
-    let total = localization + missed + false_ + switching;
+    let parts = Parts {
+        localization,
+        missed: half * missed_count,
+        false_: half * false_count,
+        switching: params.switch_cost() * variation,
+        missed_count,
+        false_count,
+        switch_count: variation / 2.0,
+    };
+    let total = parts.sum();
     let steps = window.map_or(0, |w| w.len());
     let per_step = if steps == 0 {
         0.0
@@ -1313,13 +1337,7 @@ fn finish(
         metric: root(total, params.order),
         total,
         per_step,
-        localization,
-        missed,
-        false_,
-        switching,
-        missed_count,
-        false_count,
-        switch_count: variation / 2.0,
+        parts,
         integral,
         lp_objective: half * (truth_points + estimate_points) as f64 + objective,
         lp_total: total,

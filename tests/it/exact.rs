@@ -226,10 +226,10 @@ proptest! {
         prop_assert_eq!(s.exact_total, Some(s.total));
         prop_assert!(close(s.total, reference), "exact {} vs brute force {}", s.total, reference);
         prop_assert!(s.lp_total <= s.total + 1e-9 * s.total.max(1.0));
-        let parts = s.localization + s.missed + s.false_ + s.switching;
+        let parts = s.parts.localization + s.parts.missed + s.parts.false_ + s.parts.switching;
         prop_assert!(close(parts, s.total));
-        prop_assert!(s.missed_count.fract() == 0.0 && s.false_count.fract() == 0.0);
-        prop_assert!((2.0 * s.switch_count).fract() == 0.0);
+        prop_assert!(s.parts.missed_count.fract() == 0.0 && s.parts.false_count.fract() == 0.0);
+        prop_assert!((2.0 * s.parts.switch_count).fract() == 0.0);
         let lp = solve(&x, &y, &params, SolveOptions::default());
         prop_assert!(close(lp.total, s.lp_total), "LP {} vs {}", lp.total, s.lp_total);
         prop_assert_eq!(lp.integral, s.integral);
@@ -481,7 +481,7 @@ fn fractional_fixtures_match_scipy_and_the_brute_force() {
             f.exact_total
         );
         // The parts come from the integral solution and add up to the exact value.
-        let parts = s.localization + s.missed + s.false_ + s.switching;
+        let parts = s.parts.localization + s.parts.missed + s.parts.false_ + s.parts.switching;
         assert!(close(parts, s.total), "{}", f.name);
         for pair in &s.assignment.pairs {
             assert!(
@@ -493,7 +493,7 @@ fn fractional_fixtures_match_scipy_and_the_brute_force() {
         let events = switchyard::switches::switch_events(&s.assignment, x, y, params);
         assert!(events.iter().all(|e| e.weight == 1.0), "{}", f.name);
         let cost: f64 = events.iter().map(|e| e.cost).sum();
-        assert!(close(cost, s.switching), "{}", f.name);
+        assert!(close(cost, s.parts.switching), "{}", f.name);
         // The unreduced model (every pair, every step, one program) has the same optimum.
         let unreduced = solve(
             x,
@@ -723,7 +723,7 @@ fn a_budget_that_runs_out_returns_a_valid_bound_pair() {
             );
             assert_eq!(summary.upper, s.total);
             assert_eq!(summary.budget, budget);
-            let parts = s.localization + s.missed + s.false_ + s.switching;
+            let parts = s.parts.localization + s.parts.missed + s.parts.false_ + s.parts.switching;
             assert!(close(parts, s.total), "{}", f.name);
             for pair in &s.assignment.pairs {
                 assert!(

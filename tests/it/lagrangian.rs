@@ -717,7 +717,7 @@ fn without_switching_penalty_the_value_is_the_per_step_sum() {
                 "scene {n}, p = {order}: {} vs per-step sum {sum}",
                 l.total
             );
-            assert!(l.certificate.proven && l.switching == 0.0);
+            assert!(l.certificate.proven && l.parts.switching == 0.0);
         }
     }
 }

@@ -94,9 +94,9 @@ fn crossing_swap_costs_the_smaller_of_two_switches_and_losing_both() {
         &Distance::default(),
     )
     .unwrap();
-    assert_relative_eq!(s.missed, 10.0, max_relative = 1e-9);
-    assert_relative_eq!(s.false_, 10.0, max_relative = 1e-9);
-    assert_relative_eq!(s.switching, 0.0);
+    assert_relative_eq!(s.parts.missed, 10.0, max_relative = 1e-9);
+    assert_relative_eq!(s.parts.false_, 10.0, max_relative = 1e-9);
+    assert_relative_eq!(s.parts.switching, 0.0);
     // gamma = 6: two full switches.
     let s = score(
         &x,
@@ -105,8 +105,8 @@ fn crossing_swap_costs_the_smaller_of_two_switches_and_losing_both() {
         &Distance::default(),
     )
     .unwrap();
-    assert_relative_eq!(s.switching, 12.0, max_relative = 1e-9);
-    assert_relative_eq!(s.switch_count, 2.0, max_relative = 1e-9);
+    assert_relative_eq!(s.parts.switching, 12.0, max_relative = 1e-9);
+    assert_relative_eq!(s.parts.switch_count, 2.0, max_relative = 1e-9);
 }
 
 #[test]
@@ -121,7 +121,7 @@ fn crossing_swap_in_second_order() {
     )
     .unwrap();
     assert_relative_eq!(s.total, 8.0, max_relative = 1e-9);
-    assert_relative_eq!(s.switching, 8.0, max_relative = 1e-9);
+    assert_relative_eq!(s.parts.switching, 8.0, max_relative = 1e-9);
 }
 
 #[test]

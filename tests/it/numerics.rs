@@ -67,8 +67,8 @@ fn a_scene_moved_by_1e12_on_an_exact_grid_scores_the_same() {
             (near.total - far.total).abs() <= tolerance,
             "{near:?} {far:?}"
         );
-        assert!((near.switching - far.switching).abs() <= tolerance);
-        assert!((near.missed - far.missed).abs() <= tolerance);
+        assert!((near.parts.switching - far.parts.switching).abs() <= tolerance);
+        assert!((near.parts.missed - far.parts.missed).abs() <= tolerance);
     }
 }
 
@@ -120,8 +120,12 @@ fn costs_from_1e_minus_12_to_1e10_in_one_component() {
         result.total
     );
     // The parts: everything is localisation; the others are zero up to 1e-9 x c^p.
-    assert!((result.localization - expected).abs() <= 1e-9 * expected);
-    for part in [result.missed, result.false_, result.switching] {
+    assert!((result.parts.localization - expected).abs() <= 1e-9 * expected);
+    for part in [
+        result.parts.missed,
+        result.parts.false_,
+        result.parts.switching,
+    ] {
         assert!(part.abs() <= 1e-9 * 1e12, "{result:?}");
     }
     assert!(result.integral);
@@ -170,13 +174,13 @@ fn two_estimates_at_equal_distance_from_one_truth() {
     for g in [0.5, 4.0] {
         let result = solve(&truth, &estimate, 4.0, 1.0, g);
         assert!((result.total - 30.0).abs() < 1e-9, "{result:?}");
-        assert!(result.switching.abs() < 1e-9, "{result:?}");
-        assert!((result.false_ - 20.0).abs() < 1e-9, "{result:?}");
+        assert!(result.parts.switching.abs() < 1e-9, "{result:?}");
+        assert!((result.parts.false_ - 20.0).abs() < 1e-9, "{result:?}");
     }
     // Two truths at equal distance from one estimate: the same by symmetry (missed, not false).
     let result = solve(&estimate, &truth, 4.0, 1.0, 4.0);
     assert!((result.total - 30.0).abs() < 1e-9, "{result:?}");
-    assert!((result.missed - 20.0).abs() < 1e-9, "{result:?}");
+    assert!((result.parts.missed - 20.0).abs() < 1e-9, "{result:?}");
 }
 
 #[test]
@@ -205,7 +209,7 @@ fn near_ties_alternating_between_two_estimates() {
     let estimate = lines(vec![line("a", 0, &near), line("b", 0, &far)]);
     let result = solve(&truth, &estimate, 4.0, 1.0, 4.0);
     assert!((result.total - 30.0).abs() < 1e-9, "{result:?}");
-    assert!(result.switching.abs() < 1e-9, "{result:?}");
+    assert!(result.parts.switching.abs() < 1e-9, "{result:?}");
     // The per-step sum itself, from the per-step metric.
     let params = GospaParams::new(4.0, 1.0, 2.0).unwrap();
     let series = per_step(&truth, &estimate, &params, &Distance::default()).unwrap();

@@ -201,14 +201,14 @@ fn switch_events_account_for_fractional_solutions() {
         fractional += 1;
         let events = switchyard::switches::switch_events(&s.assignment, &x, &y, &params);
         let cost: f64 = events.iter().map(|e| e.cost).sum();
-        assert_relative_eq!(cost, s.switching, epsilon = 1e-9, max_relative = 1e-9);
+        assert_relative_eq!(cost, s.parts.switching, epsilon = 1e-9, max_relative = 1e-9);
         let moved: f64 = events
             .iter()
             .map(|e| if e.from.is_some() && e.to.is_some() { 2.0 } else { 1.0 } * e.weight)
             .sum();
         assert_relative_eq!(
             moved,
-            2.0 * s.switch_count,
+            2.0 * s.parts.switch_count,
             epsilon = 1e-9,
             max_relative = 1e-9
         );

@@ -107,8 +107,8 @@ fn broken_track_resumes_under_a_new_id() {
     let y = lines(vec![line("p", 1, &[0.0; 4]), line("q", 7, &[0.0; 4])]);
     let s = solve(&x, &y, 2.0, 1.0);
     assert_relative_eq!(s.total, 3.0, max_relative = 1e-9);
-    assert_relative_eq!(s.missed, 2.0, max_relative = 1e-9);
-    assert_relative_eq!(s.switching, 1.0, max_relative = 1e-9);
+    assert_relative_eq!(s.parts.missed, 2.0, max_relative = 1e-9);
+    assert_relative_eq!(s.parts.switching, 1.0, max_relative = 1e-9);
     let (switches, _) = events(&x, &y, &s);
     assert_eq!(switches, vec![switch(7, "a", Some("p"), Some("q"), 1.0)]);
     let report = audit(&s, &x, &y, &switches);
@@ -139,8 +139,8 @@ fn a_track_jumps_from_one_object_to_another() {
         line("q", 1, &[10.0, 10.0, 10.0]),
     ]);
     let s = solve(&x, &y, 5.0, 1.0);
-    assert_relative_eq!(s.switching, 1.5, max_relative = 1e-9);
-    assert_relative_eq!(s.missed, 7.5, max_relative = 1e-9); // a missed on 4-6
+    assert_relative_eq!(s.parts.switching, 1.5, max_relative = 1e-9);
+    assert_relative_eq!(s.parts.missed, 7.5, max_relative = 1e-9); // a missed on 4-6
     let (switches, jumps) = events(&x, &y, &s);
     assert_eq!(
         switches,
@@ -228,12 +228,12 @@ proptest! {
         let (switches, jumps) = events(&x, &y, &s);
         let truth_side: f64 = switches.iter().map(|e| e.cost).sum();
         let track_side: f64 = jumps.iter().map(|e| e.cost).sum();
-        prop_assert!((truth_side - s.switching).abs() <= 1e-9 * s.switching.max(1.0));
-        prop_assert!((track_side - s.switching).abs() <= 1e-9 * s.switching.max(1.0));
+        prop_assert!((truth_side - s.parts.switching).abs() <= 1e-9 * s.parts.switching.max(1.0));
+        prop_assert!((track_side - s.parts.switching).abs() <= 1e-9 * s.parts.switching.max(1.0));
         // Weight moved, counting a full switch twice (one decrease, one increase), equals the
         // total change of the weights.
         let moved: f64 = switches.iter().map(|e| if e.from.is_some() && e.to.is_some() { 2.0 } else { 1.0 } * e.weight).sum();
-        prop_assert!((moved - 2.0 * s.switch_count).abs() <= 1e-9 * s.switch_count.max(1.0));
+        prop_assert!((moved - 2.0 * s.parts.switch_count).abs() <= 1e-9 * s.parts.switch_count.max(1.0));
         for e in &switches {
             prop_assert!(e.time > s.window.unwrap().first && e.time <= s.window.unwrap().last);
         }
@@ -268,5 +268,5 @@ fn a_track_that_leaves_and_returns_is_not_paired_with_a_later_one() {
         ]
     );
     let cost: f64 = switches.iter().map(|e| e.cost).sum();
-    assert_relative_eq!(cost, s.switching, max_relative = 1e-12);
+    assert_relative_eq!(cost, s.parts.switching, max_relative = 1e-12);
 }

@@ -194,48 +194,57 @@ pub(super) fn section(out: &mut String, report: &Report) {
         group: true,
         ..row(&format!("localisation ({power_unit})"), report, |t| {
             (
-                share(t.score.localization, t.score.total, dec_p),
-                Some(t.score.localization),
+                share(t.score.parts.localization, t.score.total, dec_p),
+                Some(t.score.parts.localization),
             )
         })
     });
     rows.push(row(&format!("missed ({power_unit})"), report, |t| {
         (
-            share(t.score.missed, t.score.total, dec_p),
-            Some(t.score.missed),
+            share(t.score.parts.missed, t.score.total, dec_p),
+            Some(t.score.parts.missed),
         )
     }));
     rows.push(row(&format!("false ({power_unit})"), report, |t| {
         (
-            share(t.score.false_, t.score.total, dec_p),
-            Some(t.score.false_),
+            share(t.score.parts.false_, t.score.total, dec_p),
+            Some(t.score.parts.false_),
         )
     }));
     rows.push(row(&format!("switching ({power_unit})"), report, |t| {
         (
-            share(t.score.switching, t.score.total, dec_p),
-            Some(t.score.switching),
+            share(t.score.parts.switching, t.score.total, dec_p),
+            Some(t.score.parts.switching),
         )
     }));
     rows.push(Row {
         group: true,
         ..row("missed object-steps", report, |t| {
             (
-                svg::value(t.score.missed_count, count_decimals(t.score.missed_count)),
-                Some(t.score.missed_count),
+                svg::value(
+                    t.score.parts.missed_count,
+                    count_decimals(t.score.parts.missed_count),
+                ),
+                Some(t.score.parts.missed_count),
             )
         })
     });
     rows.push(row("false object-steps", report, |t| {
         (
-            svg::value(t.score.false_count, count_decimals(t.score.false_count)),
-            Some(t.score.false_count),
+            svg::value(
+                t.score.parts.false_count,
+                count_decimals(t.score.parts.false_count),
+            ),
+            Some(t.score.parts.false_count),
         )
     }));
     rows.push(row("switches (full = 1, half = 0.5)", report, |t| {
         (
-            svg::value(t.score.switch_count, count_decimals(t.score.switch_count)),
-            Some(t.score.switch_count),
+            svg::value(
+                t.score.parts.switch_count,
+                count_decimals(t.score.parts.switch_count),
+            ),
+            Some(t.score.parts.switch_count),
         )
     }));
     rows.push(row("switch events: full / half", report, |t| {
@@ -443,10 +452,10 @@ fn parts_chart(out: &mut String, report: &Report, unit: &str, p1: bool) {
         svg::text(out, left - 8.0, y + 14.0, "end", "", &tracker.name);
         let score = &tracker.score;
         let values = [
-            score.localization,
-            score.missed,
-            score.false_,
-            score.switching,
+            score.parts.localization,
+            score.parts.missed,
+            score.parts.false_,
+            score.parts.switching,
         ];
         let mut start = 0.0;
         for ((name, s), v) in parts.iter().zip(values) {
