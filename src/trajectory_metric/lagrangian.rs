@@ -337,11 +337,14 @@ impl Model {
     /// The price of a head (`head`) or tail of a pair: the sum of its estimate's prices before
     /// the pair's window or after it.
     fn hold_price(&self, prefix: &[f64], pair: &Pair, head: bool) -> f64 {
-        let range = &self.estimates[pair.estimate as usize];
+        let e = pair.estimate as usize;
+        let range = &self.estimates[e];
+        // The estimate's running sums start at `range.start + e` (one more entry than slots).
+        let base = range.start + e;
         if head {
-            prefix[range.start + pair.slot_first as usize] - prefix[range.start]
+            prefix[base + pair.slot_first as usize]
         } else {
-            prefix[range.end] - prefix[range.start + pair.slot_last() as usize + 1]
+            prefix[base + range.len()] - prefix[base + pair.slot_last() as usize + 1]
         }
     }
 
@@ -689,15 +692,28 @@ impl Model {
         reduced
     }
 
+    /// Per estimate, the running sums of its prices times the slot lengths, from 0 before its
+    /// first slot. Each estimate's sums depend on its own prices only, so a truth's shortest
+    /// path depends on the prices of its own estimates only (what lets `solve` keep the paths
+    /// of truths whose estimates' prices did not change).
     fn prefix(&self, mu: &[f64]) -> Vec<f64> {
-        let mut prefix = Vec::with_capacity(mu.len() + 1);
-        let mut sum = 0.0;
-        prefix.push(0.0);
-        for (m, len) in mu.iter().zip(&self.slot_len) {
-            sum += m * len;
-            prefix.push(sum);
+        let mut prefix = Vec::with_capacity(mu.len() + self.estimates.len());
+        for range in &self.estimates {
+            let mut sum = 0.0;
+            prefix.push(0.0);
+            for (m, len) in mu[range.clone()].iter().zip(&self.slot_len[range.clone()]) {
+                sum += m * len;
+                prefix.push(sum);
+            }
         }
         prefix
+    }
+
+    /// Whether truth `t` has a pair of an estimate marked in `changed`.
+    fn touches(&self, t: usize, changed: &[bool]) -> bool {
+        self.pairs[self.truths[t].clone()]
+            .iter()
+            .any(|pair| changed[pair.estimate as usize])
     }
 
     /// Routes the truths one after another in `order`, each around what the earlier ones took.
@@ -779,6 +795,11 @@ pub fn solve(
     let mut previous_bound = f64::NEG_INFINITY;
     let mut iterations = 0;
     let mut count = vec![0i32; slots];
+    // The truths' latest shortest paths and their priced costs, and which estimates' prices
+    // moved since (all, before the first iteration).
+    let mut paths: Vec<Vec<Run>> = vec![Vec::new(); model.truths.len()];
+    let mut path_costs = vec![0.0; model.truths.len()];
+    let mut changed = vec![true; model.estimates.len()];
     let cells = model.gains.len().max(1) as u64;
     let allowed = settings
         .max_iterations
@@ -787,15 +808,25 @@ pub fn solve(
         iterations += 1;
         let started = Instant::now();
         let prefix = model.prefix(&mu);
-        let solved: Vec<(f64, Vec<Run>)> = (0..model.truths.len())
-            .into_par_iter()
-            .map_init(Scratch::default, |scratch, t| {
+        // Only the truths with an estimate whose prices moved: the others' shortest paths
+        // read the same prices as at their last solve, so they are kept as they are.
+        let stale: Vec<usize> = (0..model.truths.len())
+            .filter(|&t| model.touches(t, &changed))
+            .collect();
+        let fresh: Vec<(f64, Vec<Run>)> = stale
+            .par_iter()
+            .map_init(Scratch::default, |scratch, &t| {
                 model.shortest_path(t, &mu, &prefix, None, scratch)
             })
             .collect();
+        for (&t, (value, runs)) in stale.iter().zip(fresh) {
+            path_costs[t] = value;
+            paths[t] = runs;
+        }
+        changed.iter_mut().for_each(|c| *c = false);
         paths_time += started.elapsed();
         let priced: f64 = mu.iter().zip(&model.slot_len).map(|(m, l)| m * l).sum();
-        let bound = solved.iter().map(|s| s.0).sum::<f64>() - priced;
+        let bound = path_costs.iter().sum::<f64>() - priced;
         if bound > lower {
             if bound > lower + tolerance(upper) {
                 stalled = 0;
@@ -812,10 +843,9 @@ pub fn solve(
         }
         previous_bound = bound;
         count.iter_mut().for_each(|c| *c = 0);
-        for (_, runs) in &solved {
+        for runs in &paths {
             model.occupy(runs, &mut count);
         }
-        let paths: Vec<Vec<Run>> = solved.into_iter().map(|s| s.1).collect();
         if count.iter().all(|&c| c <= 1) {
             let assignment = model.assignment(&paths, pairs, members);
             let value = cost(&assignment);
@@ -884,10 +914,14 @@ pub fn solve(
             break;
         }
         let length = theta * (upper - bound).max(tolerance(upper)) / norm;
-        for s in 0..slots {
-            let g = (count[s] - 1) as f64;
-            if g > 0.0 || mu[s] > 0.0 {
-                mu[s] = (mu[s] + length * g).max(0.0);
+        for (e, range) in model.estimates.iter().enumerate() {
+            for s in range.clone() {
+                let g = (count[s] - 1) as f64;
+                if g > 0.0 || mu[s] > 0.0 {
+                    let moved = (mu[s] + length * g).max(0.0);
+                    changed[e] |= moved != mu[s];
+                    mu[s] = moved;
+                }
             }
         }
     }
