@@ -176,6 +176,43 @@ struct Taken {
     max_cell: Vec<Option<u32>>,
 }
 
+impl Taken {
+    /// Whether the cell of `pair` at `step` is held by an earlier cell, head or tail.
+    fn blocks(&self, model: &Model, pair: &Pair, step: Step) -> bool {
+        let e = pair.estimate as usize;
+        let s = pair.slot_first + (step - pair.first) as u32;
+        s < self.head_end[e] || s >= self.tail_start[e] || self.cell[model.slot(pair, step)]
+    }
+
+    /// Whether a head of `pair` (its estimate's slots before the pair's window) is free.
+    fn allows_head(&self, pair: &Pair) -> bool {
+        let e = pair.estimate as usize;
+        self.head_end[e] == 0
+            && self.min_cell[e] >= pair.slot_first
+            && self.tail_start[e] >= pair.slot_first
+    }
+
+    /// Whether a tail of `pair` (its estimate's slots after the pair's window) is free.
+    fn allows_tail(&self, model: &Model, pair: &Pair) -> bool {
+        let e = pair.estimate as usize;
+        let after = pair.slot_last() + 1;
+        let slots = model.estimates[e].len() as u32;
+        self.tail_start[e] == slots
+            && self.max_cell[e].is_none_or(|m| m < after)
+            && self.head_end[e] <= after
+    }
+
+    /// Whether a path avoids everything taken: every cell, head and tail of it is free.
+    fn fits(&self, model: &Model, runs: &[Run]) -> bool {
+        runs.iter().all(|run| {
+            let pair = &model.pairs[run.pair as usize];
+            (!run.head || self.allows_head(pair))
+                && (!run.tail || self.allows_tail(model, pair))
+                && (run.first..=run.last).all(|step| !self.blocks(model, pair, step))
+        })
+    }
+}
+
 /// Reusable buffers of one truth's dynamic program.
 #[derive(Default)]
 struct Scratch {
@@ -380,28 +417,10 @@ impl Model {
         scratch.current.clear();
         scratch.none_from.clear();
 
-        let blocked = |pair: &Pair, step: Step| -> bool {
-            let Some(taken) = taken else { return false };
-            let e = pair.estimate as usize;
-            let s = pair.slot_first + (step - pair.first) as u32;
-            s < taken.head_end[e] || s >= taken.tail_start[e] || taken.cell[self.slot(pair, step)]
-        };
-        let head_allowed = |pair: &Pair| -> bool {
-            let Some(taken) = taken else { return true };
-            let e = pair.estimate as usize;
-            taken.head_end[e] == 0
-                && taken.min_cell[e] >= pair.slot_first
-                && taken.tail_start[e] >= pair.slot_first
-        };
-        let tail_allowed = |pair: &Pair| -> bool {
-            let Some(taken) = taken else { return true };
-            let e = pair.estimate as usize;
-            let after = pair.slot_last() + 1;
-            let slots = self.estimates[e].len() as u32;
-            taken.tail_start[e] == slots
-                && taken.max_cell[e].is_none_or(|m| m < after)
-                && taken.head_end[e] <= after
-        };
+        let blocked =
+            |pair: &Pair, step: Step| taken.is_some_and(|taken| taken.blocks(self, pair, step));
+        let head_allowed = |pair: &Pair| taken.is_none_or(|taken| taken.allows_head(pair));
+        let tail_allowed = |pair: &Pair| taken.is_none_or(|taken| taken.allows_tail(self, pair));
 
         let mut none = 0.0f64;
         let mut tail_best = (f64::INFINITY, u32::MAX);
@@ -717,7 +736,17 @@ impl Model {
     }
 
     /// Routes the truths one after another in `order`, each around what the earlier ones took.
-    fn repair(&self, order: &[usize], mu: &[f64], prefix: &[f64]) -> Vec<Vec<Run>> {
+    ///
+    /// `shortest`, when given, holds every truth's shortest path under the same prices without
+    /// the blocking: a truth whose path there avoids what the earlier ones took keeps it (it
+    /// is cheapest among all its paths, so among the free ones too), without a new search.
+    fn repair(
+        &self,
+        order: &[usize],
+        mu: &[f64],
+        prefix: &[f64],
+        shortest: Option<&[Vec<Run>]>,
+    ) -> Vec<Vec<Run>> {
         let mut taken = Taken {
             cell: vec![false; self.slot_len.len()],
             head_end: vec![0; self.estimates.len()],
@@ -728,7 +757,13 @@ impl Model {
         let mut scratch = Scratch::default();
         let mut paths = vec![Vec::new(); self.truths.len()];
         for &t in order {
-            let (_, runs) = self.shortest_path(t, mu, prefix, Some(&taken), &mut scratch);
+            let runs = match shortest {
+                Some(paths) if taken.fits(self, &paths[t]) => paths[t].clone(),
+                _ => {
+                    self.shortest_path(t, mu, prefix, Some(&taken), &mut scratch)
+                        .1
+                }
+            };
             self.take(&runs, &mut taken);
             paths[t] = runs;
         }
@@ -780,7 +815,7 @@ pub fn solve(
     let started = Instant::now();
     let prefix = model.prefix(&mu);
     let index_order: Vec<usize> = (0..model.truths.len()).collect();
-    let mut best_paths = model.repair(&index_order, &mu, &prefix);
+    let mut best_paths = model.repair(&index_order, &mu, &prefix, None);
     let mut best_pairs = model.assignment(&best_paths, pairs, members);
     let mut upper = cost(&best_pairs);
     repair_time += started.elapsed();
@@ -873,10 +908,15 @@ pub fn solve(
                 })
                 .collect();
             by_value.sort_by(|&a, &b| values[a].total_cmp(&values[b]).then(a.cmp(&b)));
-            for order in [&by_value, &index_order] {
-                let repaired = model.repair(order, &mu, &prefix);
+            // The two orders at once; the first is preferred on a tie, as when run in turn.
+            let route = |order: &[usize]| {
+                let repaired = model.repair(order, &mu, &prefix, Some(&paths));
                 let assignment = model.assignment(&repaired, pairs, members);
                 let value = cost(&assignment);
+                (repaired, assignment, value)
+            };
+            let (first, second) = rayon::join(|| route(&by_value), || route(&index_order));
+            for (repaired, assignment, value) in [first, second] {
                 if value < upper {
                     upper = value;
                     best_pairs = assignment;
