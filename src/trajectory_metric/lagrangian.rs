@@ -60,6 +60,8 @@ pub struct Settings {
     pub max_work: u64,
     /// Iterations every component may have, whatever its size.
     pub min_iterations: usize,
+    /// Plain subgradient steps before the steps are deflected (see `solve`).
+    pub deflect_after: usize,
 }
 
 impl Default for Settings {
@@ -69,6 +71,7 @@ impl Default for Settings {
             repair_every: 10,
             max_work: 1_000_000_000,
             min_iterations: 30,
+            deflect_after: 100,
         }
     }
 }
@@ -117,6 +120,12 @@ fn tolerance(upper: f64, scale: f64) -> f64 {
 
 /// The relative tolerance of a proof.
 const TOLERANCE: f64 = 1e-9;
+
+/// How much of the previous direction a deflected step keeps when the new subgradient turns
+/// against it (the factor `tau` of the deflected direction; measured on the scale scenes:
+/// 0.5 certified the long crowded ones in fewer iterations than 1 or 1.5 and kept the LP bound
+/// of the fractional ones as close as plain steps).
+const DEFLECTION: f64 = 0.5;
 
 /// One pair in the engine's layout.
 #[derive(Clone, Copy, Debug)]
@@ -830,6 +839,8 @@ pub fn solve(
     let mut previous_bound = f64::NEG_INFINITY;
     let mut iterations = 0;
     let mut count = vec![0i32; slots];
+    // The deflected direction of the last step (0 off the rows it moved).
+    let mut direction = vec![0.0f64; slots];
     // The truths' latest shortest paths and their priced costs, and which estimates' prices
     // moved since (all, before the first iteration).
     let mut paths: Vec<Vec<Run>> = vec![Vec::new(); model.truths.len()];
@@ -953,12 +964,50 @@ pub fn solve(
             // complementary, so their cost equals the bound.
             break;
         }
-        let length = theta * (upper - bound).max(tolerance(upper)) / norm;
+        // Deflected direction: d = g + beta d_previous, where the new subgradient turns back
+        // against the previous direction (P. M. Camerini, L. Fratta, F. Maffioli, "On improving
+        // relaxation methods by modified gradient techniques", Mathematical Programming Study 3,
+        // 1975). It damps the zig-zag of plain steps on long crowded
+        // components; only after `deflect_after` plain steps, which most components never reach.
+        let mut gd = 0.0;
+        let mut dd = 0.0;
+        for s in 0..slots {
+            let g = (count[s] - 1) as f64;
+            if g > 0.0 || mu[s] > 0.0 {
+                gd += model.slot_len[s] * g * direction[s];
+                dd += model.slot_len[s] * direction[s] * direction[s];
+            }
+        }
+        let beta = if iterations > settings.deflect_after && gd < 0.0 && dd > 0.0 {
+            -DEFLECTION * gd / dd
+        } else {
+            0.0
+        };
+        let mut dnorm = 0.0;
+        for s in 0..slots {
+            let g = (count[s] - 1) as f64;
+            if g > 0.0 || mu[s] > 0.0 {
+                direction[s] = g + beta * direction[s];
+                dnorm += model.slot_len[s] * direction[s] * direction[s];
+            } else {
+                direction[s] = 0.0;
+            }
+        }
+        if dnorm == 0.0 {
+            // The two cancel exactly: a plain step.
+            for s in 0..slots {
+                if count[s] > 1 || mu[s] > 0.0 {
+                    direction[s] = (count[s] - 1) as f64;
+                }
+            }
+            dnorm = norm;
+        }
+        let length = theta * (upper - bound).max(tolerance(upper)) / dnorm;
         for (e, range) in model.estimates.iter().enumerate() {
             for s in range.clone() {
                 let g = (count[s] - 1) as f64;
                 if g > 0.0 || mu[s] > 0.0 {
-                    let moved = (mu[s] + length * g).max(0.0);
+                    let moved = (mu[s] + length * direction[s]).max(0.0);
                     changed[e] |= moved != mu[s];
                     mu[s] = moved;
                 }
