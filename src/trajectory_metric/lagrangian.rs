@@ -586,8 +586,9 @@ impl Model {
             .map(|i| (none_from[i].1, none_from[i].0 - 1))
     }
 
-    /// Adds each run's slots (cells, head, tail) to `count`.
-    fn occupy(&self, runs: &[Run], count: &mut [i32]) {
+    /// Adds each run's slots (cells, head, tail) to `count`, and to `over` each slot whose count
+    /// reaches 2.
+    fn occupy(&self, runs: &[Run], count: &mut [i32], over: &mut Vec<usize>) {
         for run in runs {
             let pair = &self.pairs[run.pair as usize];
             let range = &self.estimates[pair.estimate as usize];
@@ -601,8 +602,11 @@ impl Model {
             } else {
                 self.slot(pair, run.last)
             };
-            for c in &mut count[first..=last] {
+            for (s, c) in count[first..=last].iter_mut().enumerate() {
                 *c += 1;
+                if *c == 2 {
+                    over.push(first + s);
+                }
             }
         }
     }
@@ -725,16 +729,27 @@ impl Model {
     /// path depends on the prices of its own estimates only (what lets `solve` keep the paths
     /// of truths whose estimates' prices did not change).
     fn prefix(&self, mu: &[f64]) -> Vec<f64> {
-        let mut prefix = Vec::with_capacity(mu.len() + self.estimates.len());
-        for range in &self.estimates {
-            let mut sum = 0.0;
-            prefix.push(0.0);
-            for (m, len) in mu[range.clone()].iter().zip(&self.slot_len[range.clone()]) {
-                sum += m * len;
-                prefix.push(sum);
-            }
+        let mut prefix = vec![0.0; mu.len() + self.estimates.len()];
+        for e in 0..self.estimates.len() {
+            self.refresh_prefix(mu, &mut prefix, e);
         }
         prefix
+    }
+
+    /// Recomputes estimate `e`'s running sums in `prefix` (see [`Model::prefix`]).
+    fn refresh_prefix(&self, mu: &[f64], prefix: &mut [f64], e: usize) {
+        let range = self.estimates[e].clone();
+        let base = range.start + e;
+        let mut sum = 0.0;
+        prefix[base] = 0.0;
+        for (s, (m, len)) in mu[range.clone()]
+            .iter()
+            .zip(&self.slot_len[range])
+            .enumerate()
+        {
+            sum += m * len;
+            prefix[base + s + 1] = sum;
+        }
     }
 
     /// Whether truth `t` has a pair of an estimate marked in `changed`.
@@ -846,6 +861,16 @@ pub fn solve(
     let mut paths: Vec<Vec<Run>> = vec![Vec::new(); model.truths.len()];
     let mut path_costs = vec![0.0; model.truths.len()];
     let mut changed = vec![true; model.estimates.len()];
+    let mut prefix = vec![0.0; slots + model.estimates.len()];
+    // Slots over capacity, slots priced (mu > 0), both (this step's and the last), in slot order.
+    let mut over: Vec<usize> = Vec::new();
+    let mut priced_slots: Vec<usize> = Vec::new();
+    let mut active: Vec<usize> = Vec::new();
+    let mut previous_active: Vec<usize> = Vec::new();
+    let mut slot_estimate = vec![0u32; slots];
+    for (e, range) in model.estimates.iter().enumerate() {
+        slot_estimate[range.clone()].fill(e as u32);
+    }
     let cells = model.gains.len().max(1) as u64;
     let allowed = settings
         .max_iterations
@@ -853,7 +878,11 @@ pub fn solve(
     while iterations < allowed {
         iterations += 1;
         let started = Instant::now();
-        let prefix = model.prefix(&mu);
+        for (e, &moved) in changed.iter().enumerate() {
+            if moved {
+                model.refresh_prefix(&mu, &mut prefix, e);
+            }
+        }
         // Only the truths with an estimate whose prices moved: the others' shortest paths
         // read the same prices as at their last solve, so they are kept as they are.
         let stale: Vec<usize> = (0..model.truths.len())
@@ -871,7 +900,12 @@ pub fn solve(
         }
         changed.iter_mut().for_each(|c| *c = false);
         paths_time += started.elapsed();
-        let priced: f64 = mu.iter().zip(&model.slot_len).map(|(m, l)| m * l).sum();
+        // Sums over the priced slots only, in slot order: the same sums as over every slot, whose
+        // other terms are 0.
+        let priced: f64 = priced_slots
+            .iter()
+            .map(|&s| mu[s] * model.slot_len[s])
+            .sum();
         let bound = path_costs.iter().sum::<f64>() - priced;
         if bound > lower {
             if bound > lower + tolerance(upper) {
@@ -889,10 +923,11 @@ pub fn solve(
         }
         previous_bound = bound;
         count.iter_mut().for_each(|c| *c = 0);
+        over.clear();
         for runs in &paths {
-            model.occupy(runs, &mut count);
+            model.occupy(runs, &mut count, &mut over);
         }
-        if count.iter().all(|&c| c <= 1) {
+        if over.is_empty() {
             let assignment = model.assignment(&paths, pairs, members);
             let value = cost(&assignment);
             if value < upper {
@@ -951,13 +986,27 @@ pub fn solve(
             theta = (theta * 1.5).min(2.0);
             rising = 0;
         }
-        // Projected Polyak step on the rows that are over capacity or priced.
+        // Projected Polyak step on the rows that are over capacity or priced (`active`, in slot
+        // order; every other slot keeps its price 0 and its direction 0).
+        over.sort_unstable();
+        previous_active.clone_from(&active);
+        active.clear();
+        let (mut i, mut j) = (0, 0);
+        while i < priced_slots.len() || j < over.len() {
+            let next = match (priced_slots.get(i), over.get(j)) {
+                (Some(&p), Some(&o)) => p.min(o),
+                (Some(&p), None) => p,
+                (None, Some(&o)) => o,
+                (None, None) => unreachable!(),
+            };
+            i += usize::from(priced_slots.get(i) == Some(&next));
+            j += usize::from(over.get(j) == Some(&next));
+            active.push(next);
+        }
         let mut norm = 0.0;
-        for s in 0..slots {
+        for &s in &active {
             let g = (count[s] - 1) as f64;
-            if g > 0.0 || mu[s] > 0.0 {
-                norm += model.slot_len[s] * g * g;
-            }
+            norm += model.slot_len[s] * g * g;
         }
         if norm == 0.0 {
             // Every row within capacity and every priced row full: the paths are feasible and
@@ -969,14 +1018,17 @@ pub fn solve(
         // relaxation methods by modified gradient techniques", Mathematical Programming Study 3,
         // 1975). It damps the zig-zag of plain steps on long crowded
         // components; only after `deflect_after` plain steps, which most components never reach.
+        for &s in &previous_active {
+            if count[s] <= 1 && mu[s] <= 0.0 {
+                direction[s] = 0.0;
+            }
+        }
         let mut gd = 0.0;
         let mut dd = 0.0;
-        for s in 0..slots {
+        for &s in &active {
             let g = (count[s] - 1) as f64;
-            if g > 0.0 || mu[s] > 0.0 {
-                gd += model.slot_len[s] * g * direction[s];
-                dd += model.slot_len[s] * direction[s] * direction[s];
-            }
+            gd += model.slot_len[s] * g * direction[s];
+            dd += model.slot_len[s] * direction[s] * direction[s];
         }
         let beta = if iterations > settings.deflect_after && gd < 0.0 && dd > 0.0 {
             -DEFLECTION * gd / dd
@@ -984,33 +1036,25 @@ pub fn solve(
             0.0
         };
         let mut dnorm = 0.0;
-        for s in 0..slots {
-            let g = (count[s] - 1) as f64;
-            if g > 0.0 || mu[s] > 0.0 {
-                direction[s] = g + beta * direction[s];
-                dnorm += model.slot_len[s] * direction[s] * direction[s];
-            } else {
-                direction[s] = 0.0;
-            }
+        for &s in &active {
+            direction[s] = (count[s] - 1) as f64 + beta * direction[s];
+            dnorm += model.slot_len[s] * direction[s] * direction[s];
         }
         if dnorm == 0.0 {
             // The two cancel exactly: a plain step.
-            for s in 0..slots {
-                if count[s] > 1 || mu[s] > 0.0 {
-                    direction[s] = (count[s] - 1) as f64;
-                }
+            for &s in &active {
+                direction[s] = (count[s] - 1) as f64;
             }
             dnorm = norm;
         }
         let length = theta * (upper - bound).max(tolerance(upper)) / dnorm;
-        for (e, range) in model.estimates.iter().enumerate() {
-            for s in range.clone() {
-                let g = (count[s] - 1) as f64;
-                if g > 0.0 || mu[s] > 0.0 {
-                    let moved = (mu[s] + length * direction[s]).max(0.0);
-                    changed[e] |= moved != mu[s];
-                    mu[s] = moved;
-                }
+        priced_slots.clear();
+        for &s in &active {
+            let moved = (mu[s] + length * direction[s]).max(0.0);
+            changed[slot_estimate[s] as usize] |= moved != mu[s];
+            mu[s] = moved;
+            if moved > 0.0 {
+                priced_slots.push(s);
             }
         }
     }
