@@ -845,7 +845,8 @@ pub fn solve(
     repair_time += started.elapsed();
 
     let mut lower = f64::NEG_INFINITY;
-    let mut best_mu = mu.clone();
+    // The prices of the best bound, as its priced slots (every other price is 0).
+    let mut best_mu: Vec<(usize, f64)> = Vec::new();
     let mut theta: f64 = 1.0;
     let mut stalled = 0;
     // Bounds of the current round of iterations: the step grows when they rose every time and
@@ -912,7 +913,8 @@ pub fn solve(
                 stalled = 0;
             }
             lower = bound;
-            best_mu.clone_from(&mu);
+            best_mu.clear();
+            best_mu.extend(priced_slots.iter().map(|&s| (s, mu[s])));
         } else {
             stalled += 1;
         }
@@ -1064,7 +1066,11 @@ pub fn solve(
         Vec::new()
     } else {
         let reversed = Model::reversed(pairs, members, window, cutoff_power, switch_cost);
-        model.reduced_costs(&reversed, &best_mu)
+        let mut prices = vec![0.0; slots];
+        for &(s, m) in &best_mu {
+            prices[s] = m;
+        }
+        model.reduced_costs(&reversed, &prices)
     };
     Outcome {
         scale,
