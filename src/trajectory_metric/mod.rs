@@ -133,6 +133,8 @@ pub struct SolveOptions {
     pub memory_budget: u64,
     /// Subgradient iterations of the Lagrangian engine per component, at most.
     pub max_iterations: usize,
+    /// Plain subgradient steps of the Lagrangian engine before it deflects them.
+    pub deflect_after: usize,
 }
 
 impl Default for SolveOptions {
@@ -145,6 +147,7 @@ impl Default for SolveOptions {
             exact: None,
             memory_budget: DEFAULT_MEMORY_BUDGET,
             max_iterations: lagrangian::Settings::default().max_iterations,
+            deflect_after: lagrangian::Settings::default().deflect_after,
         }
     }
 }
@@ -858,6 +861,7 @@ fn solve_component(
         let scale = cutoff_power / 2.0 * points as f64;
         let settings = lagrangian::Settings {
             max_iterations: options.max_iterations,
+            deflect_after: options.deflect_after,
             ..lagrangian::Settings::default()
         };
         let problem = lagrangian::Problem {

@@ -558,15 +558,49 @@ proptest! {
     }
 }
 
+/// The deflected subgradient steps (P. M. Camerini, L. Fratta, F. Maffioli, Mathematical
+/// Programming Study 3, 1975), which the default settings start only after 100 plain steps, are
+/// forced from the first step here and run to the limit: every value must still be the LP
+/// optimum. Reference: the microlp simplex engine (a general LP solver outside this engine),
+/// within the proof tolerance.
+fn compare_deflected(scene: &Scene) -> Result<(), TestCaseError> {
+    let options = SolveOptions {
+        deflect_after: 0,
+        ..SolveOptions::default()
+    };
+    compare_proven_with_microlp(scene, options, "deflected from the first step")
+}
+
+proptest! {
+    #![proptest_config(seeded(1_500, 20261208))]
+
+    /// Deflected steps from the first iteration on crowded scenes. Reference: microlp.
+    #[test]
+    fn deflected_steps_keep_the_microlp_value(scene in scene(8, 10, 16, GRIDS)) {
+        compare_deflected(&scene)?;
+    }
+}
+
 /// Compares the default engine stopped after `iterations` subgradient steps (so that most
 /// components with competing truths fall back to the simplex, which must then keep the value
 /// and the certificate right) with microlp.
 fn compare_forced_fallback(scene: &Scene, iterations: usize) -> Result<(), TestCaseError> {
-    let (x, y, params) = (&scene.truth, &scene.estimate, &scene.params);
     let options = SolveOptions {
         max_iterations: iterations,
         ..SolveOptions::default()
     };
+    let what = format!("stopped after {iterations} iterations");
+    compare_proven_with_microlp(scene, options, &what)
+}
+
+/// Solves `scene` with `options`: the certificate must hold, the value must be microlp's within
+/// the proof tolerance, and the score must be proven.
+fn compare_proven_with_microlp(
+    scene: &Scene,
+    options: SolveOptions,
+    what: &str,
+) -> Result<(), TestCaseError> {
+    let (x, y, params) = (&scene.truth, &scene.estimate, &scene.params);
     let l = solve(x, y, params, options);
     let m = microlp(x, y, params);
     let scale = scale(x, y, params, &[&l, &m]);
@@ -574,8 +608,8 @@ fn compare_forced_fallback(scene: &Scene, iterations: usize) -> Result<(), TestC
     let tol = tolerance(m.total, scale);
     prop_assert!(
         (l.total - m.total).abs() <= tol,
-        "stopped after {} iterations: {} vs microlp {}; {:?}",
-        iterations,
+        "{}: {} vs microlp {}; {:?}",
+        what,
         l.total,
         m.total,
         l.certificate
