@@ -1,0 +1,36 @@
+"""Score multi-object trackers with the trajectory GOSPA metric (Python bindings).
+
+Inputs are read with switchyard's own CSV reader, so errors are the command line's:
+a ``ValueError`` naming the file, line and column.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from typing import Any, Dict, Optional, Union
+
+from ._switchyard import InternalError, score_paths
+
+__all__ = ["InternalError", "score"]
+
+PathLike = Union[str, "os.PathLike[str]"]
+
+
+def score(
+    truth: PathLike,
+    estimate: PathLike,
+    *,
+    cutoff: float,
+    order: float = 1.0,
+    switch_penalty: Optional[float] = None,
+) -> Dict[str, Any]:
+    """Trajectory GOSPA of ``estimate`` against ``truth`` (two CSV files).
+
+    Returns the document ``switchyard score --format json`` writes, as a dict.
+    The switching penalty defaults to the cut-off, as on the command line.
+    Raises ``ValueError`` for bad input, ``InternalError`` for a failure inside switchyard.
+    """
+    penalty = cutoff if switch_penalty is None else switch_penalty
+    text = score_paths(os.fspath(truth), os.fspath(estimate), cutoff, order, penalty)
+    return json.loads(text)

@@ -1,0 +1,95 @@
+//! The compiled half of the Python package `switchyard`: a thin layer that reads the inputs
+//! with the library's own CSV reader, scores them with the library, and hands back the same
+//! JSON document the command line writes (built from the same serde structs).
+
+use std::panic::{catch_unwind, AssertUnwindSafe};
+
+use pyo3::create_exception;
+use pyo3::exceptions::{PyException, PyMemoryError, PyValueError};
+use pyo3::prelude::*;
+
+use switchyard::distance::Distance;
+use switchyard::input::{read_csv_path, CsvLayout};
+use switchyard::report::{score::ScoreDocument, InputInfo};
+use switchyard::switches::{jump_events, switch_events};
+use switchyard::trajectory_metric::{score_with, SolveOptions, TrajectoryParams};
+
+create_exception!(
+    _switchyard,
+    InternalError,
+    PyException,
+    "A failure inside switchyard that is not the caller's input: please report it."
+);
+
+/// Scores two CSV files; returns the score document as JSON text.
+fn score_document(
+    truth: &str,
+    estimate: &str,
+    cutoff: f64,
+    order: f64,
+    switch_penalty: f64,
+) -> switchyard::Result<String> {
+    let params = TrajectoryParams::new(cutoff, order, switch_penalty)?;
+    let distance = Distance::default();
+    distance.check_cutoff(cutoff)?;
+    let layout = CsvLayout {
+        distance: Some(distance.clone()),
+        ..CsvLayout::default()
+    };
+    let truth = read_csv_path(truth, &layout)?;
+    let estimate = read_csv_path(estimate, &layout)?;
+    truth.check_comparable(&estimate)?;
+    distance.validate(truth.set.dim(), cutoff)?;
+    let options = SolveOptions::default();
+    let result = score_with(&truth.set, &estimate.set, &params, &distance, &options)?;
+    let (t, e) = (&truth.set, &estimate.set);
+    let switches = switch_events(&result.assignment, t, e, &result.params);
+    let jumps = jump_events(&result.assignment, t, e, &result.params);
+    let info = InputInfo::new(&truth, &estimate, &distance);
+    let document = ScoreDocument::new(&result, &info, options.engine.name(), &switches, &jumps);
+    Ok(serde_json::to_string(&document).expect("a score document serialises"))
+}
+
+/// Scores the CSV files `truth` and `estimate`; returns the score document as JSON text.
+/// Bad input raises ValueError with the command line's message; a panic raises InternalError.
+#[pyfunction]
+#[pyo3(signature = (truth, estimate, cutoff, order, switch_penalty))]
+fn score_paths(
+    py: Python<'_>,
+    truth: &str,
+    estimate: &str,
+    cutoff: f64,
+    order: f64,
+    switch_penalty: f64,
+) -> PyResult<String> {
+    let outcome = py.detach(|| {
+        catch_unwind(AssertUnwindSafe(|| {
+            score_document(truth, estimate, cutoff, order, switch_penalty)
+        }))
+    });
+    match outcome {
+        Ok(Ok(json)) => Ok(json),
+        Ok(Err(error)) => Err(to_python_error(&error)),
+        Err(_) => Err(InternalError::new_err("switchyard panicked while scoring")),
+    }
+}
+
+/// The Python exception for a library error: the caller's input or parameters are a
+/// ValueError, a memory budget too small a MemoryError, a solver failure an InternalError;
+/// the message is the command line's.
+fn to_python_error(error: &switchyard::Error) -> PyErr {
+    let message = error.to_string();
+    match error {
+        switchyard::Error::Solver(_) => InternalError::new_err(message),
+        switchyard::Error::Budget(_) => PyMemoryError::new_err(message),
+        _ => PyValueError::new_err(message),
+    }
+}
+
+/// The compiled module `switchyard._switchyard`.
+#[pymodule]
+fn _switchyard(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_function(wrap_pyfunction!(score_paths, m)?)?;
+    m.add("InternalError", m.py().get_type::<InternalError>())?;
+    Ok(())
+}
