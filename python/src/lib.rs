@@ -9,8 +9,9 @@ use pyo3::exceptions::{PyException, PyMemoryError, PyValueError};
 use pyo3::prelude::*;
 
 use switchyard::distance::Distance;
-use switchyard::input::{read_csv_path, CsvLayout};
-use switchyard::report::{score::ScoreDocument, InputInfo};
+use switchyard::input::{read_csv_path, CsvLayout, TrajectoryFile};
+use switchyard::per_step::{occupied_steps, GospaParams};
+use switchyard::report::{score::ScoreDocument, steps, InputInfo};
 use switchyard::switches::{jump_events, switch_events};
 use switchyard::trajectory_metric::{score_with, SolveOptions, TrajectoryParams};
 
@@ -21,15 +22,13 @@ create_exception!(
     "A failure inside switchyard that is not the caller's input: please report it."
 );
 
-/// Scores two CSV files; returns the score document as JSON text.
-fn score_document(
+/// Reads a truth and an estimate CSV file (default columns, Euclidean distance) and checks
+/// that they can be compared at this cut-off.
+fn read_inputs(
     truth: &str,
     estimate: &str,
     cutoff: f64,
-    order: f64,
-    switch_penalty: f64,
-) -> switchyard::Result<String> {
-    let params = TrajectoryParams::new(cutoff, order, switch_penalty)?;
+) -> switchyard::Result<(TrajectoryFile, TrajectoryFile, Distance)> {
     let distance = Distance::default();
     distance.check_cutoff(cutoff)?;
     let layout = CsvLayout {
@@ -40,6 +39,36 @@ fn score_document(
     let estimate = read_csv_path(estimate, &layout)?;
     truth.check_comparable(&estimate)?;
     distance.validate(truth.set.dim(), cutoff)?;
+    Ok((truth, estimate, distance))
+}
+
+/// Per-step GOSPA of two CSV files; returns the steps document as JSON text.
+fn steps_document(
+    truth: &str,
+    estimate: &str,
+    cutoff: f64,
+    order: f64,
+    alpha: f64,
+) -> switchyard::Result<String> {
+    let params = GospaParams::new(cutoff, order, alpha)?;
+    let (truth, estimate, distance) = read_inputs(truth, estimate, cutoff)?;
+    let series = occupied_steps(&truth.set, &estimate.set, &params, &distance)?;
+    let info = InputInfo::new(&truth, &estimate, &distance);
+    let mut json = Vec::new();
+    steps::write_json(&mut json, &series, &params, &info).expect("writing to memory succeeds");
+    Ok(String::from_utf8(json).expect("serde_json writes UTF-8"))
+}
+
+/// Scores two CSV files; returns the score document as JSON text.
+fn score_document(
+    truth: &str,
+    estimate: &str,
+    cutoff: f64,
+    order: f64,
+    switch_penalty: f64,
+) -> switchyard::Result<String> {
+    let params = TrajectoryParams::new(cutoff, order, switch_penalty)?;
+    let (truth, estimate, distance) = read_inputs(truth, estimate, cutoff)?;
     let options = SolveOptions::default();
     let result = score_with(&truth.set, &estimate.set, &params, &distance, &options)?;
     let (t, e) = (&truth.set, &estimate.set);
@@ -62,12 +91,33 @@ fn score_paths(
     order: f64,
     switch_penalty: f64,
 ) -> PyResult<String> {
-    let outcome = py.detach(|| {
-        catch_unwind(AssertUnwindSafe(|| {
-            score_document(truth, estimate, cutoff, order, switch_penalty)
-        }))
-    });
-    match outcome {
+    run_released(py, || {
+        score_document(truth, estimate, cutoff, order, switch_penalty)
+    })
+}
+
+/// Per-step GOSPA (with `alpha`) of the CSV files `truth` and `estimate`; returns the steps
+/// document as JSON text. Errors as [`score_paths`].
+#[pyfunction]
+#[pyo3(signature = (truth, estimate, cutoff, order, alpha))]
+fn steps_paths(
+    py: Python<'_>,
+    truth: &str,
+    estimate: &str,
+    cutoff: f64,
+    order: f64,
+    alpha: f64,
+) -> PyResult<String> {
+    run_released(py, || steps_document(truth, estimate, cutoff, order, alpha))
+}
+
+/// Runs `work` without the GIL, turning its error into a Python exception and a panic into
+/// InternalError, so the interpreter never goes down with it.
+fn run_released<F>(py: Python<'_>, work: F) -> PyResult<String>
+where
+    F: FnOnce() -> switchyard::Result<String> + Send,
+{
+    match py.detach(|| catch_unwind(AssertUnwindSafe(work))) {
         Ok(Ok(json)) => Ok(json),
         Ok(Err(error)) => Err(to_python_error(&error)),
         Err(_) => Err(InternalError::new_err("switchyard panicked while scoring")),
@@ -90,6 +140,7 @@ fn to_python_error(error: &switchyard::Error) -> PyErr {
 #[pymodule]
 fn _switchyard(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(score_paths, m)?)?;
+    m.add_function(wrap_pyfunction!(steps_paths, m)?)?;
     m.add("InternalError", m.py().get_type::<InternalError>())?;
     Ok(())
 }

@@ -1,8 +1,9 @@
 """The Python package against the command line's own outputs.
 
-Expected values come from tests/snapshots/score.json: what `switchyard score --truth
-demo-data/truth.csv --estimate demo-data/tracker-swaps.csv --cutoff 20 --format json`
-printed (its numbers are checked independently by the Rust suite against scipy references).
+Expected values come from tests/snapshots/score.json and steps.json: what `switchyard score`
+and `switchyard steps` with `--truth demo-data/truth.csv --estimate demo-data/tracker-swaps.csv
+--cutoff 20 --format json` printed (their numbers are checked independently by the Rust suite
+against scipy references).
 """
 
 import json
@@ -28,6 +29,14 @@ def test_score_document_equals_the_command_lines_json():
     # Same serde structs, same serialiser: equal key for key, floats bit for bit.
     assert got == expected
     assert got["total"] == pytest.approx(15103.590357841626, rel=0, abs=0)
+
+
+def test_steps_document_equals_the_command_lines_json():
+    expected = json.loads((ROOT / "tests/snapshots/steps.json").read_text())
+    got = switchyard.steps("demo-data/truth.csv", "demo-data/tracker-swaps.csv", cutoff=20)
+    assert got == expected
+    # steps.json: 10 truths, no estimate at time 0, cut-off 20, alpha 2: 10 * 20 / 2 = 100.
+    assert got["steps"][0]["gospa"] == pytest.approx(100.0, abs=1e-12)
 
 
 def test_path_objects_are_accepted():

@@ -10,9 +10,9 @@ import json
 import os
 from typing import Any, Dict, Optional, Union
 
-from ._switchyard import InternalError, score_paths
+from ._switchyard import InternalError, score_paths, steps_paths
 
-__all__ = ["InternalError", "score"]
+__all__ = ["InternalError", "score", "steps"]
 
 PathLike = Union[str, "os.PathLike[str]"]
 
@@ -33,4 +33,22 @@ def score(
     """
     penalty = cutoff if switch_penalty is None else switch_penalty
     text = score_paths(os.fspath(truth), os.fspath(estimate), cutoff, order, penalty)
+    return json.loads(text)
+
+
+def steps(
+    truth: PathLike,
+    estimate: PathLike,
+    *,
+    cutoff: float,
+    order: float = 1.0,
+    alpha: float = 2.0,
+) -> Dict[str, Any]:
+    """Per-step GOSPA of ``estimate`` against ``truth`` (two CSV files).
+
+    Returns the document ``switchyard steps --format json`` writes, as a dict: its
+    ``"steps"`` list holds one entry per occupied step (time, gospa and its parts).
+    Raises ``ValueError`` for bad input, ``InternalError`` for a failure inside switchyard.
+    """
+    text = steps_paths(os.fspath(truth), os.fspath(estimate), cutoff, order, alpha)
     return json.loads(text)
