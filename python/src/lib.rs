@@ -13,7 +13,9 @@ use switchyard::input::{read_csv_path, CsvLayout, TrajectoryFile};
 use switchyard::per_step::{occupied_steps, GospaParams};
 use switchyard::report::{score::ScoreDocument, steps, InputInfo};
 use switchyard::switches::{jump_events, switch_events};
-use switchyard::trajectory_metric::{score_with, SolveOptions, TrajectoryParams};
+use switchyard::trajectory_metric::{
+    score_with, Engine, ExactBudget, SolveOptions, TrajectoryParams,
+};
 
 create_exception!(
     _switchyard,
@@ -59,17 +61,43 @@ fn steps_document(
     Ok(String::from_utf8(json).expect("serde_json writes UTF-8"))
 }
 
+/// How to solve: the engine by its output name, the exact (integral) metric without a budget
+/// or the LP only, and the memory budget in bytes (`None`: the library's default).
+fn solve_options(
+    engine: &str,
+    exact: bool,
+    memory_budget: Option<u64>,
+) -> switchyard::Result<SolveOptions> {
+    let engines = [Engine::Lagrangian, Engine::Microlp, Engine::Highs];
+    let Some(engine) = engines.into_iter().find(|known| known.name() == engine) else {
+        return Err(switchyard::Error::Parameter(format!(
+            "unknown engine {engine:?}: give lagrangian, microlp or highs"
+        )));
+    };
+    let defaults = SolveOptions::default();
+    Ok(SolveOptions {
+        engine,
+        exact: exact.then_some(ExactBudget::Unlimited),
+        memory_budget: memory_budget.unwrap_or(defaults.memory_budget),
+        ..defaults
+    })
+}
+
 /// Scores two CSV files; returns the score document as JSON text.
+#[allow(clippy::too_many_arguments)]
 fn score_document(
     truth: &str,
     estimate: &str,
     cutoff: f64,
     order: f64,
     switch_penalty: f64,
+    engine: &str,
+    exact: bool,
+    memory_budget: Option<u64>,
 ) -> switchyard::Result<String> {
+    let options = solve_options(engine, exact, memory_budget)?;
     let params = TrajectoryParams::new(cutoff, order, switch_penalty)?;
     let (truth, estimate, distance) = read_inputs(truth, estimate, cutoff)?;
-    let options = SolveOptions::default();
     let result = score_with(&truth.set, &estimate.set, &params, &distance, &options)?;
     let (t, e) = (&truth.set, &estimate.set);
     let switches = switch_events(&result.assignment, t, e, &result.params);
@@ -82,7 +110,8 @@ fn score_document(
 /// Scores the CSV files `truth` and `estimate`; returns the score document as JSON text.
 /// Bad input raises ValueError with the command line's message; a panic raises InternalError.
 #[pyfunction]
-#[pyo3(signature = (truth, estimate, cutoff, order, switch_penalty))]
+#[pyo3(signature = (truth, estimate, cutoff, order, switch_penalty, engine, exact, memory_budget))]
+#[allow(clippy::too_many_arguments)]
 fn score_paths(
     py: Python<'_>,
     truth: &str,
@@ -90,9 +119,21 @@ fn score_paths(
     cutoff: f64,
     order: f64,
     switch_penalty: f64,
+    engine: &str,
+    exact: bool,
+    memory_budget: Option<u64>,
 ) -> PyResult<String> {
     run_released(py, || {
-        score_document(truth, estimate, cutoff, order, switch_penalty)
+        score_document(
+            truth,
+            estimate,
+            cutoff,
+            order,
+            switch_penalty,
+            engine,
+            exact,
+            memory_budget,
+        )
     })
 }
 

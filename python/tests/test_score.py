@@ -39,6 +39,21 @@ def test_steps_document_equals_the_command_lines_json():
     assert got["steps"][0]["gospa"] == pytest.approx(100.0, abs=1e-12)
 
 
+def test_exact_score_equals_the_command_lines_json():
+    # tests/snapshots/score-exact.json: `score --truth demo-data/truth.csv --estimate
+    # demo-data/tracker-fragments.csv --cutoff 10 --exact --format json`.
+    expected = json.loads((ROOT / "tests/snapshots/score-exact.json").read_text())
+    got = switchyard.score(
+        "demo-data/truth.csv", "demo-data/tracker-fragments.csv", cutoff=10, exact=True
+    )
+    assert got == expected
+
+
+def test_unknown_engine_is_a_value_error():
+    with pytest.raises(ValueError, match="unknown engine \"simplex\""):
+        switchyard.score("demo-data/truth.csv", "demo-data/tracker-swaps.csv", cutoff=20, engine="simplex")
+
+
 def test_path_objects_are_accepted():
     got = switchyard.score(Path("demo-data/truth.csv"), Path("demo-data/tracker-swaps.csv"), cutoff=20)
     assert got["switch_count"] == pytest.approx(12.0, abs=0)  # score.json, "switch_count"

@@ -24,15 +24,22 @@ def score(
     cutoff: float,
     order: float = 1.0,
     switch_penalty: Optional[float] = None,
+    engine: str = "lagrangian",
+    exact: bool = False,
+    memory_budget: Optional[int] = None,
 ) -> Dict[str, Any]:
     """Trajectory GOSPA of ``estimate`` against ``truth`` (two CSV files).
 
     Returns the document ``switchyard score --format json`` writes, as a dict.
-    The switching penalty defaults to the cut-off, as on the command line.
+    The switching penalty defaults to the cut-off, as on the command line. ``engine`` is
+    ``"lagrangian"``, ``"microlp"`` or ``"highs"`` (a build with HiGHS); ``exact=True`` asks
+    for the exact (integral) metric; ``memory_budget`` is in bytes (default: the command's).
     Raises ``ValueError`` for bad input, ``InternalError`` for a failure inside switchyard.
     """
     penalty = cutoff if switch_penalty is None else switch_penalty
-    text = score_paths(os.fspath(truth), os.fspath(estimate), cutoff, order, penalty)
+    text = score_paths(
+        os.fspath(truth), os.fspath(estimate), cutoff, order, penalty, engine, exact, memory_budget
+    )
     return json.loads(text)
 
 
