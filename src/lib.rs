@@ -16,6 +16,7 @@
 //! - [`input`]: the CSV reader;
 //! - [`distance`]: base distances and the cut-off arithmetic;
 //! - [`per_step`]: GOSPA at each step, with its parts;
+//! - [`ospa2`]: OSPA(2), the OSPA metric on trajectories, over the whole or a sliding window;
 //! - [`trajectory_metric`]: trajectory GOSPA as a linear program, reduced exactly and solved
 //!   by a Lagrangian engine whose bounds prove the value (a simplex engine where they do not);
 //! - [`synth`]: seeded synthetic scenes: a ground truth and an imaginary tracker's output;
@@ -48,6 +49,7 @@ pub mod compare;
 pub mod distance;
 pub mod error;
 pub mod input;
+pub mod ospa2;
 pub mod per_step;
 pub mod report;
 pub mod switches;

@@ -9,6 +9,7 @@ mod lagrangian;
 mod messages;
 mod metric_cases;
 mod numerics;
+mod ospa2;
 mod output_safety;
 mod reductions;
 mod references;
