@@ -16,6 +16,7 @@
 //! - [`input`]: the CSV reader;
 //! - [`distance`]: base distances and the cut-off arithmetic;
 //! - [`per_step`]: GOSPA at each step, with its parts;
+//! - [`matching`]: least-cost partial matching on a sparse bipartite graph;
 //! - [`ospa2`]: OSPA(2), the OSPA metric on trajectories, over the whole or a sliding window;
 //! - [`trajectory_metric`]: trajectory GOSPA as a linear program, reduced exactly and solved
 //!   by a Lagrangian engine whose bounds prove the value (a simplex engine where they do not);
@@ -49,6 +50,7 @@ pub mod compare;
 pub mod distance;
 pub mod error;
 pub mod input;
+pub mod matching;
 pub mod ospa2;
 pub mod per_step;
 pub mod report;

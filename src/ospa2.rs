@@ -20,8 +20,8 @@
 //! Σ d(x, y)^p + c^p |m - n|),   and 0 when both sets are empty.
 //!
 //! A pairing at distance c costs what leaving both unpaired costs, so the optimum pairs only
-//! trajectories closer than c: the same assignment as GOSPA's with alpha = 2
-//! ([`crate::per_step`]), solved by group with the Jonker-Volgenant algorithm. Unlike trajectory
+//! trajectories closer than c, minimising Σ (d^p - c^p) over them: a partial matching on the
+//! sparse graph of close pairs ([`crate::matching`]), whose memory follows the close pairs. Unlike trajectory
 //! GOSPA it is normalised (between 0 and c), each truth follows at most one track over the
 //! whole window, and a track switch shows only as a worse distance.
 
@@ -29,7 +29,8 @@ use serde::Serialize;
 
 use crate::distance::{power, root, Distance, Gate};
 use crate::error::Result;
-use crate::per_step::{check_cutoff_order, pair_close};
+use crate::matching::sparse_partial_matching;
+use crate::per_step::check_cutoff_order;
 use crate::trajectory::{Frames, Step, Trajectory, TrajectorySet, Window};
 
 /// The parameters of OSPA(2): the cut-off c of both the inner and the outer OSPA, and the
@@ -91,6 +92,8 @@ pub struct Ospa2<'a> {
     estimate: &'a TrajectorySet,
     params: Ospa2Params,
     window: Option<Window>,
+    /// The truth's and the estimate's objects by step.
+    frames: (Frames, Frames),
     /// `(step, truth, estimate, c - d)` for every point pair closer than c, by step.
     close: Vec<(Step, u32, u32, f64)>,
 }
@@ -142,10 +145,17 @@ impl<'a> Ospa2<'a> {
         let window = crate::trajectory::evaluation_window(truth, estimate)?;
         distance.check_inputs(truth, estimate, params.cutoff)?;
         let mut close = Vec::new();
-        if let Some(window) = window {
-            let (xs, ys) = (Frames::new(truth, window), Frames::new(estimate, window));
+        let frames = match window {
+            Some(window) => (Frames::new(truth, window), Frames::new(estimate, window)),
+            None => {
+                let nothing = Window { first: 0, last: 0 };
+                (Frames::new(truth, nothing), Frames::new(estimate, nothing))
+            }
+        };
+        if window.is_some() {
+            let (xs, ys) = (&frames.0, &frames.1);
             let mut gate = Gate::default();
-            for (step, at_x, at_y) in xs.occupied_with(&ys) {
+            for (step, at_x, at_y) in xs.occupied_with(ys) {
                 let first = |i: usize| {
                     let p = at_x[i];
                     truth.get(p.object as usize).state(p.point as usize)
@@ -171,6 +181,7 @@ impl<'a> Ospa2<'a> {
             estimate,
             params,
             window,
+            frames,
             close,
         })
     }
@@ -191,21 +202,24 @@ impl<'a> Ospa2<'a> {
     /// OSPA(2) over the steps of `window` only: trajectories are cut to it, and those with no
     /// state in it are left out.
     pub fn over(&self, window: Window) -> Ospa2Score {
-        let present = |set: &TrajectorySet| -> Vec<Option<u32>> {
-            let mut next = 0u32;
-            set.trajectories()
-                .iter()
-                .map(|t| {
-                    (steps_in(t, window) > 0).then(|| {
-                        next += 1;
-                        next - 1
-                    })
-                })
-                .collect()
+        // The trajectories with a state in the window, by index: O(points in the window).
+        let present = |frames: &Frames| -> Vec<u32> {
+            let steps = frames.occupied();
+            let from = steps.partition_point(|&s| s < window.first);
+            let to = steps.partition_point(|&s| s <= window.last);
+            let mut objects: Vec<u32> = (from..to)
+                .flat_map(|k| frames.occupant(k).iter().map(|p| p.object))
+                .collect();
+            objects.sort_unstable();
+            objects.dedup();
+            objects
         };
-        let (truth_local, estimate_local) = (present(self.truth), present(self.estimate));
-        let m = truth_local.iter().flatten().count();
-        let n = estimate_local.iter().flatten().count();
+        let (truths, estimates) = (present(&self.frames.0), present(&self.frames.1));
+        let local = |objects: &[u32], object: u32| {
+            objects
+                .binary_search(&object)
+                .expect("a close point lies in the window")
+        };
         // Sum of c - d over the close steps of each pair, in (truth, estimate) order.
         let start = self.close.partition_point(|c| c.0 < window.first);
         let end = self.close.partition_point(|c| c.0 <= window.last);
@@ -214,34 +228,39 @@ impl<'a> Ospa2<'a> {
             .map(|&(_, i, j, saving)| (i, j, saving))
             .collect();
         savings.sort_by_key(|&(i, j, _)| (i, j));
-        let mut candidates: Vec<(u32, u32, f64)> = Vec::new();
         let c = self.params.cutoff;
+        let cp = power(c, self.params.order);
+        // (local truth, local estimate, d^p - c^p, d^p) for each pair closer than c.
+        let mut candidates: Vec<(usize, usize, f64)> = Vec::new();
+        let mut powers: Vec<f64> = Vec::new();
         for group in savings.chunk_by(|a, b| (a.0, a.1) == (b.0, b.1)) {
-            let (i, j) = (group[0].0 as usize, group[0].1 as usize);
+            let (i, j) = (group[0].0, group[0].1);
             let saved: f64 = group.iter().fold(0.0, |sum, g| sum + g.2);
-            let (x, y) = (self.truth.get(i), self.estimate.get(j));
+            let (x, y) = (self.truth.get(i as usize), self.estimate.get(j as usize));
             let union = steps_in(x, window) + steps_in(y, window) - shared_steps(x, y, window);
             let d = (c - saved / union as f64).max(0.0);
             if d < c {
-                let (a, b) = (truth_local[i].unwrap(), estimate_local[j].unwrap());
-                candidates.push((a, b, power(d, self.params.order)));
+                let dp = power(d, self.params.order);
+                candidates.push((local(&truths, i), local(&estimates, j), dp - cp));
+                powers.push(dp);
             }
         }
-        // Local indices back to the sets' indices.
-        let global = |local: &[Option<u32>]| -> Vec<usize> {
-            (0..local.len()).filter(|&k| local[k].is_some()).collect()
-        };
-        let (truth_global, estimate_global) = (global(&truth_local), global(&estimate_local));
-        let cp = power(c, self.params.order);
-        let pairs = pair_close(m, n, cp, candidates)
+        // The matching may pair (a, b) only through an edge listed once, so its d^p is found
+        // by binary search on the sorted candidates.
+        let pairs = sparse_partial_matching(truths.len(), estimates.len(), &candidates)
             .into_iter()
-            .map(|(a, b, dp)| Ospa2Pair {
-                truth: truth_global[a],
-                estimate: estimate_global[b],
-                distance: root(dp, self.params.order),
+            .map(|(a, b)| {
+                let k = candidates
+                    .binary_search_by(|e| (e.0, e.1).cmp(&(a, b)))
+                    .expect("a matched pair is a candidate");
+                Ospa2Pair {
+                    truth: truths[a] as usize,
+                    estimate: estimates[b] as usize,
+                    distance: root(powers[k], self.params.order),
+                }
             })
             .collect();
-        self.score(m, n, pairs)
+        self.score(truths.len(), estimates.len(), pairs)
     }
 
     fn score(&self, m: usize, n: usize, mut pairs: Vec<Ospa2Pair>) -> Ospa2Score {

@@ -293,30 +293,6 @@ impl Workspace {
     }
 }
 
-/// The one-to-one pairing of `m` first and `n` second objects that minimises the sum of
-/// `cost - cp` over the pairs it uses, among the given close pairs `(i, j, cost)` (every cost
-/// below `cp`; pairs not listed are never used): the assignment at the heart of GOSPA with
-/// alpha = 2, and of OSPA on any two sets, whose optimal permutations pair the same objects.
-/// Returns the pairs used, sorted.
-pub(crate) fn pair_close(
-    m: usize,
-    n: usize,
-    cp: f64,
-    mut close: Vec<(u32, u32, f64)>,
-) -> Vec<(usize, usize, f64)> {
-    close.sort_unstable_by_key(|a| (a.0, a.1));
-    let mut workspace = Workspace {
-        close,
-        ..Workspace::default()
-    };
-    let mut pairs = Vec::new();
-    if !workspace.close.is_empty() {
-        workspace.assign(m, n, cp, &mut pairs);
-    }
-    pairs.sort_by_key(|&(i, j, _)| (i, j));
-    pairs
-}
-
 /// GOSPA between two sets of points. O(m n) distances plus an assignment per close group.
 ///
 /// # Example
