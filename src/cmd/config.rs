@@ -116,19 +116,46 @@ impl InputArgs {
                 )));
             }
         }
-        let distance = self.distance.build(&self.csv)?;
-        distance.check_cutoff(cutoff)?;
-        let layout = self.csv.layout(&distance);
-        let truth = read_csv_path(&self.truth, &layout)?;
-        let estimate = read_csv_path(&self.estimate, &layout)?;
-        truth.check_comparable(&estimate)?;
-        distance.validate(truth.set.dim(), cutoff)?;
+        let (truth, mut estimates, distance) = read_files(
+            &self.truth,
+            &[&self.estimate],
+            &self.csv,
+            &self.distance,
+            cutoff,
+        )?;
         Ok(Inputs {
             truth,
-            estimate,
+            estimate: estimates.pop().expect("one estimate was read"),
             distance,
         })
     }
+}
+
+/// Reads the truth and the estimates with the layout of `csv`, each state checked for the
+/// distance of `distance` as it is read, and checks that they can be compared with it at
+/// `cutoff` (same state dimension, the distance's rules): shared by every command that reads
+/// whole CSV files.
+pub fn read_files(
+    truth: &str,
+    estimates: &[&str],
+    csv: &CsvOptions,
+    distance: &DistanceOptions,
+    cutoff: f64,
+) -> Result<(TrajectoryFile, Vec<TrajectoryFile>, Distance)> {
+    let distance = distance.build(csv)?;
+    distance.check_cutoff(cutoff)?;
+    let layout = csv.layout(&distance);
+    let truth = read_csv_path(truth, &layout)?;
+    let estimates = estimates
+        .iter()
+        .map(|file| {
+            let estimate = read_csv_path(file, &layout)?;
+            truth.check_comparable(&estimate)?;
+            Ok(estimate)
+        })
+        .collect::<Result<Vec<_>>>()?;
+    distance.validate(truth.set.dim(), cutoff)?;
+    Ok((truth, estimates, distance))
 }
 
 impl TrajectoryArgs {

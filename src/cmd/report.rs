@@ -6,10 +6,9 @@ use std::io::Write;
 use clap::Args;
 
 use switchyard::evaluate::{evaluate, Request};
-use switchyard::input::read_csv_path;
 use switchyard::report::html::{render, Limits, Report, TrackerResults};
 
-use super::config::check_trackers;
+use super::config::{check_trackers, read_files};
 use super::options::{CsvOptions, DistanceOptions, MetricArgs, NamedFile};
 use super::output::OutputArgs;
 
@@ -43,19 +42,20 @@ pub struct ReportArgs {
 pub fn run(args: &ReportArgs) -> anyhow::Result<()> {
     let params = args.metric.params()?;
     check_trackers(&args.truth, &args.estimate)?;
-    let files = args.estimate.iter().map(|estimate| estimate.file.as_str());
+    let files: Vec<&str> = args
+        .estimate
+        .iter()
+        .map(|named| named.file.as_str())
+        .collect();
     args.output
-        .check(std::iter::once(args.truth.as_str()).chain(files))?;
-    let distance = args.distance.build(&args.csv)?;
-    let layout = args.csv.layout(&distance);
-    let truth = read_csv_path(&args.truth, &layout)?;
-    distance.validate(truth.set.dim(), params.cutoff)?;
-    let mut estimates = Vec::with_capacity(args.estimate.len());
-    for named in &args.estimate {
-        let estimate = read_csv_path(&named.file, &layout)?;
-        truth.check_comparable(&estimate)?;
-        estimates.push(estimate);
-    }
+        .check(std::iter::once(args.truth.as_str()).chain(files.iter().copied()))?;
+    let (truth, estimates, distance) = read_files(
+        &args.truth,
+        &files,
+        &args.csv,
+        &args.distance,
+        params.cutoff,
+    )?;
     // The page shows no jumps: everything else is evaluated.
     let request = Request {
         jumps: false,
