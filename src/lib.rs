@@ -12,17 +12,21 @@
 //! switches.
 //!
 //! Modules:
+//! - [`evaluate`]: the one entry point: a truth, estimates, parameters and a request in; the
+//!   score, per-step values, switches, jumps and audit asked for out;
 //! - [`trajectory`]: trajectories, sets, evaluation windows and per-step frames;
-//! - [`input`]: the CSV reader;
+//! - [`input`]: the readers (CSV, grouped CSV, manifests) and the CSV writer;
 //! - [`distance`]: base distances and the cut-off arithmetic;
 //! - [`per_step`]: GOSPA at each step, with its parts;
 //! - [`matching`]: least-cost partial matching on a sparse bipartite graph;
 //! - [`ospa2`]: OSPA(2), the OSPA metric on trajectories, over the whole or a sliding window;
 //! - [`trajectory_metric`]: trajectory GOSPA as a linear program, reduced exactly and solved
 //!   by a Lagrangian engine whose bounds prove the value (a simplex engine where they do not);
-//! - [`synth`]: seeded synthetic scenes: a ground truth and an imaginary tracker's output;
+//! - [`assignment`]: what the LP's assignment says: switch and jump events, the coverage audit;
 //! - [`compare`]: several trackers over sequences and Monte Carlo runs: rankings, paired
 //!   bootstrap intervals, parameter sweeps;
+//! - [`report`]: result documents and their writers: text, CSV, JSON, the HTML page;
+//! - [`synth`]: seeded synthetic scenes: a ground truth and an imaginary tracker's output;
 //! - [`error`]: the error type.
 //!
 //! # Example
@@ -45,18 +49,25 @@
 //! ```
 #![warn(missing_docs)]
 
-pub mod audit;
+pub mod assignment;
 pub mod compare;
 pub mod distance;
 pub mod error;
+pub mod evaluate;
 pub mod input;
 pub mod matching;
 pub mod ospa2;
 pub mod per_step;
 pub mod report;
-pub mod switches;
 pub mod synth;
 pub mod trajectory;
 pub mod trajectory_metric;
+
+/// Former path of [`assignment::audit`], kept for code written against it.
+#[doc(hidden)]
+pub use assignment::audit;
+/// Former path of [`assignment::switches`], kept for code written against it.
+#[doc(hidden)]
+pub use assignment::switches;
 
 pub use error::{Error, Result};

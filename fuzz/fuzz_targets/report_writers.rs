@@ -8,7 +8,7 @@
 
 use libfuzzer_sys::arbitrary::{Result as Drawn, Unstructured};
 use libfuzzer_sys::fuzz_target;
-use switchyard::audit::audit;
+use switchyard::assignment::audit::audit;
 use switchyard::compare::{
     run as run_comparison, BootstrapOptions, Case, CaseKey, CompareOptions, Dataset, ResampleBy,
     TrackerData,
@@ -20,7 +20,7 @@ use switchyard::report::compare::{CompareInputs, Sections, TrackerSource};
 use switchyard::report::score::ScoreDocument;
 use switchyard::report::switches::SwitchesDocument;
 use switchyard::report::{self, Exactness, InputInfo};
-use switchyard::switches::{jump_events, switch_events};
+use switchyard::assignment::switches::{jump_events, switch_events};
 use switchyard::trajectory::{Trajectory, TrajectorySet};
 use switchyard::trajectory_metric::{score, TrajectoryParams};
 

@@ -3,13 +3,13 @@
 
 use clap::Args;
 
-use switchyard::audit::audit;
+use switchyard::evaluate::Request;
 use switchyard::report::audit::{write_csv, write_json, write_text, AuditDocument};
 use switchyard::report::{Exactness, InputInfo};
-use switchyard::switches::switch_events;
 
-use super::score::compute;
-use super::{Format, OutputArgs, TrajectoryArgs};
+use super::config::evaluate_trajectory;
+use super::options::TrajectoryArgs;
+use super::output::{Format, OutputArgs};
 
 /// Options of `audit`.
 #[derive(Args, Debug)]
@@ -27,11 +27,16 @@ pub struct AuditArgs {
 }
 
 pub fn run(args: &AuditArgs) -> anyhow::Result<()> {
-    args.output.check(args.metric.input.paths())?;
-    let (inputs, result) = compute(&args.metric)?;
-    let (truth, estimate) = (&inputs.truth.set, &inputs.estimate.set);
-    let switches = switch_events(&result.assignment, truth, estimate, &result.params);
-    let mut report = audit(&result, truth, estimate, &switches);
+    let request = Request {
+        audit: true,
+        ..Request::default()
+    };
+    let (inputs, mut evaluation) = evaluate_trajectory(&args.metric, &args.output, request)?;
+    let mut report = evaluation.audit.take().expect("the audit was asked for");
+    let result = evaluation
+        .score
+        .as_ref()
+        .expect("the audit needs the score");
     if let Some(top) = args.top {
         report.truths.truncate(top);
     }
@@ -41,7 +46,7 @@ pub fn run(args: &AuditArgs) -> anyhow::Result<()> {
         inputs: &info,
         truths: &report.truths,
         estimates: &report.estimates,
-        exactness: Exactness::new(&result),
+        exactness: Exactness::new(result),
     };
     args.output.emit(|out| {
         match args.format {

@@ -1,12 +1,9 @@
 //! `switchyard compare`: several trackers over sequences and Monte Carlo runs, ranked, each set
 //! against the best with a paired bootstrap interval; lists of parameters make a sweep.
 
-use std::io::IsTerminal;
 use std::path::Path;
 
-use anyhow::bail;
 use clap::{Args, ValueEnum};
-use indicatif::{ProgressBar, ProgressStyle};
 use rayon::prelude::*;
 
 use switchyard::compare::{
@@ -19,7 +16,12 @@ use switchyard::input::manifest::read_manifest_path;
 use switchyard::report::compare::{self as report, CompareInputs, Sections, TrackerSource};
 use switchyard::trajectory_metric::{Engine, SolveOptions};
 
-use super::{CsvOptions, DistanceOptions, EngineKind, Format, OutputArgs};
+use switchyard::Error;
+
+use super::config::check_trackers;
+use super::options::{parse_size, CsvOptions, DistanceOptions, EngineKind, NamedFile};
+use super::output::{Format, OutputArgs};
+use super::progress::evaluations_bar;
 
 /// What the bootstrap resamples, on the command line.
 #[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
@@ -46,7 +48,7 @@ pub struct CompareArgs {
     /// One tracker's output: NAME=FILE, or FILE alone (named after the file without its
     /// extension). Repeat for each tracker.
     #[arg(long, value_name = "NAME=FILE", requires = "truth")]
-    estimate: Vec<String>,
+    estimate: Vec<NamedFile>,
     /// A manifest listing, per tracker, sequence and run, the truth and estimate files: CSV
     /// with the columns tracker, sequence, run (optional), truth, estimate, or a JSON array of
     /// such objects when the name ends in .json. Paths are relative to the manifest's folder.
@@ -89,7 +91,7 @@ pub struct CompareArgs {
     #[arg(long, value_enum, default_value_t = EngineKind::Auto)]
     engine: EngineKind,
     /// Memory each case's solve may use for its models, like `4G` (see `score --help`).
-    #[arg(long, value_name = "SIZE", default_value = "4G", value_parser = super::parse_size)]
+    #[arg(long, value_name = "SIZE", default_value = "4G", value_parser = parse_size)]
     memory_budget: u64,
     /// Also rank the trackers within each sequence.
     #[arg(long)]
@@ -118,34 +120,10 @@ pub struct CompareArgs {
     output: OutputArgs,
 }
 
-/// Splits `NAME=FILE`; a value without `=` is named after the file's stem.
-pub(super) fn tracker_name(value: &str) -> anyhow::Result<(String, String)> {
-    match value.split_once('=') {
-        Some((name, file)) => {
-            let name = name.trim();
-            if name.is_empty() || file.is_empty() {
-                bail!("invalid parameter: --estimate {value:?}: expected NAME=FILE");
-            }
-            Ok((name.to_string(), file.to_string()))
-        }
-        None => {
-            let stem = Path::new(value)
-                .file_stem()
-                .map(|s| s.to_string_lossy().to_string())
-                .filter(|s| !s.is_empty() && value != "-");
-            match stem {
-                Some(name) => Ok((name, value.to_string())),
-                None => bail!("invalid parameter: --estimate {value:?} needs a name: NAME=FILE"),
-            }
-        }
-    }
-}
-
 /// Reads the data by group columns or through a manifest, each state checked for `distance`;
 /// returns it with the input description (without the distance and engine).
 fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset, CompareInputs)> {
-    let mut layout = args.csv.layout()?;
-    layout.distance = Some(distance.clone());
+    let layout = args.csv.layout(distance);
     if let Some(manifest_path) = &args.manifest {
         let manifest = read_manifest_path(manifest_path)?;
         let named = manifest
@@ -179,31 +157,15 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
         .clone()
         .expect("clap requires --truth without --manifest");
     if args.estimate.is_empty() {
-        bail!("invalid parameter: give at least one --estimate NAME=FILE");
+        return Err(Error::Parameter("give at least one --estimate NAME=FILE".into()).into());
     }
-    let named: Vec<(String, String)> = args
-        .estimate
-        .iter()
-        .map(|v| tracker_name(v))
-        .collect::<anyhow::Result<_>>()?;
-    for (i, (name, _)) in named.iter().enumerate() {
-        if named[..i].iter().any(|(n, _)| n == name) {
-            bail!("invalid parameter: two trackers are named {name:?}; name them with NAME=FILE");
-        }
-    }
-    let stdin_users = std::iter::once(&truth)
-        .chain(named.iter().map(|(_, f)| f))
-        .filter(|f| *f == "-")
-        .count();
-    if stdin_users > 1 {
-        bail!("invalid parameter: only one input can read standard input");
-    }
+    check_trackers(&truth, &args.estimate)?;
     let columns = GroupColumns {
         sequence: args.sequence_column.clone(),
         run: args.run_column.clone(),
     };
-    let paths: Vec<&String> = std::iter::once(&truth)
-        .chain(named.iter().map(|(_, f)| f))
+    let paths: Vec<&str> = std::iter::once(truth.as_str())
+        .chain(args.estimate.iter().map(|named| named.file.as_str()))
         .collect();
     args.output.check(&paths)?;
     let mut files: Vec<GroupedFile> = paths
@@ -212,9 +174,10 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
         .collect::<Vec<_>>()
         .into_iter()
         .collect::<Result<_, _>>()?;
-    let estimates: Vec<(String, GroupedFile)> = named
+    let estimates: Vec<(String, GroupedFile)> = args
+        .estimate
         .iter()
-        .map(|(n, _)| n.clone())
+        .map(|named| named.name.clone())
         .zip(files.drain(1..))
         .collect();
     let truth_file = files.pop().expect("the truth was read");
@@ -222,11 +185,12 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
     let inputs = CompareInputs {
         truth: Some(truth),
         manifest: None,
-        trackers: named
-            .into_iter()
-            .map(|(name, file)| TrackerSource {
-                name,
-                estimate: Some(file),
+        trackers: args
+            .estimate
+            .iter()
+            .map(|named| TrackerSource {
+                name: named.name.clone(),
+                estimate: Some(named.file.clone()),
             })
             .collect(),
         sequences: data.sequences().len(),
@@ -237,25 +201,12 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
     Ok((data, inputs))
 }
 
-/// A progress bar on standard error when it is a terminal, hidden otherwise.
-fn progress_bar(length: usize) -> ProgressBar {
-    if !std::io::stderr().is_terminal() {
-        return ProgressBar::hidden();
-    }
-    let bar = ProgressBar::new(length as u64);
-    if let Ok(style) = ProgressStyle::with_template(
-        "{elapsed_precise} [{bar:40}] {pos}/{len} evaluations ({per_sec}, {eta} left)",
-    ) {
-        bar.set_style(style.progress_chars("=> "));
-    }
-    bar
-}
-
 pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
     if args.format == Format::Csv && args.per_sequence && args.monte_carlo {
-        bail!(
-            "invalid parameter: csv holds one table: give --per-sequence or --monte-carlo, not both"
-        );
+        return Err(Error::Parameter(
+            "csv holds one table: give --per-sequence or --monte-carlo, not both".into(),
+        )
+        .into());
     }
     let settings = settings_grid(&args.cutoff, &args.order, args.switch_penalty.as_deref())?;
     let bootstrap = BootstrapOptions {
@@ -290,7 +241,7 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
         },
         monte_carlo: args.monte_carlo,
     };
-    let bar = progress_bar(job_count(&data, &options));
+    let bar = evaluations_bar(job_count(&data, &options));
     let result = run_comparison(&data, &distance, &options, &|| bar.inc(1));
     bar.finish_and_clear();
     let comparison = result?;
@@ -322,23 +273,4 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
         }
         Ok(())
     })
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn tracker_names_come_from_the_value_or_the_file() {
-        assert_eq!(
-            tracker_name("fast=out/a=b.csv").unwrap(),
-            ("fast".to_string(), "out/a=b.csv".to_string())
-        );
-        assert_eq!(
-            tracker_name("out/slow.csv").unwrap(),
-            ("slow".to_string(), "out/slow.csv".to_string())
-        );
-        assert!(tracker_name("=a.csv").is_err());
-        assert!(tracker_name("-").is_err());
-    }
 }

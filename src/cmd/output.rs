@@ -15,7 +15,18 @@ use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
 use anyhow::{bail, Context};
-use clap::Args;
+use clap::{Args, ValueEnum};
+
+/// Output formats.
+#[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Format {
+    /// Aligned tables for people.
+    Text,
+    /// Comma-separated values, one row per item.
+    Csv,
+    /// One JSON document.
+    Json,
+}
 
 /// Where the output goes.
 #[derive(Args, Debug, Clone)]
@@ -82,11 +93,12 @@ impl OutputArgs {
                 } else {
                     input.display().to_string()
                 };
-                bail!(
-                    "invalid parameter: the output {} is the input {input}; refusing to \
-                     overwrite an input (choose another output file)",
+                return Err(switchyard::Error::Parameter(format!(
+                    "the output {} is the input {input}; refusing to overwrite an input \
+                     (choose another output file)",
                     path.display()
-                );
+                ))
+                .into());
             }
         }
         Ok(())

@@ -3,14 +3,14 @@
 
 use std::io::Write;
 
-use anyhow::bail;
 use clap::Args;
 
-use switchyard::input::read_csv_path;
+use switchyard::evaluate::{evaluate, Request};
 use switchyard::report::html::{render, Limits, Report, TrackerResults};
 
-use super::compare::tracker_name;
-use super::{CsvOptions, DistanceOptions, MetricArgs, OutputArgs};
+use super::config::{check_trackers, read_files};
+use super::options::{CsvOptions, DistanceOptions, MetricArgs, NamedFile};
+use super::output::OutputArgs;
 
 /// Options of `report`.
 #[derive(Args, Debug)]
@@ -22,7 +22,7 @@ pub struct ReportArgs {
     /// extension). Repeat for each tracker: each gets its own charts and a column in the
     /// summary.
     #[arg(long, value_name = "NAME=FILE", required = true)]
-    estimate: Vec<String>,
+    estimate: Vec<NamedFile>,
     #[command(flatten)]
     csv: CsvOptions,
     #[command(flatten)]
@@ -41,40 +41,42 @@ pub struct ReportArgs {
 
 pub fn run(args: &ReportArgs) -> anyhow::Result<()> {
     let params = args.metric.params()?;
-    let mut named: Vec<(String, String)> = Vec::with_capacity(args.estimate.len());
-    for value in &args.estimate {
-        let (name, file) = tracker_name(value)?;
-        if named.iter().any(|(other, _)| *other == name) {
-            bail!("invalid parameter: two trackers are named {name:?}; name them with NAME=FILE");
-        }
-        named.push((name, file));
-    }
-    let inputs = || std::iter::once(&args.truth).chain(named.iter().map(|(_, file)| file));
-    args.output.check(inputs())?;
-    let stdin_readers = inputs().filter(|file| *file == "-").count();
-    if stdin_readers > 1 {
-        bail!("invalid parameter: only one input can read standard input");
-    }
-    let distance = args.distance.build(&args.csv)?;
-    let mut layout = args.csv.layout()?;
-    layout.distance = Some(distance.clone());
-    let truth = read_csv_path(&args.truth, &layout)?;
-    distance.validate(truth.set.dim(), params.cutoff)?;
-    let options = args.metric.solve_options();
-    let mut trackers = Vec::with_capacity(named.len());
-    for (name, file) in named {
-        let estimate = read_csv_path(&file, &layout)?;
-        truth.check_comparable(&estimate)?;
-        trackers.push(TrackerResults::compute(
-            name,
-            estimate.source,
-            &truth.set,
-            estimate.set,
-            &params,
-            &distance,
-            &options,
-        )?);
-    }
+    check_trackers(&args.truth, &args.estimate)?;
+    let files: Vec<&str> = args
+        .estimate
+        .iter()
+        .map(|named| named.file.as_str())
+        .collect();
+    args.output
+        .check(std::iter::once(args.truth.as_str()).chain(files.iter().copied()))?;
+    let (truth, estimates, distance) = read_files(
+        &args.truth,
+        &files,
+        &args.csv,
+        &args.distance,
+        params.cutoff,
+    )?;
+    // The page shows no jumps: everything else is evaluated.
+    let request = Request {
+        jumps: false,
+        ..Request::everything(params, args.metric.solve_options())?
+    };
+    let sets: Vec<_> = estimates.iter().map(|estimate| &estimate.set).collect();
+    let evaluations = evaluate(&truth.set, &sets, &distance, &request, &|_| {})?;
+    let trackers = args
+        .estimate
+        .iter()
+        .zip(estimates)
+        .zip(evaluations)
+        .map(|((named, estimate), evaluation)| {
+            TrackerResults::new(
+                named.name.clone(),
+                estimate.source,
+                estimate.set,
+                evaluation,
+            )
+        })
+        .collect::<switchyard::Result<Vec<_>>>()?;
     let report = Report {
         title: args.title.clone(),
         truth: truth.set,

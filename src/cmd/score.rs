@@ -2,11 +2,12 @@
 
 use clap::Args;
 
+use switchyard::evaluate::Request;
 use switchyard::report::{score, InputInfo};
-use switchyard::switches::{jump_events, switch_events};
-use switchyard::trajectory_metric::{score_with_progress, TrajectoryScore};
 
-use super::{Format, Inputs, OutputArgs, TrajectoryArgs};
+use super::config::evaluate_trajectory;
+use super::options::TrajectoryArgs;
+use super::output::{Format, OutputArgs};
 
 /// Options of `score`.
 #[derive(Args, Debug)]
@@ -20,40 +21,28 @@ pub struct ScoreArgs {
     output: OutputArgs,
 }
 
-/// Reads the inputs and solves the trajectory LP: shared by the commands built on it.
-pub fn compute(args: &TrajectoryArgs) -> anyhow::Result<(Inputs, TrajectoryScore)> {
-    let params = args.params()?;
-    let inputs = args.input.read(params.cutoff)?;
-    let result = score_with_progress(
-        &inputs.truth.set,
-        &inputs.estimate.set,
-        &params,
-        &inputs.distance,
-        &args.metric.solve_options(),
-        &super::solve_progress(),
-    )?;
-    for note in &result.notes {
-        eprintln!("switchyard: note: {note}");
-    }
-    Ok((inputs, result))
-}
-
 pub fn run(args: &ScoreArgs) -> anyhow::Result<()> {
-    args.output.check(args.metric.input.paths())?;
-    let (inputs, result) = compute(&args.metric)?;
+    // The JSON document lists the switches and the jumps; the other formats the score only.
+    let events = args.format == Format::Json;
+    let request = Request {
+        switches: events,
+        jumps: events,
+        ..Request::default()
+    };
+    let (inputs, evaluation) = evaluate_trajectory(&args.metric, &args.output, request)?;
+    let result = evaluation.score.as_ref().expect("the score was asked for");
     let info = InputInfo::new(&inputs.truth, &inputs.estimate, &inputs.distance);
     let engine = args.metric.engine_name();
     args.output.emit(|out| {
         match args.format {
             Format::Json => {
-                let (truth, estimate) = (&inputs.truth.set, &inputs.estimate.set);
-                let switches = switch_events(&result.assignment, truth, estimate, &result.params);
-                let jumps = jump_events(&result.assignment, truth, estimate, &result.params);
-                let document = score::ScoreDocument::new(&result, &info, engine, &switches, &jumps);
+                let switches = evaluation.switches.as_deref().unwrap_or_default();
+                let jumps = evaluation.jumps.as_deref().unwrap_or_default();
+                let document = score::ScoreDocument::new(result, &info, engine, switches, jumps);
                 score::write_json(out, &document)?
             }
-            Format::Csv => score::write_csv(out, &result)?,
-            Format::Text => score::write_text(out, &result, &info, engine)?,
+            Format::Csv => score::write_csv(out, result)?,
+            Format::Text => score::write_text(out, result, &info, engine)?,
         }
         Ok(())
     })

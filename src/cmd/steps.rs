@@ -2,10 +2,13 @@
 
 use clap::Args;
 
-use switchyard::per_step::{occupied_steps, GospaParams};
+use switchyard::evaluate::Request;
+use switchyard::per_step::GospaParams;
 use switchyard::report::{steps, InputInfo};
 
-use super::{Format, InputArgs, Inputs, OutputArgs};
+use super::config::evaluate_single;
+use super::options::InputArgs;
+use super::output::{Format, OutputArgs};
 
 /// Options of `steps`.
 #[derive(Args, Debug)]
@@ -31,13 +34,10 @@ pub struct StepsArgs {
 pub fn run(args: &StepsArgs) -> anyhow::Result<()> {
     args.output.check(args.input.paths())?;
     let params = GospaParams::new(args.cutoff, args.order, args.alpha)?;
-    let Inputs {
-        truth,
-        estimate,
-        distance,
-    } = args.input.read(args.cutoff)?;
-    let series = occupied_steps(&truth.set, &estimate.set, &params, &distance)?;
-    let info = InputInfo::new(&truth, &estimate, &distance);
+    let inputs = args.input.read(args.cutoff)?;
+    let evaluation = evaluate_single(&inputs, &Request::steps(params), &|_| {})?;
+    let series = evaluation.steps.expect("the steps were asked for");
+    let info = InputInfo::new(&inputs.truth, &inputs.estimate, &inputs.distance);
     args.output.emit(|out| {
         match args.format {
             Format::Text => steps::write_text(out, &series, &params, &info)?,

@@ -2,12 +2,13 @@
 
 use clap::Args;
 
+use switchyard::evaluate::Request;
 use switchyard::report::switches::{write_csv, write_json, write_text, SwitchesDocument};
 use switchyard::report::{Exactness, InputInfo};
-use switchyard::switches::{jump_events, switch_events};
 
-use super::score::compute;
-use super::{Format, OutputArgs, TrajectoryArgs};
+use super::config::evaluate_trajectory;
+use super::options::TrajectoryArgs;
+use super::output::{Format, OutputArgs};
 
 /// Options of `switches`.
 #[derive(Args, Debug)]
@@ -22,25 +23,29 @@ pub struct SwitchesArgs {
 }
 
 pub fn run(args: &SwitchesArgs) -> anyhow::Result<()> {
-    args.output.check(args.metric.input.paths())?;
-    let (inputs, result) = compute(&args.metric)?;
-    let (truth, estimate) = (&inputs.truth.set, &inputs.estimate.set);
-    let switches = switch_events(&result.assignment, truth, estimate, &result.params);
-    let jumps = jump_events(&result.assignment, truth, estimate, &result.params);
+    let request = Request {
+        switches: true,
+        jumps: true,
+        ..Request::default()
+    };
+    let (inputs, evaluation) = evaluate_trajectory(&args.metric, &args.output, request)?;
+    let result = evaluation.score.as_ref().expect("the score was asked for");
+    let switches = evaluation.switches.as_deref().unwrap_or_default();
+    let jumps = evaluation.jumps.as_deref().unwrap_or_default();
     let info = InputInfo::new(&inputs.truth, &inputs.estimate, &inputs.distance);
     let document = SwitchesDocument {
         params: &result.params,
         inputs: &info,
         switching: result.parts.switching,
         switch_count: result.parts.switch_count,
-        switches: &switches,
-        jumps: &jumps,
-        exactness: Exactness::new(&result),
+        switches,
+        jumps,
+        exactness: Exactness::new(result),
     };
     args.output.emit(|out| {
         match args.format {
             Format::Text => write_text(out, &document)?,
-            Format::Csv => write_csv(out, &switches, &jumps)?,
+            Format::Csv => write_csv(out, switches, jumps)?,
             Format::Json => write_json(out, &document)?,
         }
         Ok(())

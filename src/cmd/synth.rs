@@ -3,7 +3,6 @@
 
 use std::path::PathBuf;
 
-use anyhow::bail;
 use clap::{Args, ValueEnum};
 
 use switchyard::input::write_csv;
@@ -12,9 +11,9 @@ use switchyard::synth::{
     TrackerStyle,
 };
 use switchyard::trajectory::TrajectorySet;
+use switchyard::Error;
 
-use super::output::same_output;
-use super::OutputArgs;
+use super::output::{same_output, OutputArgs};
 
 /// The scenes offered on the command line.
 #[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
@@ -157,11 +156,14 @@ impl SynthArgs {
 
 pub fn run(args: &SynthArgs) -> anyhow::Result<()> {
     if args.truth_out.is_none() && args.estimate_out.is_none() {
-        bail!("invalid parameter: give --truth-out, --estimate-out or both");
+        return Err(Error::Parameter("give --truth-out, --estimate-out or both".into()).into());
     }
     if let (Some(truth), Some(estimate)) = (&args.truth_out, &args.estimate_out) {
         if same_output(truth, estimate) {
-            bail!("invalid parameter: --truth-out and --estimate-out name the same file");
+            return Err(Error::Parameter(
+                "--truth-out and --estimate-out name the same file".into(),
+            )
+            .into());
         }
     }
     // Both outputs are checked before either is written, so that neither is left alone.

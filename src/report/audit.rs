@@ -5,7 +5,7 @@ use std::io::Write;
 use serde::Serialize;
 
 use super::{count, fixed, printable, write_run_header, write_table, Exactness, InputInfo};
-use crate::audit::{EstimateAudit, TruthAudit};
+use crate::assignment::audit::{EstimateAudit, TruthAudit};
 use crate::trajectory::Step;
 use crate::trajectory_metric::TrajectoryParams;
 

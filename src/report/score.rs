@@ -5,7 +5,7 @@ use std::io::Write;
 use serde::Serialize;
 
 use super::{certificate_line, count, fixed, plural, write_run_header, Exactness, InputInfo};
-use crate::switches::{JumpEvent, SwitchEvent};
+use crate::assignment::switches::{JumpEvent, SwitchEvent};
 use crate::trajectory::Window;
 use crate::trajectory_metric::{Certificate, Parts, SolveStats, TrajectoryParams, TrajectoryScore};
 

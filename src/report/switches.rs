@@ -5,7 +5,7 @@ use std::io::Write;
 use serde::Serialize;
 
 use super::{fixed, write_run_header, write_table, Exactness, InputInfo};
-use crate::switches::{JumpEvent, SwitchEvent};
+use crate::assignment::switches::{JumpEvent, SwitchEvent};
 use crate::trajectory::Step;
 use crate::trajectory_metric::TrajectoryParams;
 

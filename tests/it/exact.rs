@@ -490,7 +490,7 @@ fn fractional_fixtures_match_scipy_and_the_brute_force() {
                 f.name
             );
         }
-        let events = switchyard::switches::switch_events(&s.assignment, x, y, params);
+        let events = switchyard::assignment::switches::switch_events(&s.assignment, x, y, params);
         assert!(events.iter().all(|e| e.weight == 1.0), "{}", f.name);
         let cost: f64 = events.iter().map(|e| e.cost).sum();
         assert!(close(cost, s.parts.switching), "{}", f.name);

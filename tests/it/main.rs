@@ -4,6 +4,7 @@ mod bad_input;
 mod cli;
 mod compare;
 mod distances;
+mod evaluate;
 mod exact;
 mod lagrangian;
 mod messages;

@@ -199,7 +199,8 @@ fn switch_events_account_for_fractional_solutions() {
             continue;
         }
         fractional += 1;
-        let events = switchyard::switches::switch_events(&s.assignment, &x, &y, &params);
+        let events =
+            switchyard::assignment::switches::switch_events(&s.assignment, &x, &y, &params);
         let cost: f64 = events.iter().map(|e| e.cost).sum();
         assert_relative_eq!(cost, s.parts.switching, epsilon = 1e-9, max_relative = 1e-9);
         let moved: f64 = events

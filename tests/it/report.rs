@@ -14,6 +14,7 @@ use std::time::{Duration, Instant};
 use assert_cmd::Command;
 use roxmltree::{Document, Node, ParsingOptions};
 use switchyard::distance::Distance;
+use switchyard::evaluate::{evaluate, Request};
 use switchyard::report::html::{render, Limits, Report, TrackerResults};
 use switchyard::trajectory::{Step, Trajectory, TrajectorySet};
 use switchyard::trajectory_metric::{SolveOptions, TrajectoryParams};
@@ -80,16 +81,17 @@ fn report_of(trackers: Vec<(&str, TrajectorySet)>, truth: TrajectorySet) -> Repo
     let trackers = trackers
         .into_iter()
         .map(|(name, estimate)| {
-            TrackerResults::compute(
-                name,
-                format!("{name}.csv"),
+            let request = Request::everything(params, SolveOptions::default()).unwrap();
+            let evaluation = evaluate(
                 &truth,
-                estimate,
-                &params,
+                &[&estimate],
                 &Distance::default(),
-                &SolveOptions::default(),
+                &request,
+                &|_| {},
             )
             .unwrap()
+            .remove(0);
+            TrackerResults::new(name, format!("{name}.csv"), estimate, evaluation).unwrap()
         })
         .collect();
     Report {

@@ -8,9 +8,9 @@
 
 use approx::assert_relative_eq;
 use proptest::prelude::*;
-use switchyard::audit::audit;
+use switchyard::assignment::audit::audit;
+use switchyard::assignment::switches::{jump_events, switch_events, JumpEvent, SwitchEvent};
 use switchyard::distance::Distance;
-use switchyard::switches::{jump_events, switch_events, JumpEvent, SwitchEvent};
 use switchyard::trajectory::TrajectorySet;
 use switchyard::trajectory_metric::{score, TrajectoryParams, TrajectoryScore};
 

@@ -9,11 +9,11 @@
 use std::collections::HashMap;
 use std::fmt::Write;
 
-use super::errors::describe;
+use super::over_time::describe;
 use super::style::{self, Style, INK, MISSED};
 use super::svg::{self, esc, n};
 use super::{plural, Context, Figure, RIGHT, WIDTH};
-use crate::switches::SwitchEvent;
+use crate::assignment::switches::SwitchEvent;
 use crate::trajectory::Step;
 
 const ROW_H: f64 = 17.0;

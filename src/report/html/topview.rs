@@ -8,7 +8,7 @@
 use std::collections::BTreeMap;
 use std::fmt::Write;
 
-use super::errors::describe;
+use super::over_time::describe;
 use super::style::{self, INK};
 use super::svg::{self, esc, n, Scale};
 use super::{Context, Figure, RIGHT, WIDTH};

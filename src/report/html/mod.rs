@@ -12,8 +12,8 @@
 //! The markup is also well-formed XML (every element closed, no named entities), so it can be
 //! checked with an XML parser; the same result structs give the same bytes.
 
-mod errors;
 mod identity;
+mod over_time;
 mod style;
 mod summary;
 mod svg;
@@ -21,13 +21,13 @@ mod topview;
 
 use std::fmt::Write;
 
-use crate::audit::{audit, Audit};
-use crate::distance::Distance;
-use crate::error::Result;
-use crate::per_step::{occupied_steps, GospaParams, OccupiedSteps};
-use crate::switches::{switch_events, SwitchEvent};
+use crate::assignment::audit::Audit;
+use crate::assignment::switches::SwitchEvent;
+use crate::error::{Error, Result};
+use crate::evaluate::Evaluation;
+use crate::per_step::OccupiedSteps;
 use crate::trajectory::{TrajectorySet, Window};
-use crate::trajectory_metric::{score_with, SolveOptions, TrajectoryParams, TrajectoryScore};
+use crate::trajectory_metric::TrajectoryScore;
 
 use self::style::Style;
 use self::svg::esc;
@@ -53,26 +53,32 @@ pub struct TrackerResults {
 }
 
 impl TrackerResults {
-    /// Computes everything the report needs for one tracker: trajectory GOSPA, per-step GOSPA
-    /// with alpha = 2 and the same cut-off and order, the switch events and the audit.
+    /// One tracker's results for the page, from its evaluation: the report needs the score,
+    /// the per-step values (alpha = 2), the switch events and the audit
+    /// ([`Request::everything`](crate::evaluate::Request::everything) asks for them).
     ///
     /// # Errors
-    /// As [`score_with`] and [`occupied_steps`]: sets of different dimensions, a window too long, an
-    /// LP engine failure.
-    pub fn compute(
+    /// [`Error::Parameter`] when the evaluation lacks one of them.
+    pub fn new(
         name: impl Into<String>,
         source: impl Into<String>,
-        truth: &TrajectorySet,
         estimate: TrajectorySet,
-        params: &TrajectoryParams,
-        distance: &Distance,
-        options: &SolveOptions,
+        evaluation: Evaluation,
     ) -> Result<Self> {
-        let score = score_with(truth, &estimate, params, distance, options)?;
-        let gospa = GospaParams::new(params.cutoff, params.order, 2.0)?;
-        let steps = occupied_steps(truth, &estimate, &gospa, distance)?;
-        let switches = switch_events(&score.assignment, truth, &estimate, &score.params);
-        let audit = audit(&score, truth, &estimate, &switches);
+        let Evaluation {
+            score: Some(score),
+            steps: Some(steps),
+            switches: Some(switches),
+            audit: Some(audit),
+            ..
+        } = evaluation
+        else {
+            return Err(Error::Parameter(
+                "the report shows trajectory GOSPA, per-step GOSPA, the switches and the audit: \
+                 evaluate them all"
+                    .into(),
+            ));
+        };
         Ok(TrackerResults {
             name: name.into(),
             source: source.into(),
@@ -322,8 +328,8 @@ fn tracker_section(out: &mut String, context: &Context, has_window: bool) {
         (
             "errors",
             "Errors over time",
-            errors::caption(context),
-            has_window.then(|| errors::chart(context)),
+            over_time::caption(context),
+            has_window.then(|| over_time::chart(context)),
         ),
         (
             "identity",

@@ -12,8 +12,8 @@
 
 use serde::Serialize;
 
+use crate::assignment::switches::SwitchEvent;
 use crate::distance::root;
-use crate::switches::SwitchEvent;
 use crate::trajectory::{Step, TrajectorySet};
 use crate::trajectory_metric::TrajectoryScore;
 

@@ -9,7 +9,7 @@ use std::fmt::Write;
 use super::style::{self, Style, FALSE, INK, LOCALISATION, MISSED};
 use super::svg::{self, esc, n, Scale};
 use super::{Context, Figure, RIGHT, WIDTH};
-use crate::switches::SwitchEvent;
+use crate::assignment::switches::SwitchEvent;
 use crate::trajectory::Step;
 
 const LEGEND_H: f64 = 26.0;
