@@ -9,8 +9,9 @@ use crate::assignment::audit::{audit, Audit};
 use crate::assignment::switches::{jump_events, switch_events, JumpEvent, SwitchEvent};
 use crate::distance::Distance;
 use crate::error::{Error, Result};
+use crate::ospa2::{Ospa2, Ospa2Params, Ospa2Score};
 use crate::per_step::{occupied_steps, GospaParams, OccupiedSteps};
-use crate::trajectory::TrajectorySet;
+use crate::trajectory::{Step, TrajectorySet};
 use crate::trajectory_metric::{
     score_with_progress, Progress, SolveOptions, TrajectoryParams, TrajectoryScore,
 };
@@ -32,6 +33,11 @@ pub struct Request {
     pub jumps: bool,
     /// How each truth was covered over time, worst first, and what each track followed.
     pub audit: bool,
+    /// OSPA(2) with these parameters, over the whole window.
+    pub ospa2: Option<Ospa2Params>,
+    /// OSPA(2) over a sliding window of this many steps, with the parameters of `ospa2`
+    /// (needs them).
+    pub ospa2_window: Option<usize>,
 }
 
 impl Request {
@@ -82,6 +88,10 @@ pub struct Evaluation {
     pub jumps: Option<Vec<JumpEvent>>,
     /// How each truth was covered, worst first.
     pub audit: Option<Audit>,
+    /// OSPA(2) over the whole window, with its pairs.
+    pub ospa2: Option<Ospa2Score>,
+    /// OSPA(2) over the sliding window ending at each step whose window holds a state.
+    pub ospa2_sliding: Option<Vec<(Step, f64)>>,
 }
 
 /// Evaluates each of `estimates` against `truth` with the base distance `distance`, computing
@@ -148,6 +158,11 @@ pub fn evaluate(
                 .into(),
         ));
     }
+    if request.ospa2.is_none() && request.ospa2_window.is_some() {
+        return Err(Error::Parameter(
+            "the sliding OSPA(2) needs the OSPA(2) parameters".into(),
+        ));
+    }
     estimates
         .iter()
         .map(|estimate| evaluate_one(truth, estimate, distance, request, trajectory, progress))
@@ -195,11 +210,22 @@ fn evaluate_one(
             switches = None;
         }
     }
+    let (mut ospa2, mut ospa2_sliding) = (None, None);
+    if let Some(params) = request.ospa2 {
+        let metric = Ospa2::new(truth, estimate, params, distance)?;
+        ospa2 = Some(metric.whole());
+        if let Some(width) = request.ospa2_window {
+            let values = metric.sliding(width);
+            ospa2_sliding = Some(values.into_iter().map(|(k, s)| (k, s.value)).collect());
+        }
+    }
     Ok(Evaluation {
         score,
         steps,
         switches,
         jumps,
         audit: coverage,
+        ospa2,
+        ospa2_sliding,
     })
 }

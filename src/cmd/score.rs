@@ -3,6 +3,8 @@
 use clap::Args;
 
 use switchyard::evaluate::Request;
+use switchyard::ospa2::Ospa2Params;
+use switchyard::report::ospa2::{self, Ospa2Document};
 use switchyard::report::{score, InputInfo};
 
 use super::config::evaluate_trajectory;
@@ -17,6 +19,10 @@ pub struct ScoreArgs {
     /// Output format (text, json, or csv: one row of the score and its parts).
     #[arg(long, short = 'f', value_enum, default_value_t = Format::Text)]
     format: Format,
+    /// Also give OSPA(2) with the same cut-off and order: the OSPA metric on trajectories with
+    /// a time-averaged distance, normalised to [0, c], as a second opinion (specs/ospa2.md).
+    #[arg(long)]
+    ospa2: bool,
     #[command(flatten)]
     output: OutputArgs,
 }
@@ -24,25 +30,50 @@ pub struct ScoreArgs {
 pub fn run(args: &ScoreArgs) -> anyhow::Result<()> {
     // The JSON document lists the switches and the jumps; the other formats the score only.
     let events = args.format == Format::Json;
+    let ospa2 = if args.ospa2 {
+        let params = args.metric.params()?;
+        Some(Ospa2Params::new(params.cutoff, params.order)?)
+    } else {
+        None
+    };
     let request = Request {
         switches: events,
         jumps: events,
+        ospa2,
         ..Request::default()
     };
     let (inputs, evaluation) = evaluate_trajectory(&args.metric, &args.output, request)?;
     let result = evaluation.score.as_ref().expect("the score was asked for");
     let info = InputInfo::new(&inputs.truth, &inputs.estimate, &inputs.distance);
     let engine = args.metric.engine_name();
+    let second = match (&evaluation.ospa2, &ospa2) {
+        (Some(value), Some(params)) => Some(Ospa2Document::new(
+            value,
+            params,
+            &inputs.truth.set,
+            &inputs.estimate.set,
+        )),
+        _ => None,
+    };
     args.output.emit(|out| {
         match args.format {
             Format::Json => {
                 let switches = evaluation.switches.as_deref().unwrap_or_default();
                 let jumps = evaluation.jumps.as_deref().unwrap_or_default();
-                let document = score::ScoreDocument::new(result, &info, engine, switches, jumps);
+                let mut document =
+                    score::ScoreDocument::new(result, &info, engine, switches, jumps);
+                if let Some(second) = &second {
+                    document = document.with_ospa2(second.clone());
+                }
                 score::write_json(out, &document)?
             }
-            Format::Csv => score::write_csv(out, result)?,
-            Format::Text => score::write_text(out, result, &info, engine)?,
+            Format::Csv => score::write_csv_with(out, result, second.as_ref())?,
+            Format::Text => {
+                score::write_text(out, result, &info, engine)?;
+                if let Some(second) = &second {
+                    ospa2::write_text(out, second)?;
+                }
+            }
         }
         Ok(())
     })

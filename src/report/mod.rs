@@ -5,6 +5,7 @@
 pub mod audit;
 pub mod compare;
 pub mod html;
+pub mod ospa2;
 pub mod score;
 pub mod steps;
 pub mod switches;

@@ -4,6 +4,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
+use super::ospa2::Ospa2Document;
 use super::{certificate_line, count, fixed, plural, write_run_header, Exactness, InputInfo};
 use crate::assignment::switches::{JumpEvent, SwitchEvent};
 use crate::trajectory::Window;
@@ -43,6 +44,9 @@ pub struct ScoreDocument<'a> {
     pub switches: &'a [SwitchEvent],
     /// Jumps seen from the estimates (keys: time, estimate, from, to, weight, cost).
     pub jumps: &'a [JumpEvent],
+    /// OSPA(2) beside it, when asked for (`--ospa2`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub ospa2: Option<Ospa2Document<'a>>,
 }
 
 impl<'a> ScoreDocument<'a> {
@@ -69,6 +73,15 @@ impl<'a> ScoreDocument<'a> {
             certificate: &score.certificate,
             switches,
             jumps,
+            ospa2: None,
+        }
+    }
+
+    /// The same document with OSPA(2) beside the score.
+    pub fn with_ospa2(self, ospa2: Ospa2Document<'a>) -> Self {
+        ScoreDocument {
+            ospa2: Some(ospa2),
+            ..self
         }
     }
 }
@@ -81,8 +94,17 @@ pub fn write_json<W: Write>(out: &mut W, document: &ScoreDocument) -> std::io::R
 
 /// CSV: a header and one row, the score and its parts (columns in `specs/formats.md`).
 pub fn write_csv<W: Write>(out: &mut W, score: &TrajectoryScore) -> std::io::Result<()> {
+    write_csv_with(out, score, None)
+}
+
+/// [`write_csv`], with OSPA(2) and its pair count as two more columns when given.
+pub fn write_csv_with<W: Write>(
+    out: &mut W,
+    score: &TrajectoryScore,
+    ospa2: Option<&Ospa2Document>,
+) -> std::io::Result<()> {
     let mut writer = csv::Writer::from_writer(&mut *out);
-    writer.write_record([
+    let mut header = vec![
         "metric",
         "total",
         "per_step",
@@ -96,7 +118,11 @@ pub fn write_csv<W: Write>(out: &mut W, score: &TrajectoryScore) -> std::io::Res
         "switch_count",
         "integral",
         "exact_total",
-    ])?;
+    ];
+    if ospa2.is_some() {
+        header.extend(["ospa2", "ospa2_pairs"]);
+    }
+    writer.write_record(&header)?;
     let numbers = [
         score.metric,
         score.total,
@@ -113,6 +139,10 @@ pub fn write_csv<W: Write>(out: &mut W, score: &TrajectoryScore) -> std::io::Res
     let mut row: Vec<String> = numbers.iter().map(f64::to_string).collect();
     row.push(score.integral.to_string());
     row.push(super::csv_number(score.exact_total));
+    if let Some(ospa2) = ospa2 {
+        row.push(ospa2.value.to_string());
+        row.push(ospa2.pairs.len().to_string());
+    }
     writer.write_record(&row)?;
     writer.flush()
 }

@@ -75,3 +75,70 @@ fn ospa2_matches_scipy_assignment_whole_and_sliding() {
     }
     assert!(windows > 300);
 }
+
+/// `score --ospa2` through the real binary on the hand case of `src/ospa2.rs`, derived from the
+/// definition (Beard, Vo, Vo 2020) with c = 2, p = 1: truth a on x = 0 at steps 1-4; track p at
+/// x = 0.5 (steps 1-2) and x = 5 (steps 3-4), track q at x = 0 (steps 3-4).
+/// d(a, p) = (0.5 + 0.5 + 2 + 2) / 4 = 1.25, d(a, q) = (2 + 2 + 0 + 0) / 4 = 1; one truth, two
+/// tracks: OSPA(2) = (1 + 2) / 2 = 1.5, paired part 1/2, unpaired part 2/2.
+#[test]
+fn score_gives_ospa2_beside_trajectory_gospa() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = dir.path().join("truth.csv");
+    let estimate = dir.path().join("estimate.csv");
+    std::fs::write(&truth, "time,id,x\n1,a,0\n2,a,0\n3,a,0\n4,a,0\n").unwrap();
+    std::fs::write(
+        &estimate,
+        "time,id,x\n1,p,0.5\n2,p,0.5\n3,p,5\n4,p,5\n3,q,0\n4,q,0\n",
+    )
+    .unwrap();
+    let base = |format: &str| -> Vec<String> {
+        let mut args: Vec<String> = ["score", "--truth"].map(String::from).to_vec();
+        args.push(truth.to_str().unwrap().into());
+        args.push("--estimate".into());
+        args.push(estimate.to_str().unwrap().into());
+        args.extend(["--state-columns", "x", "-c", "2", "--ospa2", "-f", format].map(String::from));
+        args
+    };
+    let json: serde_json::Value = serde_json::from_slice(&crate::cli::run(&base("json"))).unwrap();
+    let ospa2 = &json["ospa2"];
+    assert_relative_eq!(ospa2["value"].as_f64().unwrap(), 1.5, epsilon = 1e-12);
+    assert_relative_eq!(
+        ospa2["paired_power"].as_f64().unwrap(),
+        0.5,
+        epsilon = 1e-12
+    );
+    assert_relative_eq!(
+        ospa2["unpaired_power"].as_f64().unwrap(),
+        1.0,
+        epsilon = 1e-12
+    );
+    assert_eq!(ospa2["pairs"][0]["truth"], "a");
+    assert_eq!(ospa2["pairs"][0]["estimate"], "q");
+    assert_relative_eq!(
+        ospa2["pairs"][0]["distance"].as_f64().unwrap(),
+        1.0,
+        epsilon = 1e-12
+    );
+    let csv = String::from_utf8(crate::cli::run(&base("csv"))).unwrap();
+    let mut lines = csv.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let row: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let column = |name: &str| row[header.iter().position(|h| *h == name).unwrap()];
+    assert_relative_eq!(
+        column("ospa2").parse::<f64>().unwrap(),
+        1.5,
+        epsilon = 1e-12
+    );
+    assert_eq!(column("ospa2_pairs"), "1");
+    let text = String::from_utf8(crate::cli::run(&base("text"))).unwrap();
+    assert!(
+        text.contains("OSPA(2), c = 2, p = 1 (normalised, 0 to c): 1.5000"),
+        "{text}"
+    );
+    // Without --ospa2 the documents carry no such key or column.
+    let mut plain = base("json");
+    plain.retain(|a| a != "--ospa2");
+    let json: serde_json::Value = serde_json::from_slice(&crate::cli::run(&plain)).unwrap();
+    assert!(json.get("ospa2").is_none());
+}
