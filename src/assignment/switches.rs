@@ -294,3 +294,132 @@ pub fn jump_events(
         })
         .collect()
 }
+
+/// How the switch events read to a person: the truth-side events sorted into kinds, each event
+/// into exactly one.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize)]
+pub struct SwitchKinds {
+    /// Events from one track to another (each counts 1 in `switch_count`).
+    pub full: usize,
+    /// Events to or from unassigned (each counts 0.5).
+    pub half: usize,
+    /// Swaps: two truths exchanging their tracks at one step (two full events each).
+    pub swaps: usize,
+    /// Breaks: a full event whose old track has no state at that step (it ended or paused and
+    /// another track took over).
+    pub breaks: usize,
+    /// Hand-overs: the other full events (the old track goes on, following something else or
+    /// nothing).
+    pub handovers: usize,
+}
+
+/// Sorts truth-side switch `events` (as from [`switch_events`]) into [`SwitchKinds`]: a swap
+/// is a pair of full events at one step, truth A from track X to Y and truth B from Y to X; a
+/// full event not in a swap is a break when X has no state at that step in `estimate`, else a
+/// hand-over.
+pub fn switch_kinds(events: &[SwitchEvent], estimate: &TrajectorySet) -> SwitchKinds {
+    let mut kinds = SwitchKinds::default();
+    let full: Vec<&SwitchEvent> = events
+        .iter()
+        .filter(|e| e.from.is_some() && e.to.is_some())
+        .collect();
+    kinds.full = full.len();
+    kinds.half = events.len() - full.len();
+    let mut in_swap = vec![false; full.len()];
+    for a in 0..full.len() {
+        if in_swap[a] {
+            continue;
+        }
+        let partner = (a + 1..full.len()).find(|&b| {
+            !in_swap[b]
+                && full[b].time == full[a].time
+                && full[b].truth != full[a].truth
+                && full[b].from == full[a].to
+                && full[b].to == full[a].from
+        });
+        if let Some(b) = partner {
+            in_swap[a] = true;
+            in_swap[b] = true;
+            kinds.swaps += 1;
+        }
+    }
+    let ids: std::collections::HashMap<&str, usize> = estimate
+        .trajectories()
+        .iter()
+        .enumerate()
+        .map(|(k, t)| (t.id(), k))
+        .collect();
+    for (event, swapped) in full.iter().zip(&in_swap) {
+        if *swapped {
+            continue;
+        }
+        let from = event
+            .from
+            .as_deref()
+            .expect("a full event has a track before");
+        let present = ids
+            .get(from)
+            .is_some_and(|&k| estimate.get(k).state_at(event.time).is_some());
+        if present {
+            kinds.handovers += 1;
+        } else {
+            kinds.breaks += 1;
+        }
+    }
+    kinds
+}
+
+#[cfg(test)]
+mod kinds_tests {
+    use super::*;
+    use crate::trajectory::Trajectory;
+
+    fn event(time: Step, truth: &str, from: Option<&str>, to: Option<&str>) -> SwitchEvent {
+        SwitchEvent {
+            time,
+            truth: truth.into(),
+            from: from.map(Into::into),
+            to: to.map(Into::into),
+            weight: 1.0,
+            cost: 1.0,
+        }
+    }
+
+    // Counted by hand from the definitions above: at step 5 A and B exchange X and Y (one
+    // swap); at step 7 C passes from Z, which has no state at 7, to W (a break); at step 8 A
+    // passes from Y, still present, to W (a hand-over); at step 9 B loses its track (half).
+    #[test]
+    fn kinds_by_hand() {
+        let track = |id: &str, steps: &[Step]| {
+            Trajectory::new(id, 1, steps.iter().map(|&s| (s, vec![0.0])).collect()).unwrap()
+        };
+        let estimate = TrajectorySet::new(
+            1,
+            vec![
+                track("X", &[4, 5, 6, 7, 8, 9]),
+                track("Y", &[4, 5, 6, 7, 8, 9]),
+                track("Z", &[4, 5, 6]),
+                track("W", &[7, 8, 9]),
+            ],
+        )
+        .unwrap();
+        let events = [
+            event(5, "A", Some("X"), Some("Y")),
+            event(5, "B", Some("Y"), Some("X")),
+            event(7, "C", Some("Z"), Some("W")),
+            event(8, "A", Some("Y"), Some("W")),
+            event(9, "B", Some("X"), None),
+        ];
+        let kinds = switch_kinds(&events, &estimate);
+        assert_eq!(
+            kinds,
+            SwitchKinds {
+                full: 4,
+                half: 1,
+                swaps: 1,
+                breaks: 1,
+                handovers: 1
+            }
+        );
+    }
+}

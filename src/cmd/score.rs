@@ -2,6 +2,7 @@
 
 use clap::Args;
 
+use switchyard::assignment::switches::switch_kinds;
 use switchyard::evaluate::Request;
 use switchyard::ospa2::Ospa2Params;
 use switchyard::report::ospa2::{self, Ospa2Document};
@@ -28,7 +29,8 @@ pub struct ScoreArgs {
 }
 
 pub fn run(args: &ScoreArgs) -> anyhow::Result<()> {
-    // The JSON document lists the switches and the jumps; the other formats the score only.
+    // The JSON document lists the switches and the jumps; the text sorts the switches into
+    // kinds; CSV gives the score only.
     let events = args.format == Format::Json;
     let ospa2 = if args.ospa2 {
         let params = args.metric.params()?;
@@ -37,7 +39,7 @@ pub fn run(args: &ScoreArgs) -> anyhow::Result<()> {
         None
     };
     let request = Request {
-        switches: events,
+        switches: args.format != Format::Csv,
         jumps: events,
         ospa2,
         ..Request::default()
@@ -69,7 +71,9 @@ pub fn run(args: &ScoreArgs) -> anyhow::Result<()> {
             }
             Format::Csv => score::write_csv_with(out, result, second.as_ref())?,
             Format::Text => {
-                score::write_text(out, result, &info, engine)?;
+                let switches = evaluation.switches.as_deref().unwrap_or_default();
+                let kinds = switch_kinds(switches, &inputs.estimate.set);
+                score::write_text(out, result, &info, engine, &kinds)?;
                 if let Some(second) = &second {
                     ospa2::write_text(out, second)?;
                 }

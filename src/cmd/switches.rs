@@ -2,6 +2,7 @@
 
 use clap::Args;
 
+use switchyard::assignment::switches::switch_kinds;
 use switchyard::evaluate::Request;
 use switchyard::report::switches::{write_csv, write_json, write_text, SwitchesDocument};
 use switchyard::report::{Exactness, InputInfo};
@@ -38,6 +39,7 @@ pub fn run(args: &SwitchesArgs) -> anyhow::Result<()> {
         inputs: &info,
         switching: result.parts.switching,
         switch_count: result.parts.switch_count,
+        kinds: switch_kinds(switches, &inputs.estimate.set),
         switches,
         jumps,
         exactness: Exactness::new(result),

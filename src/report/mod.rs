@@ -27,6 +27,10 @@ pub struct InputInfo {
     pub estimate_tracks: usize,
     /// The base distance.
     pub distance: String,
+    /// The state columns the distance reads, in state order.
+    pub state_columns: Vec<String>,
+    /// The distance's column weights (`--weights`), if any.
+    pub weights: Option<Vec<f64>>,
 }
 
 /// Writes the opening lines of a trajectory-metric text output: the title with the parameters,
@@ -291,13 +295,30 @@ pub fn certificate_line(certificate: &crate::trajectory_metric::Certificate) -> 
 impl InputInfo {
     /// The two lines naming the inputs with their counts, after the given labels; file names
     /// shown through [`printable`].
+    /// A third line gives the state columns the distance reads (and its weights), labelled
+    /// as wide as the truth's label.
     pub fn lines(&self, truth_label: &str, estimate_label: &str) -> String {
+        let columns = self
+            .state_columns
+            .iter()
+            .map(|c| printable(c))
+            .collect::<Vec<_>>()
+            .join(", ");
+        let weights = match &self.weights {
+            Some(w) => format!(
+                "   weights {}",
+                w.iter().map(|v| param(*v)).collect::<Vec<_>>().join(", ")
+            ),
+            None => String::new(),
+        };
         format!(
-            "{truth_label}{} ({})\n{estimate_label}{} ({})\n",
+            "{truth_label}{} ({})\n{estimate_label}{} ({})\n{:<width$}{columns}{weights}\n",
             printable(&self.truth),
             plural(self.truth_objects, "object", "objects"),
             printable(&self.estimate),
-            plural(self.estimate_tracks, "track", "tracks")
+            plural(self.estimate_tracks, "track", "tracks"),
+            "states",
+            width = truth_label.len()
         )
     }
 
@@ -313,6 +334,13 @@ impl InputInfo {
             estimate: estimate.source.clone(),
             estimate_tracks: estimate.set.len(),
             distance: distance.name().to_string(),
+            state_columns: truth.state_columns.clone(),
+            weights: match distance {
+                crate::distance::Distance::Euclidean { weights }
+                | crate::distance::Distance::Manhattan { weights }
+                | crate::distance::Distance::Chebyshev { weights } => weights.clone(),
+                _ => None,
+            },
         }
     }
 }

@@ -6,7 +6,7 @@ use serde::Serialize;
 
 use super::ospa2::Ospa2Document;
 use super::{certificate_line, count, fixed, plural, write_run_header, Exactness, InputInfo};
-use crate::assignment::switches::{JumpEvent, SwitchEvent};
+use crate::assignment::switches::{JumpEvent, SwitchEvent, SwitchKinds};
 use crate::trajectory::Window;
 use crate::trajectory_metric::{Certificate, Parts, SolveStats, TrajectoryParams, TrajectoryScore};
 
@@ -147,12 +147,50 @@ pub fn write_csv_with<W: Write>(
     writer.flush()
 }
 
+/// The switching row's note: the events by weight, plainly. In an integral solution every
+/// event is a full switch (counted 1) or a half switch (to or from no track, counted 0.5).
+fn switch_note(score: &TrajectoryScore, kinds: &SwitchKinds) -> String {
+    if score.integral {
+        format!(
+            "{} full + {} half {} (a half counts 0.5)",
+            kinds.full,
+            kinds.half,
+            if kinds.full + kinds.half == 1 {
+                "switch"
+            } else {
+                "switches"
+            }
+        )
+    } else {
+        format!(
+            "{} switches, weighted (fractional LP: full = 1, half = 0.5)",
+            count(score.parts.switch_count)
+        )
+    }
+}
+
+/// Lines that say what the switch events are, so that "12 switches" is not read as 12 swaps:
+/// the kinds, then what each kind means (no trailing newline).
+pub fn switch_reading(kinds: &SwitchKinds) -> String {
+    format!(
+        "switches by kind: {} ({} full), {}, {}, {}\n  \
+         (swap: two truths exchange tracks at one step; break: a track ends and another takes\n  \
+         over; hand-over: the old track goes on; half: a truth gains or loses a track)",
+        plural(kinds.swaps, "swap", "swaps"),
+        2 * kinds.swaps,
+        plural(kinds.breaks, "break", "breaks"),
+        plural(kinds.handovers, "hand-over", "hand-overs"),
+        plural(kinds.half, "half switch", "half switches"),
+    )
+}
+
 /// Text: a compact summary.
 pub fn write_text<W: Write>(
     out: &mut W,
     score: &TrajectoryScore,
     inputs: &InputInfo,
     engine: &str,
+    kinds: &SwitchKinds,
 ) -> std::io::Result<()> {
     write_run_header(out, "Trajectory GOSPA", &score.params, inputs)?;
     match score.window {
@@ -212,15 +250,7 @@ pub fn write_text<W: Write>(
         (
             "switching",
             score.parts.switching,
-            format!(
-                "{} {} (full = 1, half = 0.5)",
-                count(score.parts.switch_count),
-                if score.parts.switch_count == 1.0 {
-                    "switch"
-                } else {
-                    "switches"
-                }
-            ),
+            switch_note(score, kinds),
         ),
     ];
     writeln!(out, "  {:<13} {:>width$}  {:>6}", "part", "d^p", "share")?;
@@ -233,6 +263,9 @@ pub fn write_text<W: Write>(
             share(value),
             note
         )?;
+    }
+    if kinds.full + kinds.half > 0 {
+        writeln!(out, "  {}", switch_reading(kinds))?;
     }
     writeln!(out)?;
     let s = &score.stats;

@@ -5,7 +5,7 @@ use std::io::Write;
 use serde::Serialize;
 
 use super::{fixed, write_run_header, write_table, Exactness, InputInfo};
-use crate::assignment::switches::{JumpEvent, SwitchEvent};
+use crate::assignment::switches::{JumpEvent, SwitchEvent, SwitchKinds};
 use crate::trajectory::Step;
 use crate::trajectory_metric::TrajectoryParams;
 
@@ -20,6 +20,8 @@ pub struct SwitchesDocument<'a> {
     pub switching: f64,
     /// Full switches count 1, half switches 0.5.
     pub switch_count: f64,
+    /// The truth-side events by kind: full, half, swaps, breaks, hand-overs.
+    pub kinds: SwitchKinds,
     /// Switches seen from the truths.
     pub switches: &'a [SwitchEvent],
     /// Jumps seen from the estimates.
@@ -168,5 +170,6 @@ pub fn write_text<W: Write>(out: &mut W, document: &SwitchesDocument) -> std::io
         fixed(document.switching, 4),
         fixed(document.switch_count, 3)
     )?;
+    writeln!(out, "{}", super::score::switch_reading(&document.kinds))?;
     document.exactness.write_text(out)
 }

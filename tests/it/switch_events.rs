@@ -9,7 +9,9 @@
 use approx::assert_relative_eq;
 use proptest::prelude::*;
 use switchyard::assignment::audit::audit;
-use switchyard::assignment::switches::{jump_events, switch_events, JumpEvent, SwitchEvent};
+use switchyard::assignment::switches::{
+    jump_events, switch_events, switch_kinds, JumpEvent, SwitchEvent,
+};
 use switchyard::distance::Distance;
 use switchyard::trajectory::TrajectorySet;
 use switchyard::trajectory_metric::{score, TrajectoryParams, TrajectoryScore};
@@ -85,6 +87,10 @@ fn crossing_objects_with_swapped_labels() {
             jump(3, "q", Some("b"), Some("a"), 1.0)
         ]
     );
+    // Read as kinds: the two full events are one swap (a and b exchange p and q at step 3).
+    let kinds = switch_kinds(&switches, &y);
+    assert_eq!((kinds.full, kinds.half), (2, 0));
+    assert_eq!((kinds.swaps, kinds.breaks, kinds.handovers), (1, 0, 0));
     let report = audit(&s, &x, &y, &switches);
     assert_eq!(report.truths[0].truth, "a"); // both have 1 switch: input order breaks the tie
     assert_eq!(report.truths[0].covered.len(), 2);
@@ -111,6 +117,12 @@ fn broken_track_resumes_under_a_new_id() {
     assert_relative_eq!(s.parts.switching, 1.0, max_relative = 1e-9);
     let (switches, _) = events(&x, &y, &s);
     assert_eq!(switches, vec![switch(7, "a", Some("p"), Some("q"), 1.0)]);
+    // p has no state at step 7 (it ended at 4) and q takes over: a break, not a swap.
+    let kinds = switch_kinds(&switches, &y);
+    assert_eq!(
+        (kinds.full, kinds.swaps, kinds.breaks, kinds.handovers),
+        (1, 0, 1, 0)
+    );
     let report = audit(&s, &x, &y, &switches);
     let a = &report.truths[0];
     assert_eq!(

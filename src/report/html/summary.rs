@@ -7,6 +7,7 @@ use std::fmt::Write;
 use super::style::{self, Style, FALSE, INK, LOCALISATION, MISSED, SWITCHING};
 use super::svg::{self, esc, n, Scale};
 use super::{plural, Report, TrackerResults, RIGHT, WIDTH};
+use crate::assignment::switches::switch_kinds;
 
 fn unit(report: &Report) -> String {
     report
@@ -255,6 +256,18 @@ pub(super) fn section(out: &mut String, report: &Report) {
             .count();
         (format!("{full} / {}", t.switches.len() - full), None)
     }));
+    // The full events in plain words: a swap is two of them (two truths exchange tracks).
+    rows.push(row(
+        "swaps / breaks / hand-overs (swap: two truths exchange tracks; break: a track ends and another takes over)",
+        report,
+        |t| {
+            let kinds = switch_kinds(&t.switches, &t.estimate);
+            (
+                format!("{} / {} / {}", kinds.swaps, kinds.breaks, kinds.handovers),
+                None,
+            )
+        },
+    ));
     rows.push(row("true objects with a switch", report, |t| {
         let count = t.audit.truths.iter().filter(|a| a.switches > 0.0).count();
         (count.to_string(), Some(count as f64))
