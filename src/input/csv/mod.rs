@@ -1,0 +1,215 @@
+//! The CSV reader: one row per object per step, with a header row.
+//!
+//! Columns are found by name; others are ignored. By default the time column is `time`, the id
+//! column `id` and the state columns `x,y` (and `z` when the header has it). Integer times are
+//! step indices; decimal timestamps need a step size, and then step = round(t / step size).
+//! Fields are trimmed of surrounding white space; quoted fields, LF, CRLF and CR line ends and
+//! a UTF-8 byte-order mark are accepted, and messages give physical line numbers whatever the
+//! line ends (see `LineIndex`). Rows of one id may come in any order. The reader streams:
+//! memory grows with the number of points kept, not with the size of the text, and one row may
+//! hold at most [`MAX_RECORD_BYTES`].
+//!
+//! The reader is in three parts beside this file: `header` finds the columns the layout names,
+//! `rows` turns each data row into a point of its object and the objects into trajectories, and
+//! `lines` keeps the physical line of each row, holds one row to [`MAX_RECORD_BYTES`], and
+//! builds the messages that point at a line.
+
+mod header;
+mod lines;
+mod rows;
+
+use std::fs::File;
+use std::io::{self, Read};
+
+use crate::distance::Distance;
+use crate::error::{Error, Location, Result};
+use crate::trajectory::{Step, TrajectorySet};
+
+pub(crate) use self::lines::LineIndex;
+pub(crate) use self::rows::{ObjectMap, ObjectPoints, Rows};
+
+/// The longest row accepted, in bytes (1 MiB): a longer one is an error rather than a buffer
+/// that grows with the file (a file with no line ends, or a quote that is never closed).
+pub const MAX_RECORD_BYTES: u64 = 1 << 20;
+
+/// Which columns hold what, and how times become steps.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CsvLayout {
+    /// Name of the time column.
+    pub time_column: String,
+    /// Name of the id column.
+    pub id_column: String,
+    /// Names of the state columns, or `None` for `x,y` plus `z` when the header has it.
+    pub state_columns: Option<Vec<String>>,
+    /// Step size for decimal timestamps; `None` when times are integer step indices.
+    pub time_step: Option<f64>,
+    /// The field delimiter (a comma by default).
+    pub delimiter: u8,
+    /// The base distance the states are for, when known: each row's state is then checked
+    /// with [`Distance::check_state`], and a value it cannot read (a box of negative width, a
+    /// latitude beyond a pole) is an error naming the line and column.
+    pub distance: Option<Distance>,
+}
+
+impl Default for CsvLayout {
+    fn default() -> Self {
+        CsvLayout {
+            time_column: "time".into(),
+            id_column: "id".into(),
+            state_columns: None,
+            time_step: None,
+            delimiter: b',',
+            distance: None,
+        }
+    }
+}
+
+/// A trajectory set read from a file, with the names of its state columns.
+#[derive(Clone, Debug)]
+pub struct TrajectoryFile {
+    /// The file as the user named it.
+    pub source: String,
+    /// The state columns, in state order.
+    pub state_columns: Vec<String>,
+    /// The trajectories, in order of first appearance in the file.
+    pub set: TrajectorySet,
+}
+
+impl TrajectoryFile {
+    /// Checks that two files can be compared: the same state columns.
+    ///
+    /// # Errors
+    /// A different number of state columns.
+    pub fn check_comparable(&self, other: &TrajectoryFile) -> Result<()> {
+        if self.state_columns.len() != other.state_columns.len() {
+            return Err(Error::Mismatch(format!(
+                "{} has {} state columns ({}) but {} has {} ({}); both files need the same state dimensions",
+                self.source,
+                self.state_columns.len(),
+                self.state_columns.join(","),
+                other.source,
+                other.state_columns.len(),
+                other.state_columns.join(","),
+            )));
+        }
+        Ok(())
+    }
+}
+
+/// Reads a CSV file, or standard input when `path` is `-`.
+///
+/// # Errors
+/// The file cannot be opened or read, or its content is not valid (see [`read_csv`]).
+pub fn read_csv_path(path: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
+    if path == "-" {
+        return read_csv(io::stdin().lock(), "<stdin>", layout);
+    }
+    check_file_name(path)?;
+    let io_error = |error| Error::Io {
+        source_name: path.to_string(),
+        error,
+    };
+    let metadata = std::fs::metadata(path).map_err(io_error)?;
+    if metadata.is_dir() {
+        return Err(Error::input(
+            Location::file(path),
+            "is a directory, expected a CSV file",
+        ));
+    }
+    let file = File::open(path).map_err(io_error)?;
+    read_csv(io::BufReader::with_capacity(1 << 16, file), path, layout)
+}
+
+/// Refuses an empty file name (the operating system's message for it, ": No such file", names
+/// nothing).
+pub(crate) fn check_file_name(path: &str) -> Result<()> {
+    if path.is_empty() {
+        return Err(Error::Parameter(
+            "an empty file name: give a CSV file, or - for standard input".into(),
+        ));
+    }
+    Ok(())
+}
+
+/// Reads trajectories from CSV text. `source` names the input in messages.
+///
+/// # Errors
+/// Every problem names `source`, and the line and column where it applies: no header or a
+/// missing column, a ragged row, invalid UTF-8, an empty id, a time that is not a step, a state
+/// value that is not a finite number or that the layout's distance cannot read, two rows of one
+/// id at one step.
+pub fn read_csv<R: Read>(reader: R, source: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
+    let mut rows = Rows::open(reader, source, layout)?;
+    let mut objects = ObjectMap::default();
+    let mut last_id: Option<usize> = None;
+    while rows.advance()? {
+        let (id, step) = rows.id_and_step()?;
+        let index = match last_id {
+            Some(index) if objects.get_index(index).map(|(k, _)| k.as_str()) == Some(id) => index,
+            _ => match objects.get_index_of(id) {
+                Some(index) => index,
+                None => {
+                    objects
+                        .insert_full(id.to_string(), ObjectPoints::default())
+                        .0
+                }
+            },
+        };
+        last_id = Some(index);
+        rows.push_point(step, &mut objects[index])?;
+    }
+    let set = rows.finish_set(objects)?;
+    Ok(TrajectoryFile {
+        source: source.to_string(),
+        state_columns: rows.columns.names,
+        set,
+    })
+}
+
+/// Writes a trajectory set as CSV with the columns `time`, `id` and `state_columns`, rows
+/// ordered by step, then by the set's order. The reader reads it back to the same set.
+///
+/// # Errors
+/// A failed write, or state column names that do not match the set's dimension.
+pub fn write_csv<W: std::io::Write>(
+    set: &TrajectorySet,
+    state_columns: &[&str],
+    writer: W,
+) -> Result<()> {
+    if state_columns.len() != set.dim() {
+        return Err(Error::Mismatch(format!(
+            "{} state column names for states of {} values",
+            state_columns.len(),
+            set.dim()
+        )));
+    }
+    let io_error = |error: csv::Error| Error::Io {
+        source_name: "output".into(),
+        error: error.into(),
+    };
+    let mut out = csv::Writer::from_writer(writer);
+    let mut header = vec!["time", "id"];
+    header.extend_from_slice(state_columns);
+    out.write_record(&header).map_err(io_error)?;
+    let mut rows: Vec<(Step, usize, usize)> = Vec::with_capacity(set.object_steps());
+    for (object, trajectory) in set.trajectories().iter().enumerate() {
+        for (point, &step) in trajectory.steps().iter().enumerate() {
+            rows.push((step, object, point));
+        }
+    }
+    rows.sort_unstable();
+    let mut record = Vec::with_capacity(2 + set.dim());
+    for (step, object, point) in rows {
+        let trajectory = set.get(object);
+        record.clear();
+        record.push(step.to_string());
+        record.push(trajectory.id().to_string());
+        record.extend(trajectory.state(point).iter().map(|v| v.to_string()));
+        out.write_record(&record).map_err(io_error)?;
+    }
+    out.flush().map_err(|error| Error::Io {
+        source_name: "output".into(),
+        error,
+    })?;
+    Ok(())
+}
