@@ -8,7 +8,15 @@
 //! steps at which the object is absent neither break nor extend a span's count.
 //!
 //! Truths are ranked worst first: most switches (full = 1, half = 0.5), then the longest missed
-//! span (in present steps), then the most missed steps, then input order.
+//! span (in present steps), then the most missed steps, then input order ([`Audit::rank_by_cost`]
+//! ranks them by their cost instead).
+//!
+//! **Costs per object.** Trajectory GOSPA^p splits exactly over the objects: a truth carries the
+//! localisation of its pairs (Σ weight x d^p over its close steps), its missed part (c^p / 2 per
+//! present step times the weight not assigned) and the switching of its pairs (gamma^p / 2 per
+//! unit of weight change of each of its pairs); a track carries its false part (c^p / 2 per
+//! present step times the weight not assigned). The truths' costs and the tracks' false costs add
+//! up to the total; each object's share is its cost over the total.
 
 use serde::Serialize;
 
@@ -43,6 +51,34 @@ pub struct GapSpan {
     pub steps: usize,
 }
 
+/// What one truth costs in trajectory GOSPA^p (p-th power units).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
+pub struct TruthCosts {
+    /// Σ weight x d^p over its pairs' close steps.
+    pub localization: f64,
+    /// c^p / 2 per present step, times the weight not assigned there.
+    pub missed: f64,
+    /// gamma^p / 2 per unit of weight change of its pairs.
+    pub switching: f64,
+    /// The three together.
+    pub total: f64,
+    /// `total` over the scene's total (0 when that is 0).
+    pub share: f64,
+}
+
+/// What one track costs in trajectory GOSPA^p, and the localisation of its pairs (already in
+/// the truths' costs, given for information).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
+pub struct TrackCosts {
+    /// c^p / 2 per present step, times the weight not assigned there: its cost.
+    #[serde(rename = "false")]
+    pub false_: f64,
+    /// `false` over the scene's total (0 when that is 0).
+    pub share: f64,
+    /// Σ weight x d^p over its pairs' close steps (counted with the truths).
+    pub localization: f64,
+}
+
 /// How one truth was covered.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct TruthAudit {
@@ -66,6 +102,8 @@ pub struct TruthAudit {
     pub covered: Vec<CoverSpan>,
     /// Missed spans in time order.
     pub missed: Vec<GapSpan>,
+    /// What it costs.
+    pub costs: TruthCosts,
 }
 
 /// A run of steps during which an estimate followed one truth.
@@ -96,6 +134,8 @@ pub struct EstimateAudit {
     pub following: Vec<FollowSpan>,
     /// Spans following nothing, in time order.
     pub false_spans: Vec<GapSpan>,
+    /// What it costs.
+    pub costs: TrackCosts,
 }
 
 /// The audit of a whole scene.
@@ -107,6 +147,40 @@ pub struct Audit {
     pub estimates: Vec<EstimateAudit>,
 }
 
+impl Audit {
+    /// Ranks the truths by their cost, highest first (ties: the switch ranking), and the
+    /// tracks by their false cost, highest first (ties: their localisation, then input order).
+    pub fn rank_by_cost(&mut self) {
+        self.truths.sort_by(|a, b| {
+            b.costs
+                .total
+                .total_cmp(&a.costs.total)
+                .then(a.rank.cmp(&b.rank))
+        });
+        for (k, truth) in self.truths.iter_mut().enumerate() {
+            truth.rank = k + 1;
+        }
+        self.rank_tracks_by_cost();
+    }
+
+    /// Orders the tracks by their false cost, highest first (ties: their localisation, then
+    /// input order).
+    pub fn rank_tracks_by_cost(&mut self) {
+        self.estimates.sort_by(|a, b| {
+            b.costs
+                .false_
+                .total_cmp(&a.costs.false_)
+                .then(b.costs.localization.total_cmp(&a.costs.localization))
+        });
+    }
+
+    /// Keeps the first `n` truths and the first `n` tracks.
+    pub fn keep(&mut self, n: usize) {
+        self.truths.truncate(n);
+        self.estimates.truncate(n);
+    }
+}
+
 /// Builds the audit from a score and its switch events. O(pairs' close steps + points).
 pub fn audit(
     score: &TrajectoryScore,
@@ -115,6 +189,7 @@ pub fn audit(
     switches: &[SwitchEvent],
 ) -> Audit {
     let order = score.params.order;
+    let (truth_costs, track_costs) = costs(score, truth, estimate);
     // For each truth, the best covering (step, estimate, weight, distance) per close step.
     let mut cover: Vec<Vec<(Step, usize, f64, f64)>> = vec![Vec::new(); truth.len()];
     for pair in &score.assignment.pairs {
@@ -214,6 +289,7 @@ pub fn audit(
             switches: switch_total,
             covered,
             missed,
+            costs: truth_costs[i],
         });
     }
     let mut ranked: Vec<usize> = (0..truths.len()).collect();
@@ -239,9 +315,57 @@ pub fn audit(
         .trajectories()
         .iter()
         .enumerate()
-        .map(|(j, trajectory)| estimate_audit(trajectory, &mut followed[j], truth))
+        .map(|(j, trajectory)| EstimateAudit {
+            costs: track_costs[j],
+            ..estimate_audit(trajectory, &mut followed[j], truth)
+        })
         .collect();
     Audit { truths, estimates }
+}
+
+/// Each truth's and each track's cost (module doc), in input order.
+fn costs(
+    score: &TrajectoryScore,
+    truth: &TrajectorySet,
+    estimate: &TrajectorySet,
+) -> (Vec<TruthCosts>, Vec<TrackCosts>) {
+    let half = score.params.cutoff_power() / 2.0;
+    let switch_cost = score.params.switch_cost();
+    let mut truths = vec![TruthCosts::default(); truth.len()];
+    let mut tracks = vec![TrackCosts::default(); estimate.len()];
+    let mut truth_assigned = vec![0.0; truth.len()];
+    let mut track_assigned = vec![0.0; estimate.len()];
+    for pair in &score.assignment.pairs {
+        let mut localization = 0.0;
+        let mut assigned = 0.0;
+        for close in &pair.close {
+            let weight = pair.weight_at(close.step);
+            localization += weight * close.cost;
+            assigned += weight;
+        }
+        truths[pair.truth].localization += localization;
+        truths[pair.truth].switching += switch_cost * score.assignment.variation(pair);
+        truth_assigned[pair.truth] += assigned;
+        tracks[pair.estimate].localization += localization;
+        track_assigned[pair.estimate] += assigned;
+    }
+    let share = |cost: f64| {
+        if score.total > 0.0 {
+            cost / score.total
+        } else {
+            0.0
+        }
+    };
+    for (i, costs) in truths.iter_mut().enumerate() {
+        costs.missed = half * (truth.get(i).len() as f64 - truth_assigned[i]).max(0.0);
+        costs.total = costs.localization + costs.missed + costs.switching;
+        costs.share = share(costs.total);
+    }
+    for (j, costs) in tracks.iter_mut().enumerate() {
+        costs.false_ = half * (estimate.get(j).len() as f64 - track_assigned[j]).max(0.0);
+        costs.share = share(costs.false_);
+    }
+    (truths, tracks)
 }
 
 fn close_errors(covered: &mut [CoverSpan], errors: &mut Vec<f64>) {
@@ -310,5 +434,6 @@ fn estimate_audit(
         truths: truths.len(),
         following,
         false_spans,
+        costs: TrackCosts::default(),
     }
 }

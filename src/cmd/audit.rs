@@ -16,14 +16,28 @@ use super::output::{Format, OutputArgs};
 pub struct AuditArgs {
     #[command(flatten)]
     metric: TrajectoryArgs,
-    /// Show only the N worst-covered truths.
+    /// Show only the N worst truths and the N tracks with the highest false cost.
     #[arg(long, value_name = "N")]
     top: Option<usize>,
+    /// How truths are ranked, worst first: by switches (then the longest missed span) or by
+    /// their cost in trajectory GOSPA^p (localisation + missed + switching); with cost, tracks
+    /// are listed by their false cost too.
+    #[arg(long, value_enum, default_value_t = RankBy::Switches)]
+    rank_by: RankBy,
     /// Output format.
     #[arg(long, short = 'f', value_enum, default_value_t = Format::Text)]
     format: Format,
     #[command(flatten)]
     output: OutputArgs,
+}
+
+/// The ranking of `audit`.
+#[derive(clap::ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
+pub enum RankBy {
+    /// Most switches first, then the longest missed span.
+    Switches,
+    /// Highest cost first.
+    Cost,
 }
 
 pub fn run(args: &AuditArgs) -> anyhow::Result<()> {
@@ -37,8 +51,12 @@ pub fn run(args: &AuditArgs) -> anyhow::Result<()> {
         .score
         .as_ref()
         .expect("the audit needs the score");
+    if args.rank_by == RankBy::Cost {
+        report.rank_by_cost();
+    }
     if let Some(top) = args.top {
-        report.truths.truncate(top);
+        report.rank_tracks_by_cost();
+        report.keep(top);
     }
     let info = InputInfo::new(&inputs.truth, &inputs.estimate, &inputs.distance);
     let document = AuditDocument {
@@ -47,6 +65,8 @@ pub fn run(args: &AuditArgs) -> anyhow::Result<()> {
         truths: &report.truths,
         estimates: &report.estimates,
         exactness: Exactness::new(result),
+        by_cost: args.rank_by == RankBy::Cost,
+        tracks_by_cost: args.rank_by == RankBy::Cost || args.top.is_some(),
     };
     args.output.emit(|out| {
         match args.format {

@@ -18,12 +18,18 @@ pub struct AuditDocument<'a> {
     pub inputs: &'a InputInfo,
     /// Truths, worst first (only the first N with `--top N`).
     pub truths: &'a [TruthAudit],
-    /// Estimates, in input order.
+    /// Estimates, in input order, or by false cost (`tracks_by_cost`).
     pub estimates: &'a [EstimateAudit],
     /// Whether the solution is integral or exact (`integral`, `lp_total`, `exact_total`,
     /// `exact`).
     #[serde(flatten)]
     pub exactness: Exactness<'a>,
+    /// Truths ranked by cost (else by switches).
+    #[serde(skip)]
+    pub by_cost: bool,
+    /// Tracks listed by false cost, highest first (else in input order).
+    #[serde(skip)]
+    pub tracks_by_cost: bool,
 }
 
 /// JSON: one object (see [`AuditDocument`]).
@@ -32,10 +38,12 @@ pub fn write_json<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
     writeln!(out)
 }
 
-/// CSV: one row per span, `side,object,rank,kind,first,last,steps,partner,mean_error`. Truth
+/// CSV: one row per span,
+/// `side,object,rank,kind,first,last,steps,partner,mean_error,object_cost,object_share`. Truth
 /// rows (kind `covered` or `missed`) come first, ranked; then estimate rows (kind `following`
 /// or `false`). `partner` is the covering estimate or the truth followed; `mean_error` only for
-/// covered spans; `rank` only for truths.
+/// covered spans; `rank` only for truths; `object_cost` and `object_share` are the object's
+/// cost (a truth's total, a track's false cost) and its share of the total, on each of its rows.
 pub fn write_csv<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::Result<()> {
     let mut writer = csv::Writer::from_writer(&mut *out);
     writer.write_record([
@@ -48,15 +56,20 @@ pub fn write_csv<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::Re
         "steps",
         "partner",
         "mean_error",
+        "object_cost",
+        "object_share",
     ])?;
     for t in document.truths {
         let rank = t.rank.to_string();
+        let (cost, share) = (t.costs.total.to_string(), t.costs.share.to_string());
         let row = SpanRow {
             side: "truth",
             object: &t.truth,
             rank: &rank,
+            cost: &cost,
+            share: &share,
         };
-        let mut spans: Vec<(Step, [String; 9])> = Vec::new();
+        let mut spans: Vec<(Step, [String; 11])> = Vec::new();
         for s in &t.covered {
             let error = s.mean_error.to_string();
             spans.push(row.cells("covered", s.first, s.last, s.steps, &s.estimate, &error));
@@ -67,12 +80,15 @@ pub fn write_csv<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::Re
         write_sorted(&mut writer, spans)?;
     }
     for e in document.estimates {
+        let (cost, share) = (e.costs.false_.to_string(), e.costs.share.to_string());
         let row = SpanRow {
             side: "estimate",
             object: &e.estimate,
             rank: "",
+            cost: &cost,
+            share: &share,
         };
-        let mut spans: Vec<(Step, [String; 9])> = Vec::new();
+        let mut spans: Vec<(Step, [String; 11])> = Vec::new();
         for s in &e.following {
             spans.push(row.cells("following", s.first, s.last, s.steps, &s.truth, ""));
         }
@@ -89,6 +105,8 @@ struct SpanRow<'a> {
     side: &'a str,
     object: &'a str,
     rank: &'a str,
+    cost: &'a str,
+    share: &'a str,
 }
 
 impl SpanRow<'_> {
@@ -100,7 +118,7 @@ impl SpanRow<'_> {
         steps: usize,
         partner: &str,
         error: &str,
-    ) -> (Step, [String; 9]) {
+    ) -> (Step, [String; 11]) {
         let cells = [
             self.side,
             self.object,
@@ -111,6 +129,8 @@ impl SpanRow<'_> {
             &steps.to_string(),
             partner,
             error,
+            self.cost,
+            self.share,
         ]
         .map(str::to_string);
         (first, cells)
@@ -120,7 +140,7 @@ impl SpanRow<'_> {
 /// Writes one object's spans in time order.
 fn write_sorted<W: Write>(
     writer: &mut csv::Writer<W>,
-    mut spans: Vec<(Step, [String; 9])>,
+    mut spans: Vec<(Step, [String; 11])>,
 ) -> std::io::Result<()> {
     spans.sort_by_key(|(first, _)| *first);
     for (_, row) in spans {
@@ -135,7 +155,12 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
     writeln!(out)?;
     writeln!(
         out,
-        "Truths, worst first (most switches, then longest missed span):"
+        "{}",
+        if document.by_cost {
+            "Truths, worst first (highest cost in d^p: localisation + missed + switching):"
+        } else {
+            "Truths, worst first (most switches, then longest missed span):"
+        }
     )?;
     let rows: Vec<Vec<String>> = document
         .truths
@@ -148,6 +173,8 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
                 t.longest_missed.to_string(),
                 format!("{}/{}", t.covered_steps, t.present_steps),
                 t.estimates.to_string(),
+                fixed(t.costs.total, 2),
+                percent(t.costs.share),
             ]
         })
         .collect();
@@ -160,6 +187,8 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
             "longest missed",
             "covered/present",
             "tracks",
+            "cost d^p",
+            "share",
         ],
         &rows,
     )?;
@@ -199,7 +228,15 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
         }
     }
     writeln!(out)?;
-    writeln!(out, "Tracks:")?;
+    writeln!(
+        out,
+        "{}",
+        if document.tracks_by_cost {
+            "Tracks, highest false cost first:"
+        } else {
+            "Tracks:"
+        }
+    )?;
     let rows: Vec<Vec<String>> = document
         .estimates
         .iter()
@@ -213,6 +250,8 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
                 e.estimate.clone(),
                 e.present_steps.to_string(),
                 e.false_steps.to_string(),
+                fixed(e.costs.false_, 2),
+                percent(e.costs.share),
                 e.truths.to_string(),
                 if followed.is_empty() {
                     "-".into()
@@ -224,11 +263,24 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
         .collect();
     write_table(
         out,
-        &["track", "present", "false", "truths", "followed"],
+        &[
+            "track",
+            "present",
+            "false",
+            "false d^p",
+            "share",
+            "truths",
+            "followed",
+        ],
         &rows,
     )?;
     writeln!(out)?;
     document.exactness.write_text(out)
+}
+
+/// A share as a percentage with one decimal.
+fn percent(share: f64) -> String {
+    format!("{:.1}%", 100.0 * share)
 }
 
 /// "step " or "steps", padded to one width so the span lines stay aligned.

@@ -313,3 +313,56 @@ fn standard_input_reads_one_of_the_two_inputs() {
     assert_eq!(both.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&both.stderr).contains("only one of --truth and --estimate"));
 }
+
+/// `audit --rank-by cost --top 3` on the demo data: three truths and three tracks, truths in
+/// falling cost, tracks in falling false cost, and (without --top) the objects' costs add up to
+/// the total, since trajectory GOSPA's parts split over the objects they are counted on
+/// (`src/assignment/audit.rs`).
+#[test]
+fn audit_ranks_by_cost_and_top_limits_tracks_too() {
+    // The values at `list[*].costs.key` of a document.
+    let costs = |doc: &Value, list: &str, key: &str| -> Vec<f64> {
+        doc[list]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|o| o["costs"][key].as_f64().unwrap())
+            .collect()
+    };
+    let mut args = demo_args(
+        "audit",
+        &demo("truth.csv"),
+        &demo("tracker-fragments.csv"),
+        "json",
+    );
+    let all: Value = serde_json::from_slice(&run(&args)).unwrap();
+    let truths: f64 = costs(&all, "truths", "total").iter().sum();
+    let tracks: f64 = costs(&all, "estimates", "false").iter().sum();
+    let total = all["lp_total"].as_f64().unwrap();
+    assert!((truths + tracks - total).abs() <= 1e-9 * total);
+    args.extend(["--rank-by", "cost", "--top", "3"].map(String::from));
+    let top: Value = serde_json::from_slice(&run(&args)).unwrap();
+    let truth_costs = costs(&top, "truths", "total");
+    assert_eq!(truth_costs.len(), 3);
+    assert!(
+        truth_costs.windows(2).all(|w| w[0] >= w[1]),
+        "{truth_costs:?}"
+    );
+    let highest = costs(&all, "truths", "total")
+        .into_iter()
+        .fold(0.0, f64::max);
+    assert_eq!(truth_costs[0], highest);
+    let false_costs = costs(&top, "estimates", "false");
+    assert_eq!(false_costs.len(), 3);
+    assert!(
+        false_costs.windows(2).all(|w| w[0] >= w[1]),
+        "{false_costs:?}"
+    );
+    let ranks: Vec<u64> = top["truths"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|t| t["rank"].as_u64().unwrap())
+        .collect();
+    assert_eq!(ranks, vec![1, 2, 3]);
+}

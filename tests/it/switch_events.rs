@@ -136,6 +136,14 @@ fn broken_track_resumes_under_a_new_id() {
     );
     assert_eq!((a.missed[0].first, a.missed[0].last), (5, 6));
     assert_relative_eq!(a.switches, 1.0);
+    // Its cost, split as above: localisation 0, missed 2, switching 1; all of the total 3.
+    assert_relative_eq!(a.costs.localization, 0.0, epsilon = 1e-12);
+    assert_relative_eq!(a.costs.missed, 2.0, max_relative = 1e-9);
+    assert_relative_eq!(a.costs.switching, 1.0, max_relative = 1e-9);
+    assert_relative_eq!(a.costs.total, 3.0, max_relative = 1e-9);
+    assert_relative_eq!(a.costs.share, 1.0, max_relative = 1e-9);
+    // Both tracks follow the truth wherever they exist: no false cost.
+    assert!(report.estimates.iter().all(|e| e.costs.false_ == 0.0));
 }
 
 #[test]
@@ -249,6 +257,20 @@ proptest! {
         for e in &switches {
             prop_assert!(e.time > s.window.unwrap().first && e.time <= s.window.unwrap().last);
         }
+        // The per-object costs split the total exactly (trajectory GOSPA's four parts, each
+        // carried by the object it is counted on): truths' localisation, missed and switching,
+        // tracks' false cost.
+        let report = audit(&s, &x, &y, &switches);
+        let sum = |f: &dyn Fn(&switchyard::assignment::audit::TruthAudit) -> f64| -> f64 {
+            report.truths.iter().map(f).sum()
+        };
+        let tolerance = 1e-9 * s.total.max(1.0);
+        prop_assert!((sum(&|t| t.costs.localization) - s.parts.localization).abs() <= tolerance);
+        prop_assert!((sum(&|t| t.costs.missed) - s.parts.missed).abs() <= tolerance);
+        prop_assert!((sum(&|t| t.costs.switching) - s.parts.switching).abs() <= tolerance);
+        let false_: f64 = report.estimates.iter().map(|e| e.costs.false_).sum();
+        prop_assert!((false_ - s.parts.false_).abs() <= tolerance);
+        prop_assert!((sum(&|t| t.costs.total) + false_ - s.total).abs() <= tolerance);
     }
 }
 
