@@ -5,7 +5,7 @@ use clap::Args;
 
 use switchyard::evaluate::Request;
 use switchyard::report::audit::{write_csv, write_json, write_text, AuditDocument};
-use switchyard::report::{Exactness, InputInfo};
+use switchyard::report::Exactness;
 
 use super::config::evaluate_trajectory;
 use super::options::TrajectoryArgs;
@@ -58,7 +58,7 @@ pub fn run(args: &AuditArgs) -> anyhow::Result<()> {
         report.rank_tracks_by_cost();
         report.keep(top);
     }
-    let info = InputInfo::new(&inputs.truth, &inputs.estimate, &inputs.distance);
+    let info = inputs.info();
     let document = AuditDocument {
         params: &result.params,
         inputs: &info,

@@ -8,6 +8,7 @@ use clap::ValueEnum;
 use switchyard::distance::Distance;
 use switchyard::evaluate::{evaluate, Evaluation, Request};
 use switchyard::input::{read_csv_path, CsvLayout, TrajectoryFile};
+use switchyard::report::InputInfo;
 use switchyard::trajectory_metric::{Engine, ExactBudget, SolveOptions, TrajectoryParams};
 use switchyard::{Error, Result};
 
@@ -23,6 +24,15 @@ pub struct Inputs {
     pub truth: TrajectoryFile,
     pub estimate: TrajectoryFile,
     pub distance: Distance,
+    /// `--time-step`: the step size in the input's time units.
+    pub time_step: Option<f64>,
+}
+
+impl Inputs {
+    /// The inputs described for the outputs, with the step size when one was given.
+    pub fn info(&self) -> InputInfo {
+        InputInfo::new(&self.truth, &self.estimate, &self.distance).with_time_step(self.time_step)
+    }
 }
 
 impl CsvOptions {
@@ -127,6 +137,7 @@ impl InputArgs {
             truth,
             estimate: estimates.pop().expect("one estimate was read"),
             distance,
+            time_step: self.csv.time_step,
         })
     }
 }

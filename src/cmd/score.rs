@@ -6,7 +6,7 @@ use switchyard::assignment::switches::switch_kinds;
 use switchyard::evaluate::Request;
 use switchyard::ospa2::Ospa2Params;
 use switchyard::report::ospa2::{self, Ospa2Document};
-use switchyard::report::{score, InputInfo};
+use switchyard::report::score;
 
 use super::config::evaluate_trajectory;
 use super::options::TrajectoryArgs;
@@ -46,7 +46,7 @@ pub fn run(args: &ScoreArgs) -> anyhow::Result<()> {
     };
     let (inputs, evaluation) = evaluate_trajectory(&args.metric, &args.output, request)?;
     let result = evaluation.score.as_ref().expect("the score was asked for");
-    let info = InputInfo::new(&inputs.truth, &inputs.estimate, &inputs.distance);
+    let info = inputs.info();
     let engine = args.metric.engine_name();
     let second = match (&evaluation.ospa2, &ospa2) {
         (Some(value), Some(params)) => Some(Ospa2Document::new(

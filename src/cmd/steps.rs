@@ -4,7 +4,7 @@ use clap::Args;
 
 use switchyard::evaluate::Request;
 use switchyard::per_step::GospaParams;
-use switchyard::report::{steps, InputInfo};
+use switchyard::report::steps;
 
 use super::config::evaluate_single;
 use super::options::InputArgs;
@@ -37,11 +37,11 @@ pub fn run(args: &StepsArgs) -> anyhow::Result<()> {
     let inputs = args.input.read(args.cutoff)?;
     let evaluation = evaluate_single(&inputs, &Request::steps(params), &|_| {})?;
     let series = evaluation.steps.expect("the steps were asked for");
-    let info = InputInfo::new(&inputs.truth, &inputs.estimate, &inputs.distance);
+    let info = inputs.info();
     args.output.emit(|out| {
         match args.format {
             Format::Text => steps::write_text(out, &series, &params, &info)?,
-            Format::Csv => steps::write_csv(out, &series)?,
+            Format::Csv => steps::write_csv_timed(out, &series, inputs.time_step)?,
             Format::Json => steps::write_json(out, &series, &params, &info)?,
         }
         Ok(())

@@ -4,7 +4,9 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{count, fixed, printable, write_run_header, write_table, Exactness, InputInfo};
+use super::{
+    count, fixed, input_time, printable, write_run_header, write_table, Exactness, InputInfo,
+};
 use crate::assignment::audit::{EstimateAudit, TruthAudit};
 use crate::trajectory::Step;
 use crate::trajectory_metric::TrajectoryParams;
@@ -46,19 +48,19 @@ pub fn write_json<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
 /// cost (a truth's total, a track's false cost) and its share of the total, on each of its rows.
 pub fn write_csv<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::Result<()> {
     let mut writer = csv::Writer::from_writer(&mut *out);
-    writer.write_record([
-        "side",
-        "object",
-        "rank",
-        "kind",
-        "first",
-        "last",
+    let time_step = document.inputs.time_step;
+    let mut header = vec!["side", "object", "rank", "kind", "first", "last"];
+    if time_step.is_some() {
+        header.extend(["first_time", "last_time"]);
+    }
+    header.extend([
         "steps",
         "partner",
         "mean_error",
         "object_cost",
         "object_share",
-    ])?;
+    ]);
+    writer.write_record(&header)?;
     for t in document.truths {
         let rank = t.rank.to_string();
         let (cost, share) = (t.costs.total.to_string(), t.costs.share.to_string());
@@ -68,8 +70,9 @@ pub fn write_csv<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::Re
             rank: &rank,
             cost: &cost,
             share: &share,
+            time_step,
         };
-        let mut spans: Vec<(Step, [String; 11])> = Vec::new();
+        let mut spans: Vec<(Step, Vec<String>)> = Vec::new();
         for s in &t.covered {
             let error = s.mean_error.to_string();
             spans.push(row.cells("covered", s.first, s.last, s.steps, &s.estimate, &error));
@@ -87,8 +90,9 @@ pub fn write_csv<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::Re
             rank: "",
             cost: &cost,
             share: &share,
+            time_step,
         };
-        let mut spans: Vec<(Step, [String; 11])> = Vec::new();
+        let mut spans: Vec<(Step, Vec<String>)> = Vec::new();
         for s in &e.following {
             spans.push(row.cells("following", s.first, s.last, s.steps, &s.truth, ""));
         }
@@ -107,6 +111,7 @@ struct SpanRow<'a> {
     rank: &'a str,
     cost: &'a str,
     share: &'a str,
+    time_step: Option<f64>,
 }
 
 impl SpanRow<'_> {
@@ -118,21 +123,24 @@ impl SpanRow<'_> {
         steps: usize,
         partner: &str,
         error: &str,
-    ) -> (Step, [String; 11]) {
-        let cells = [
+    ) -> (Step, Vec<String>) {
+        let mut cells = [
             self.side,
             self.object,
             self.rank,
             kind,
             &first.to_string(),
             &last.to_string(),
-            &steps.to_string(),
-            partner,
-            error,
-            self.cost,
-            self.share,
         ]
-        .map(str::to_string);
+        .map(str::to_string)
+        .to_vec();
+        if let Some(dt) = self.time_step {
+            cells.push(input_time(first, dt).to_string());
+            cells.push(input_time(last, dt).to_string());
+        }
+        cells.extend(
+            [&steps.to_string(), partner, error, self.cost, self.share].map(|c| c.to_string()),
+        );
         (first, cells)
     }
 }
@@ -140,7 +148,7 @@ impl SpanRow<'_> {
 /// Writes one object's spans in time order.
 fn write_sorted<W: Write>(
     writer: &mut csv::Writer<W>,
-    mut spans: Vec<(Step, [String; 11])>,
+    mut spans: Vec<(Step, Vec<String>)>,
 ) -> std::io::Result<()> {
     spans.sort_by_key(|(first, _)| *first);
     for (_, row) in spans {
@@ -196,17 +204,26 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
         writeln!(out)?;
         writeln!(out, "{} (rank {}):", printable(&t.truth), t.rank)?;
         let mut lines: Vec<(i64, String)> = Vec::new();
+        let times = |first: Step, last: Step| match document.inputs.time_step {
+            Some(dt) => format!(
+                "  (time {} to {})",
+                input_time(first, dt),
+                input_time(last, dt)
+            ),
+            None => String::new(),
+        };
         for s in &t.covered {
             lines.push((
                 s.first,
                 format!(
-                    "  {:>6} .. {:<6} {:>5} {}  covered by {}  mean error {}",
+                    "  {:>6} .. {:<6} {:>5} {}  covered by {}  mean error {}{}",
                     s.first,
                     s.last,
                     s.steps,
                     steps_word(s.steps),
                     printable(&s.estimate),
-                    fixed(s.mean_error, 3)
+                    fixed(s.mean_error, 3),
+                    times(s.first, s.last)
                 ),
             ));
         }
@@ -214,11 +231,12 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
             lines.push((
                 s.first,
                 format!(
-                    "  {:>6} .. {:<6} {:>5} {}  missed",
+                    "  {:>6} .. {:<6} {:>5} {}  missed{}",
                     s.first,
                     s.last,
                     s.steps,
-                    steps_word(s.steps)
+                    steps_word(s.steps),
+                    times(s.first, s.last)
                 ),
             ));
         }

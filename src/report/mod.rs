@@ -12,6 +12,8 @@ pub mod switches;
 
 use serde::Serialize;
 
+use crate::trajectory::Step;
+
 pub use crate::error::printable;
 
 /// What was compared, shown at the top of every output.
@@ -31,6 +33,78 @@ pub struct InputInfo {
     pub state_columns: Vec<String>,
     /// The distance's column weights (`--weights`), if any.
     pub weights: Option<Vec<f64>>,
+    /// `--time-step`: the step size in the input's time units; with it, outputs give each
+    /// step's time in those units (`input_time`) beside the step index.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub time_step: Option<f64>,
+}
+
+/// Something that happens at a step.
+pub trait AtStep {
+    /// The step.
+    fn step(&self) -> Step;
+}
+
+impl AtStep for crate::assignment::switches::SwitchEvent {
+    fn step(&self) -> Step {
+        self.time
+    }
+}
+
+impl AtStep for crate::assignment::switches::JumpEvent {
+    fn step(&self) -> Step {
+        self.time
+    }
+}
+
+/// Events as JSON: each event's keys, then `input_time` (its step in the input's time units)
+/// when a step size was given.
+#[derive(Clone, Copy, Debug)]
+pub struct TimedEvents<'a, T> {
+    /// The events.
+    pub events: &'a [T],
+    /// `--time-step`, if given.
+    pub time_step: Option<f64>,
+}
+
+impl<'a, T> TimedEvents<'a, T> {
+    /// The events, with the step size if one was given.
+    pub fn new(events: &'a [T], time_step: Option<f64>) -> Self {
+        TimedEvents { events, time_step }
+    }
+}
+
+impl<T: Serialize + AtStep> Serialize for TimedEvents<'_, T> {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        #[derive(Serialize)]
+        struct Entry<'b, T> {
+            #[serde(flatten)]
+            event: &'b T,
+            #[serde(skip_serializing_if = "Option::is_none")]
+            input_time: Option<f64>,
+        }
+        serializer.collect_seq(self.events.iter().map(|event| Entry {
+            event,
+            input_time: self.time_step.map(|dt| input_time(event.step(), dt)),
+        }))
+    }
+}
+
+/// `step` x `dt`, rounded to the decimals of `dt`'s shortest text, so that the time reads as
+/// the user wrote it (3 x 0.1 is 0.3, not 0.30000000000000004).
+pub fn input_time(step: Step, dt: f64) -> f64 {
+    let value = step as f64 * dt;
+    // The decimals of dt's shortest text: those of its mantissa less its exponent.
+    let text = format!("{dt:e}");
+    let Some((mantissa, exponent)) = text.split_once('e') else {
+        return value;
+    };
+    let digits = mantissa.split_once('.').map_or(0, |(_, f)| f.len()) as i64;
+    let decimals = (digits - exponent.parse::<i64>().unwrap_or(0)).clamp(0, 340) as usize;
+    if !value.is_finite() {
+        return value;
+    }
+    format!("{value:.decimals$}").parse().unwrap_or(value)
 }
 
 /// Writes the opening lines of a trajectory-metric text output: the title with the parameters,
@@ -322,6 +396,17 @@ impl InputInfo {
         )
     }
 
+    /// The same description with the step size the times were read with.
+    pub fn with_time_step(self, time_step: Option<f64>) -> Self {
+        InputInfo { time_step, ..self }
+    }
+
+    /// The time of `step` in the input's units (step x step size), when a step size was
+    /// given; rounded to the step size's decimals so that 3 x 0.1 reads 0.3.
+    pub fn input_time(&self, step: Step) -> Option<f64> {
+        self.time_step.map(|dt| input_time(step, dt))
+    }
+
     /// Describes two input files and the distance used.
     pub fn new(
         truth: &crate::input::TrajectoryFile,
@@ -334,6 +419,7 @@ impl InputInfo {
             estimate: estimate.source.clone(),
             estimate_tracks: estimate.set.len(),
             distance: distance.name().to_string(),
+            time_step: None,
             state_columns: truth.state_columns.clone(),
             weights: match distance {
                 crate::distance::Distance::Euclidean { weights }
@@ -342,5 +428,23 @@ impl InputInfo {
                 _ => None,
             },
         }
+    }
+}
+
+#[cfg(test)]
+mod time_tests {
+    use super::input_time;
+
+    // Decimal arithmetic by hand: 3 x 0.1 = 0.3, 7 x 0.04 = 0.28, -2 x 0.5 = -1,
+    // 1001 x 0.001 = 1.001, 4 x 2 = 8, 3 x 1e-20 = 3e-20, 3 x 0.25 = 0.75.
+    #[test]
+    fn times_read_as_written() {
+        assert_eq!(input_time(3, 0.1), 0.3);
+        assert_eq!(input_time(7, 0.04), 0.28);
+        assert_eq!(input_time(-2, 0.5), -1.0);
+        assert_eq!(input_time(1001, 0.001), 1.001);
+        assert_eq!(input_time(4, 2.0), 8.0);
+        assert_eq!(input_time(3, 1e-20), 3e-20);
+        assert_eq!(input_time(3, 0.25), 0.75);
     }
 }

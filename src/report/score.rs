@@ -5,7 +5,9 @@ use std::io::Write;
 use serde::Serialize;
 
 use super::ospa2::Ospa2Document;
-use super::{certificate_line, count, fixed, plural, write_run_header, Exactness, InputInfo};
+use super::{
+    certificate_line, count, fixed, plural, write_run_header, Exactness, InputInfo, TimedEvents,
+};
 use crate::assignment::switches::{JumpEvent, SwitchEvent, SwitchKinds};
 use crate::trajectory::Window;
 use crate::trajectory_metric::{Certificate, Parts, SolveStats, TrajectoryParams, TrajectoryScore};
@@ -40,10 +42,12 @@ pub struct ScoreDocument<'a> {
     pub lp: &'a SolveStats,
     /// The bounds that prove the value and how each group was solved.
     pub certificate: &'a Certificate,
-    /// Switches seen from the truths (keys: time, truth, from, to, weight, cost).
-    pub switches: &'a [SwitchEvent],
-    /// Jumps seen from the estimates (keys: time, estimate, from, to, weight, cost).
-    pub jumps: &'a [JumpEvent],
+    /// Switches seen from the truths (keys: time, truth, from, to, weight, cost, and
+    /// input_time with a step size).
+    pub switches: TimedEvents<'a, SwitchEvent>,
+    /// Jumps seen from the estimates (keys: time, estimate, from, to, weight, cost, and
+    /// input_time with a step size).
+    pub jumps: TimedEvents<'a, JumpEvent>,
     /// OSPA(2) beside it, when asked for (`--ospa2`).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub ospa2: Option<Ospa2Document<'a>>,
@@ -71,8 +75,8 @@ impl<'a> ScoreDocument<'a> {
             engine,
             lp: &score.stats,
             certificate: &score.certificate,
-            switches,
-            jumps,
+            switches: TimedEvents::new(switches, inputs.time_step),
+            jumps: TimedEvents::new(jumps, inputs.time_step),
             ospa2: None,
         }
     }

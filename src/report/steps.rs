@@ -31,9 +31,25 @@ pub const EMPTY_RUN_LINE: Step = 10;
 const EMPTY_STEPS: &str = "\n  \"steps\": []";
 
 /// One entry of `steps` as serde_json's pretty printer writes it inside the array (its lines
-/// four spaces further in than at the top level).
-fn entry(score: &StepScore) -> std::io::Result<String> {
-    Ok(serde_json::to_string_pretty(score)?.replace('\n', "\n    "))
+/// four spaces further in than at the top level), with `input_time` after `time` when a step
+/// size is given.
+fn entry(score: &StepScore, time_step: Option<f64>) -> std::io::Result<String> {
+    let text = serde_json::to_string_pretty(score)?.replace('\n', "\n    ");
+    Ok(match time_step {
+        Some(dt) => {
+            // `time` is the first key: its line ends at the first ",\n".
+            let at = text
+                .find(",\n")
+                .expect("a step has more keys than its time");
+            let value = serde_json::to_string(&super::input_time(score.time, dt))?;
+            format!(
+                "{},\n      \"input_time\": {value}{}",
+                &text[..at],
+                &text[at..]
+            )
+        }
+        None => text,
+    })
 }
 
 /// JSON: `params`, `inputs`, `window`, `steps` and `summary`. The document around `steps` is
@@ -66,17 +82,22 @@ pub fn write_json<W: Write>(
         match stretch {
             Stretch::Occupied(score) => {
                 out.write_all(separator)?;
-                out.write_all(entry(score)?.as_bytes())?;
+                out.write_all(entry(score, inputs.time_step)?.as_bytes())?;
             }
             Stretch::Empty { first, last } => {
-                // Time is the first key: the entry is `head`, the time, `tail`.
-                let template = entry(&series.empty_step(0))?;
+                // Time is the first key: the entry is `head`, the time, (the input time,)
+                // `tail`.
+                let template = entry(&series.empty_step(0), None)?;
                 let split = template.find("\"time\": 0").expect("time comes first") + 8;
                 let (head, tail) = (&template[..split], &template[split + 1..]);
                 for time in first..=last {
                     out.write_all(separator)?;
                     out.write_all(head.as_bytes())?;
                     write_step(&mut out, time)?;
+                    if let Some(dt) = inputs.time_step {
+                        let value = serde_json::to_string(&super::input_time(time, dt))?;
+                        write!(out, ",\n      \"input_time\": {value}")?;
+                    }
                     out.write_all(tail.as_bytes())?;
                 }
             }
@@ -94,11 +115,34 @@ pub fn write_json<W: Write>(
 /// CSV: one row per step of the window, empty steps included. The rows of a run of empty steps
 /// differ only in their time, so the rest of the row is formatted once per run.
 pub fn write_csv<W: Write>(out: &mut W, series: &OccupiedSteps) -> std::io::Result<()> {
+    write_csv_timed(out, series, None)
+}
+
+/// [`write_csv`], with an `input_time` column after `time` (the step in the input's time
+/// units) when a step size is given.
+pub fn write_csv_timed<W: Write>(
+    out: &mut W,
+    series: &OccupiedSteps,
+    time_step: Option<f64>,
+) -> std::io::Result<()> {
     let mut out = std::io::BufWriter::with_capacity(1 << 16, out);
+    let timed = if time_step.is_some() {
+        ",input_time"
+    } else {
+        ""
+    };
     writeln!(
         out,
-        "time,gospa,localization,missed,false,missed_count,false_count,truth_count,estimate_count"
+        "time{timed},gospa,localization,missed,false,missed_count,false_count,truth_count,\
+         estimate_count"
     )?;
+    let write_time = |out: &mut std::io::BufWriter<&mut W>, time: Step| -> std::io::Result<()> {
+        write_step(out, time)?;
+        if let Some(dt) = time_step {
+            write!(out, ",{}", super::input_time(time, dt))?;
+        }
+        Ok(())
+    };
     let after_time = |s: &StepScore| {
         format!(
             ",{},{},{},{},{},{},{},{}\n",
@@ -115,13 +159,13 @@ pub fn write_csv<W: Write>(out: &mut W, series: &OccupiedSteps) -> std::io::Resu
     for stretch in series.stretches() {
         match stretch {
             Stretch::Occupied(s) => {
-                write_step(&mut out, s.time)?;
+                write_time(&mut out, s.time)?;
                 out.write_all(after_time(s).as_bytes())?;
             }
             Stretch::Empty { first, last } => {
                 let rest = after_time(&series.empty_step(first));
                 for time in first..=last {
-                    write_step(&mut out, time)?;
+                    write_time(&mut out, time)?;
                     out.write_all(rest.as_bytes())?;
                 }
             }
@@ -168,15 +212,19 @@ pub fn write_text<W: Write>(
     )?;
     writeln!(out, "{}", inputs.lines("truth    ", "estimate "))?;
     let row = |s: &StepScore| {
-        vec![
-            s.time.to_string(),
+        let mut cells = vec![s.time.to_string()];
+        if let Some(time) = inputs.input_time(s.time) {
+            cells.push(time.to_string());
+        }
+        cells.extend([
             fixed(s.gospa, 4),
             fixed_or_dash(s.localization, 4),
             fixed_or_dash(s.missed, 4),
             fixed_or_dash(s.false_, 4),
             format!("{}/{}", s.missed_count, s.truth_count),
             format!("{}/{}", s.false_count, s.estimate_count),
-        ]
+        ]);
+        cells
     };
     // Rows for the occupied steps and short empty runs; each long run is a line written before
     // the row at its position.
@@ -193,15 +241,18 @@ pub fn write_text<W: Write>(
             }
         }
     }
-    let header = [
-        "step",
+    let mut header = vec!["step"];
+    if inputs.time_step.is_some() {
+        header.push("time");
+    }
+    header.extend([
         "GOSPA",
         "localisation^p",
         "missed^p",
         "false^p",
         "missed/truths",
         "false/tracks",
-    ];
+    ]);
     if runs.is_empty() {
         write_table(out, &header, &rows)?;
     } else {

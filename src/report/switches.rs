@@ -4,7 +4,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{fixed, write_run_header, write_table, Exactness, InputInfo};
+use super::{fixed, input_time, write_run_header, write_table, Exactness, InputInfo, TimedEvents};
 use crate::assignment::switches::{JumpEvent, SwitchEvent, SwitchKinds};
 use crate::trajectory::Step;
 use crate::trajectory_metric::TrajectoryParams;
@@ -23,9 +23,9 @@ pub struct SwitchesDocument<'a> {
     /// The truth-side events by kind: full, half, swaps, breaks, hand-overs.
     pub kinds: SwitchKinds,
     /// Switches seen from the truths.
-    pub switches: &'a [SwitchEvent],
+    pub switches: TimedEvents<'a, SwitchEvent>,
     /// Jumps seen from the estimates.
-    pub jumps: &'a [JumpEvent],
+    pub jumps: TimedEvents<'a, JumpEvent>,
     /// Whether the solution is integral or exact (`integral`, `lp_total`, `exact_total`,
     /// `exact`).
     #[serde(flatten)]
@@ -50,19 +50,38 @@ pub fn write_csv<W: Write>(
     switches: &[SwitchEvent],
     jumps: &[JumpEvent],
 ) -> std::io::Result<()> {
+    write_csv_timed(out, switches, jumps, None)
+}
+
+/// [`write_csv`], with an `input_time` column after `time` (the step in the input's time
+/// units) when a step size is given.
+pub fn write_csv_timed<W: Write>(
+    out: &mut W,
+    switches: &[SwitchEvent],
+    jumps: &[JumpEvent],
+    time_step: Option<f64>,
+) -> std::io::Result<()> {
     let mut writer = csv::Writer::from_writer(&mut *out);
-    writer.write_record(["side", "time", "object", "from", "to", "weight", "cost"])?;
+    let mut header = vec!["side", "time"];
+    if time_step.is_some() {
+        header.push("input_time");
+    }
+    header.extend(["object", "from", "to", "weight", "cost"]);
+    writer.write_record(&header)?;
     let (truth_rows, track_rows) = event_rows(switches, jumps);
     for row in truth_rows.iter().chain(&track_rows) {
-        writer.write_record([
-            row.side.to_string(),
-            row.time.to_string(),
+        let mut cells = vec![row.side.to_string(), row.time.to_string()];
+        if let Some(dt) = time_step {
+            cells.push(input_time(row.time, dt).to_string());
+        }
+        cells.extend([
             row.object.to_string(),
             id(row.from).to_string(),
             id(row.to).to_string(),
             row.weight.to_string(),
             row.cost.to_string(),
-        ])?;
+        ]);
+        writer.write_record(&cells)?;
     }
     writer.flush()
 }
@@ -116,6 +135,7 @@ fn write_events<W: Write>(
     title: &str,
     object: &str,
     rows: &[EventRow],
+    time_step: Option<f64>,
 ) -> std::io::Result<()> {
     writeln!(out, "{title} ({}):", rows.len())?;
     if rows.is_empty() {
@@ -124,8 +144,11 @@ fn write_events<W: Write>(
     let cells: Vec<Vec<String>> = rows
         .iter()
         .map(|e| {
-            vec![
-                e.time.to_string(),
+            let mut row = vec![e.time.to_string()];
+            if let Some(dt) = time_step {
+                row.push(input_time(e.time, dt).to_string());
+            }
+            row.extend([
                 e.object.to_string(),
                 label(e.from),
                 "->".to_string(),
@@ -133,14 +156,16 @@ fn write_events<W: Write>(
                 kind(e.from, e.to).to_string(),
                 fixed(e.weight, 3),
                 fixed(e.cost, 4),
-            ]
+            ]);
+            row
         })
         .collect();
-    write_table(
-        out,
-        &["step", object, "from", "", "to", "kind", "weight", "cost"],
-        &cells,
-    )
+    let mut header = vec!["step"];
+    if time_step.is_some() {
+        header.push("time");
+    }
+    header.extend([object, "from", "", "to", "kind", "weight", "cost"]);
+    write_table(out, &header, &cells)
 }
 
 fn label(value: &Option<String>) -> String {
@@ -159,10 +184,23 @@ fn kind(from: &Option<String>, to: &Option<String>) -> &'static str {
 pub fn write_text<W: Write>(out: &mut W, document: &SwitchesDocument) -> std::io::Result<()> {
     write_run_header(out, "Identity switches", document.params, document.inputs)?;
     writeln!(out)?;
-    let (truth_rows, track_rows) = event_rows(document.switches, document.jumps);
-    write_events(out, "Truths passing between tracks", "truth", &truth_rows)?;
+    let (truth_rows, track_rows) = event_rows(document.switches.events, document.jumps.events);
+    let dt = document.inputs.time_step;
+    write_events(
+        out,
+        "Truths passing between tracks",
+        "truth",
+        &truth_rows,
+        dt,
+    )?;
     writeln!(out)?;
-    write_events(out, "Tracks passing between truths", "track", &track_rows)?;
+    write_events(
+        out,
+        "Tracks passing between truths",
+        "track",
+        &track_rows,
+        dt,
+    )?;
     writeln!(out)?;
     writeln!(
         out,

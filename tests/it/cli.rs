@@ -278,7 +278,7 @@ fn audit_csv_lists_every_span_of_the_json() {
     let mut lines = csv.lines();
     assert_eq!(
         lines.next(),
-        Some("side,object,rank,kind,first,last,steps,partner,mean_error")
+        Some("side,object,rank,kind,first,last,steps,partner,mean_error,object_cost,object_share")
     );
     assert_eq!(lines.count(), expected);
 }
@@ -365,4 +365,80 @@ fn audit_ranks_by_cost_and_top_limits_tracks_too() {
         .map(|t| t["rank"].as_u64().unwrap())
         .collect();
     assert_eq!(ranks, vec![1, 2, 3]);
+}
+
+/// With `--time-step 0.1`, outputs give each step's time in the input's units beside the step
+/// index: time = step x step size (common practice for sampled data; the step is
+/// round(time / step size), `specs/formats.md`), so the row written 0.30000001 reads 0.3. Hand
+/// scene: truth a at x = 0 on times 0 to 0.4; track p at 0.5 on 0 and 0.1, track q at 0 from
+/// 0.2: one switch p -> q at step 2 (time 0.2).
+#[test]
+fn time_step_gives_times_in_the_input_units() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = dir.path().join("t.csv");
+    let estimate = dir.path().join("e.csv");
+    std::fs::write(
+        &truth,
+        "time,id,x\n0,a,0\n0.1,a,0\n0.2,a,0\n0.30000001,a,0\n0.4,a,0\n",
+    )
+    .unwrap();
+    std::fs::write(
+        &estimate,
+        "time,id,x\n0,p,0.5\n0.1,p,0.5\n0.2,q,0\n0.3,q,0\n0.4,q,0\n",
+    )
+    .unwrap();
+    let args = |command: &str, format: &str| -> Vec<String> {
+        let mut args: Vec<String> = [command, "--truth"].map(String::from).to_vec();
+        args.push(truth.to_str().unwrap().into());
+        args.push("--estimate".into());
+        args.push(estimate.to_str().unwrap().into());
+        args.extend(
+            [
+                "--state-columns",
+                "x",
+                "-c",
+                "2",
+                "--time-step",
+                "0.1",
+                "-f",
+                format,
+            ]
+            .map(String::from),
+        );
+        args
+    };
+    let csv = String::from_utf8(run(&args("steps", "csv"))).unwrap();
+    let rows: Vec<Vec<&str>> = csv.lines().map(|l| l.split(',').collect()).collect();
+    assert_eq!(&rows[0][..3], &["time", "input_time", "gospa"]);
+    let times: Vec<(&str, &str)> = rows[1..].iter().map(|r| (r[0], r[1])).collect();
+    assert_eq!(
+        times,
+        vec![
+            ("0", "0"),
+            ("1", "0.1"),
+            ("2", "0.2"),
+            ("3", "0.3"),
+            ("4", "0.4")
+        ]
+    );
+    let json: Value = serde_json::from_slice(&run(&args("switches", "json"))).unwrap();
+    assert_eq!(json["inputs"]["time_step"], 0.1);
+    assert_eq!(json["switches"][0]["time"], 2);
+    assert_eq!(json["switches"][0]["input_time"], 0.2);
+    let audit = String::from_utf8(run(&args("audit", "csv"))).unwrap();
+    let mut lines = audit.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let first_time = header.iter().position(|h| *h == "first_time").unwrap();
+    let last_time = header.iter().position(|h| *h == "last_time").unwrap();
+    let spans: Vec<(String, String)> = lines
+        .filter(|l| l.starts_with("truth,"))
+        .map(|l| {
+            let cells: Vec<&str> = l.split(',').collect();
+            (cells[first_time].to_string(), cells[last_time].to_string())
+        })
+        .collect();
+    assert_eq!(
+        spans,
+        vec![("0".into(), "0.1".into()), ("0.2".into(), "0.4".into())]
+    );
 }
