@@ -127,13 +127,13 @@ class Score(_Exactness):
     @property
     def switches(self) -> Any:
         """Switches seen from the truths: time, truth, from, to, weight, cost (from/to are
-        estimate ids, None for unassigned)."""
+        estimate ids; missing for unassigned: None, NaN in a DataFrame)."""
         return table(self._document["switches"], ("time", "truth") + _EVENT_COLUMNS[1:])
 
     @property
     def jumps(self) -> Any:
         """Jumps seen from the estimates: time, estimate, from, to, weight, cost (from/to are
-        truth ids, None for unassigned)."""
+        truth ids; missing for unassigned: None, NaN in a DataFrame)."""
         return table(self._document["jumps"], ("time", "estimate") + _EVENT_COLUMNS[1:])
 
     def __repr__(self) -> str:
