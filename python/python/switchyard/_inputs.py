@@ -42,13 +42,34 @@ def default_state_columns(names: Sequence[str]) -> List[str]:
     return ["x", "y", "z"] if "z" in names else ["x", "y"]
 
 
+class _FrameColumns(Mapping):
+    """A DataFrame's columns by name, each converted to a numpy array when asked for."""
+
+    def __init__(self, frame: Any) -> None:
+        self._frame = frame
+        self._names = {str(name): name for name in frame.columns}
+
+    def __getitem__(self, name: str) -> Any:
+        return self._frame[self._names[name]].to_numpy()
+
+    def __iter__(self) -> Any:
+        return iter(self._names)
+
+    def __len__(self) -> int:
+        return len(self._names)
+
+    def __contains__(self, name: object) -> bool:
+        return name in self._names
+
+
 def _columns_of(value: Any, source: str, columns: Optional[Sequence[str]]) -> Mapping[str, Any]:
     """The input as a mapping from column name to a sequence of values."""
     frame = _dataframe_type()
     if frame is not None and isinstance(value, frame):
         if columns is not None:
             raise ValueError(f"{source}: columns= names the columns of a 2-D array, not of a DataFrame")
-        return {str(name): value[name] for name in value.columns}
+        # Only the columns used are converted (a Series costs more to touch than its array).
+        return _FrameColumns(value)
     if isinstance(value, Mapping):
         if columns is not None:
             raise ValueError(f"{source}: columns= names the columns of a 2-D array, not of a mapping")
@@ -198,14 +219,14 @@ def to_input(
     for name in wanted:
         if name not in table:
             raise ValueError(f"{source}: there is no column {name!r} (it has: {', '.join(map(repr, names))})")
-    lengths = {name: len(table[name]) for name in wanted}
-    rows = lengths[time_column]
-    for name, length in lengths.items():
-        if length != rows:
+    columns_used = {name: table[name] for name in wanted}
+    rows = len(columns_used[time_column])
+    for name, column in columns_used.items():
+        if len(column) != rows:
             raise ValueError(
-                f"{source}: column {name!r} has {length} values but column {time_column!r} has {rows}"
+                f"{source}: column {name!r} has {len(column)} values but column {time_column!r} has {rows}"
             )
-    times, integer_times = _times(source, time_column, table[time_column])
-    ids = _ids(table[id_column])
-    state_bytes = _states(source, states, [table[name] for name in states], rows)
+    times, integer_times = _times(source, time_column, columns_used[time_column])
+    ids = _ids(columns_used[id_column])
+    state_bytes = _states(source, states, [columns_used[name] for name in states], rows)
     return (source, time_column, id_column, states, ids, times, integer_times, state_bytes)
