@@ -4,6 +4,8 @@
 //! and hands back the same JSON document the command line writes (built from the same serde
 //! structs).
 
+mod aggregate;
+
 use std::collections::HashMap;
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::time::Duration;
@@ -485,12 +487,31 @@ fn run(
 ) -> PyResult<(String, Vec<String>)> {
     let truth = extract_input(truth)?;
     let estimate = extract_input(estimate)?;
-    let work = || run_command(command, truth, estimate, &options);
+    released(py, &format!("running {command}"), || {
+        run_command(command, truth, estimate, &options)
+    })
+}
+
+/// Aggregates case scores computed elsewhere into the document of `switchyard compare
+/// --format json` (see `aggregate::Scores` for the dict's keys); the bootstrap runs without
+/// the GIL. Errors as [`run`].
+#[pyfunction]
+fn compare_scores(py: Python<'_>, scores: aggregate::Scores) -> PyResult<String> {
+    released(py, "comparing", || aggregate::comparison_document(scores))
+}
+
+/// Runs `work` without the GIL, turning its error into a Python exception and a panic into
+/// InternalError, so the interpreter never goes down with it.
+fn released<T: Send>(
+    py: Python<'_>,
+    what: &str,
+    work: impl FnOnce() -> switchyard::Result<T> + Send,
+) -> PyResult<T> {
     match py.detach(|| catch_unwind(AssertUnwindSafe(work))) {
         Ok(Ok(output)) => Ok(output),
         Ok(Err(error)) => Err(to_python_error(&error)),
         Err(_) => Err(InternalError::new_err(format!(
-            "switchyard panicked while running {command}: please report it"
+            "switchyard panicked while {what}: please report it"
         ))),
     }
 }
@@ -511,6 +532,7 @@ fn to_python_error(error: &Error) -> PyErr {
 #[pymodule]
 fn _switchyard(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(run, m)?)?;
+    m.add_function(wrap_pyfunction!(compare_scores, m)?)?;
     m.add("InternalError", m.py().get_type::<InternalError>())?;
     Ok(())
 }

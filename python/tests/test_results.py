@@ -186,3 +186,15 @@ def test_swap_scene_by_hand():
     assert got.total == pytest.approx(8.0, abs=1e-9) and got.switching == pytest.approx(8.0, abs=1e-9)
     assert got.metric == pytest.approx(math.sqrt(8.0), rel=1e-12)
     assert got.switch_count == pytest.approx(2.0, abs=0)
+
+
+def test_compare_refuses_incomplete_or_repeated_scores():
+    truth = ROOT / "demo-data/truth.csv"
+    a = switchyard.score(truth, ROOT / "demo-data/tracker-swaps.csv", cutoff=20)
+    b = switchyard.score(truth, ROOT / "demo-data/tracker-fragments.csv", cutoff=20)
+    with pytest.raises(ValueError, match="no score of tracker 'b' for sequence '', run '2'"):
+        switchyard.compare([("a", None, 1, a), ("a", None, 2, a), ("b", None, 1, b)])
+    with pytest.raises(ValueError, match="two scores of tracker 'a' for sequence '', run '1'"):
+        switchyard.compare([("a", None, 1, a), ("a", None, 1, b)])
+    with pytest.raises(ValueError, match="the number of bootstrap resamples must lie between 1"):
+        switchyard.compare([("a", None, 1, a), ("b", None, 1, b)], resamples=0)

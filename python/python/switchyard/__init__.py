@@ -4,14 +4,19 @@ Each function takes the truth and the estimate as a CSV path, a pandas DataFrame
 columns (numpy arrays or lists) or a 2-D numpy array, with the command line's parameters, and
 returns a result object whose ``to_dict()`` is the command's JSON document:
 
-=============  ==========================  ==========
+=============  ==========================  ==============
 function       command line                result
-=============  ==========================  ==========
+=============  ==========================  ==============
 ``score``      ``switchyard score``        ``Score``
 ``switches``   ``switchyard switches``     ``Switches``
 ``audit``      ``switchyard audit``        ``Audit``
 ``steps``      ``switchyard steps``        ``Steps``
-=============  ==========================  ==========
+``compare``    ``switchyard compare``      ``Comparison``
+=============  ==========================  ==============
+
+``compare`` takes the ``Score`` of every (tracker, sequence, run) and ranks the trackers with
+the command's paired bootstrap: the scores can come from anywhere (a loop, or the workers of
+Dask, Ray or Spark), since each case is scored on its own.
 
 Columns are found by name: ``time``, ``id`` and ``x``, ``y`` (plus ``z`` when present) by
 default, as on the command line; ``time_column``, ``id_column`` and ``state_columns`` rename
@@ -31,6 +36,7 @@ import os
 import warnings
 from typing import Any, Dict, List, Optional, Sequence, Tuple, Union
 
+from ._compare import Comparison, compare
 from ._inputs import to_input
 from ._results import Audit, Score, Steps, Switches
 from ._switchyard import InternalError
@@ -38,12 +44,14 @@ from ._switchyard import run as _run
 
 __all__ = [
     "Audit",
+    "Comparison",
     "InternalError",
     "Score",
     "SolveNote",
     "Steps",
     "Switches",
     "audit",
+    "compare",
     "score",
     "steps",
     "switches",

@@ -56,8 +56,8 @@ class _Document:
         self._document: Dict[str, Any] = json.loads(text)
         #: Notes the command line prints on standard error (parts that could not be proven).
         self.notes: List[str] = list(notes)
-        #: The parameters: ``{"cutoff": c, "order": p, ...}``.
-        self.params: Dict[str, float] = self._document["params"]
+        #: The parameters: ``{"cutoff": c, "order": p, ...}`` (a comparison has them per setting).
+        self.params: Dict[str, float] = self._document.get("params", {})
         #: The inputs: names (file, or the name given to a table), counts and the distance.
         self.inputs: Dict[str, Any] = self._document["inputs"]
 

@@ -17,3 +17,8 @@ def run(
 ) -> Tuple[str, List[str]]:
     """Runs ``score``, ``switches``, ``audit`` or ``steps`` without the GIL; returns the command
     line's JSON document as text and the notes it would print on standard error."""
+
+def compare_scores(scores: Dict[str, Any]) -> str:
+    """Aggregates case scores (keys: settings, trackers, cases, scores[setting][tracker][case]
+    as 12-tuples, resamples, seed, confidence, resample_by, per_sequence, truth, manifest,
+    estimates, distance, engine) into the JSON document of ``switchyard compare``."""
