@@ -162,3 +162,31 @@ def test_without_pandas_tables_are_dicts_of_arrays(monkeypatch):
     # steps.json: 300 steps; the first has 10 truths and no estimate: 10 * 20 / 2 = 100.
     assert table["gospa"].shape == (300,)
     assert table["gospa"][0] == pytest.approx(100.0, abs=1e-12)
+
+
+def test_distances_by_hand():
+    # Two truths over 3 steps, each estimate offset by (1, 1), cut-off 5, order 1, no switch:
+    # d^p = 6 object-steps x the distance of the offset (common practice definitions):
+    # euclidean sqrt(2), weighted euclidean (4, 1) sqrt(4 + 1), manhattan 2, chebyshev 1,
+    # weighted chebyshev (3, 1) 3.
+    truth = {"time": [0, 0, 1, 1, 2, 2], "id": ["a", "b"] * 3, "x": [0, 10, 1, 11, 2, 12], "y": [0.0] * 6}
+    estimate = {"time": truth["time"], "id": ["p", "q"] * 3, "x": [v + 1 for v in truth["x"]], "y": [1.0] * 6}
+    cases = [
+        ({}, 2 ** 0.5),
+        ({"weights": [4, 1]}, 5 ** 0.5),
+        ({"distance": "manhattan"}, 2.0),
+        ({"distance": "chebyshev"}, 1.0),
+        ({"distance": "chebyshev", "weights": [3, 1]}, 3.0),
+    ]
+    for options, distance in cases:
+        got = switchyard.score(truth, estimate, cutoff=5, **options)
+        assert got.total == pytest.approx(6 * distance, rel=1e-12), options
+        assert got.inputs["distance"] == options.get("distance", "euclidean")
+    with pytest.raises(ValueError, match="the iou distance needs state_columns"):
+        switchyard.score(truth, estimate, cutoff=0.5, distance="iou")
+    with pytest.raises(ValueError, match="weights apply to the euclidean, manhattan and chebyshev distances, not to iou"):
+        switchyard.score(truth, estimate, cutoff=0.5, distance="iou", weights=[1, 1, 1, 1], state_columns=["x", "y", "x", "y"])
+    with pytest.raises(ValueError, match="3 column weights given for 2 state columns"):
+        switchyard.score(truth, estimate, cutoff=5, weights=[1, 1, 1])
+    with pytest.raises(ValueError, match='unknown distance "cosine"'):
+        switchyard.score(truth, estimate, cutoff=5, distance="cosine")

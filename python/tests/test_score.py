@@ -86,3 +86,10 @@ def test_bad_csv_names_file_line_and_column(tmp_path):
 def test_missing_file_is_a_value_error_naming_it():
     with pytest.raises(ValueError, match="no-such-file.csv"):
         switchyard.score("demo-data/truth.csv", "no-such-file.csv", cutoff=20)
+
+
+def test_memory_budget_too_small_is_a_memory_error():
+    # The command line exits 4 with "over the memory budget" when the candidate pairs alone
+    # would not fit (src/cmd/mod.rs, exit codes); the package raises MemoryError with that text.
+    with pytest.raises(MemoryError, match="over the memory budget"):
+        switchyard.score("demo-data/truth.csv", "demo-data/tracker-swaps.csv", cutoff=20, memory_budget=1)
