@@ -1,21 +1,34 @@
-//! The compiled half of the Python package `switchyard`: a thin layer that reads the inputs
-//! with the library's own CSV reader, scores them with the library, and hands back the same
-//! JSON document the command line writes (built from the same serde structs).
+//! The compiled half of the Python package `switchyard`: a thin layer that builds the two
+//! trajectory sets (from CSV files with the library's own reader, or from columns the Python
+//! layer has already split into plain arrays), runs one of the commands built on the library,
+//! and hands back the same JSON document the command line writes (built from the same serde
+//! structs).
 
+mod aggregate;
+
+use std::collections::HashMap;
 use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::time::Duration;
 
 use pyo3::create_exception;
 use pyo3::exceptions::{PyException, PyMemoryError, PyValueError};
 use pyo3::prelude::*;
+use pyo3::types::{PyBytes, PyString};
 
-use switchyard::distance::Distance;
+use switchyard::audit::audit;
+use switchyard::distance::{BoxLayout, Distance};
 use switchyard::input::{read_csv_path, CsvLayout, TrajectoryFile};
 use switchyard::per_step::{occupied_steps, GospaParams};
-use switchyard::report::{score::ScoreDocument, steps, InputInfo};
+use switchyard::report::audit::AuditDocument;
+use switchyard::report::score::ScoreDocument;
+use switchyard::report::switches::SwitchesDocument;
+use switchyard::report::{steps, Exactness, InputInfo};
 use switchyard::switches::{jump_events, switch_events};
+use switchyard::trajectory::{Step, Trajectory, TrajectorySet};
 use switchyard::trajectory_metric::{
-    score_with, Engine, ExactBudget, SolveOptions, TrajectoryParams,
+    score_with, Engine, ExactBudget, SolveOptions, TrajectoryParams, TrajectoryScore,
 };
+use switchyard::Error;
 
 create_exception!(
     _switchyard,
@@ -24,155 +37,493 @@ create_exception!(
     "A failure inside switchyard that is not the caller's input: please report it."
 );
 
-/// Reads a truth and an estimate CSV file (default columns, Euclidean distance) and checks
-/// that they can be compared at this cut-off.
-fn read_inputs(
-    truth: &str,
-    estimate: &str,
-    cutoff: f64,
-) -> switchyard::Result<(TrajectoryFile, TrajectoryFile, Distance)> {
-    let distance = Distance::default();
-    distance.check_cutoff(cutoff)?;
-    let layout = CsvLayout {
-        distance: Some(distance.clone()),
-        ..CsvLayout::default()
+/// The largest step magnitude accepted from a decimal time: beyond it a double no longer holds
+/// every integer (the CSV reader's limit too).
+const MAX_STEP: f64 = 9_007_199_254_740_992.0; // 2^53
+
+/// The times of a table: integer steps, or numbers (decimal timestamps, or integers held as
+/// floating point) to turn into steps.
+enum Times {
+    Steps(Vec<i64>),
+    Numbers(Vec<f64>),
+}
+
+/// A table the Python layer has split into plain columns: one row per object per step.
+struct Table {
+    /// What messages call it (`truth`, `estimate`, or the name the caller gave).
+    source: String,
+    time_column: String,
+    id_column: String,
+    state_columns: Vec<String>,
+    ids: Vec<String>,
+    times: Times,
+    /// Row-major: row r's state is `states[r * dim..(r + 1) * dim]`.
+    states: Vec<f64>,
+}
+
+/// One input: a CSV file, or a table.
+enum Input {
+    Path(String),
+    Table(Table),
+}
+
+/// Reads native-endian 8-byte values.
+fn words<T>(bytes: &[u8], from: fn([u8; 8]) -> T) -> Vec<T> {
+    bytes
+        .chunks_exact(8)
+        .map(|chunk| from(chunk.try_into().expect("chunks of 8 bytes")))
+        .collect()
+}
+
+/// An input as the Python layer passes it: a path (str), or the tuple `(source, time column,
+/// id column, state columns, ids, times as bytes, times are integers, states as bytes)`.
+fn extract_input(value: &Bound<'_, PyAny>) -> PyResult<Input> {
+    if value.is_instance_of::<PyString>() {
+        return Ok(Input::Path(value.extract()?));
+    }
+    type Parts<'py> = (
+        String,
+        String,
+        String,
+        Vec<String>,
+        Vec<String>,
+        Bound<'py, PyBytes>,
+        bool,
+        Bound<'py, PyBytes>,
+    );
+    let (source, time_column, id_column, state_columns, ids, times, integer_times, states): Parts =
+        value.extract()?;
+    let rows = ids.len();
+    let dim = state_columns.len();
+    let (times, states) = (times.as_bytes(), states.as_bytes());
+    if times.len() != rows * 8 || states.len() != rows * dim * 8 {
+        return Err(InternalError::new_err(format!(
+            "{source}: columns of different lengths reached the compiled module"
+        )));
+    }
+    let times = if integer_times {
+        Times::Steps(words(times, i64::from_ne_bytes))
+    } else {
+        Times::Numbers(words(times, f64::from_ne_bytes))
     };
-    let truth = read_csv_path(truth, &layout)?;
-    let estimate = read_csv_path(estimate, &layout)?;
+    Ok(Input::Table(Table {
+        source,
+        time_column,
+        id_column,
+        state_columns,
+        ids,
+        times,
+        states: words(states, f64::from_ne_bytes),
+    }))
+}
+
+/// Everything a command takes besides its inputs: the metric, how to solve it, the distance,
+/// and how CSV files are read. Read from a dict whose keys are the field names.
+#[derive(FromPyObject)]
+#[pyo3(from_item_all)]
+struct Options {
+    cutoff: f64,
+    order: f64,
+    switch_penalty: Option<f64>,
+    alpha: f64,
+    engine: String,
+    exact: bool,
+    exact_seconds: Option<f64>,
+    exact_nodes: Option<u64>,
+    memory_budget: Option<u64>,
+    top: Option<usize>,
+    distance: String,
+    weights: Option<Vec<f64>>,
+    box_layout: Option<String>,
+    time_column: String,
+    id_column: String,
+    state_columns: Option<Vec<String>>,
+    time_step: Option<f64>,
+    delimiter: String,
+}
+
+/// An error about one cell of a table: its source, row (counting from 0) and column.
+fn cell_error(source: &str, row: usize, column: &str, message: impl std::fmt::Display) -> Error {
+    Error::Mismatch(format!("{source}: row {row}, column {column:?}: {message}"))
+}
+
+/// The step of a time given as a number: `round(time / time_step)`, or the time itself when it
+/// is an integer and no time step is given (as the CSV reader does).
+fn number_step(time: f64, time_step: Option<f64>) -> Result<Step, String> {
+    if !time.is_finite() {
+        return Err(format!(
+            "expected a finite time, found {time} (NaN and infinite values are not accepted)"
+        ));
+    }
+    let step = match time_step {
+        Some(dt) => (time / dt).round(),
+        None if time.fract() != 0.0 => {
+            return Err(format!(
+                "the time {time} is not an integer step; give a time step (time_step=) for \
+                 decimal timestamps"
+            ))
+        }
+        None => time,
+    };
+    if step.abs() > MAX_STEP {
+        return Err(format!(
+            "the time {time} gives step {step:e}, beyond the supported range of +-2^53"
+        ));
+    }
+    Ok(step as Step)
+}
+
+/// Builds the trajectory set of a table, trajectories in order of first appearance (as the
+/// CSV reader orders them), checking each row as the reader checks each line: an id, a time
+/// that is a step, finite state values the distance can read, one row per object and step.
+fn table_file(
+    table: Table,
+    time_step: Option<f64>,
+    distance: &Distance,
+) -> switchyard::Result<TrajectoryFile> {
+    if let Some(dt) = time_step {
+        if !(dt.is_finite() && dt > 0.0) {
+            return Err(Error::Parameter(format!(
+                "the time step must be a positive number, got {dt}"
+            )));
+        }
+    }
+    let Table {
+        source,
+        time_column,
+        id_column,
+        state_columns,
+        ids,
+        times,
+        states,
+    } = table;
+    let dim = state_columns.len();
+    let mut index: HashMap<&str, usize> = HashMap::new();
+    // Per object: its id, then (step, row) of each point.
+    let mut objects: Vec<(&str, Vec<(Step, usize)>)> = Vec::new();
+    for (row, id) in ids.iter().enumerate() {
+        if id.is_empty() {
+            return Err(cell_error(
+                &source,
+                row,
+                &id_column,
+                "the id is empty or missing",
+            ));
+        }
+        let step = match &times {
+            Times::Steps(steps) if time_step.is_none() => {
+                let step = steps[row];
+                if step.unsigned_abs() > MAX_STEP as u64 {
+                    Err(format!(
+                        "the time {step} is beyond the supported range of +-2^53"
+                    ))
+                } else {
+                    Ok(step)
+                }
+            }
+            Times::Steps(steps) => number_step(steps[row] as f64, time_step),
+            Times::Numbers(numbers) => number_step(numbers[row], time_step),
+        }
+        .map_err(|message| cell_error(&source, row, &time_column, message))?;
+        let state = &states[row * dim..(row + 1) * dim];
+        if let Some(k) = state.iter().position(|v| !v.is_finite()) {
+            let message = format!(
+                "expected a finite number, found {} (NaN and infinite values are not accepted)",
+                state[k]
+            );
+            return Err(cell_error(&source, row, &state_columns[k], message));
+        }
+        if let Err((k, message)) = distance.check_state(state) {
+            return Err(cell_error(&source, row, &state_columns[k], message));
+        }
+        let object = *index.entry(id.as_str()).or_insert_with(|| {
+            objects.push((id.as_str(), Vec::new()));
+            objects.len() - 1
+        });
+        objects[object].1.push((step, row));
+    }
+    let mut trajectories = Vec::with_capacity(objects.len());
+    for (id, mut points) in objects {
+        points.sort_unstable();
+        if let Some(pair) = points.windows(2).find(|pair| pair[0].0 == pair[1].0) {
+            let ((step, first), (_, second)) = (pair[0], pair[1]);
+            return Err(cell_error(
+                &source,
+                second,
+                &time_column,
+                format!("id {id:?} has a second row at step {step} (the first is row {first})"),
+            ));
+        }
+        let points = points
+            .into_iter()
+            .map(|(step, row)| (step, states[row * dim..(row + 1) * dim].to_vec()))
+            .collect();
+        trajectories.push(Trajectory::new(id, dim, points)?);
+    }
+    Ok(TrajectoryFile {
+        source,
+        state_columns,
+        set: TrajectorySet::new(dim, trajectories)?,
+    })
+}
+
+/// The base distance the options name, refusing options that do not go together.
+fn build_distance(options: &Options) -> switchyard::Result<Distance> {
+    let name = options.distance.as_str();
+    let weights = options.weights.clone();
+    if weights.is_some() && matches!(name, "iou" | "geodesic") {
+        return Err(Error::Parameter(format!(
+            "weights apply to the euclidean, manhattan and chebyshev distances, not to {name}"
+        )));
+    }
+    if options.box_layout.is_some() && name != "iou" {
+        return Err(Error::Parameter(format!(
+            "box_layout applies to the iou distance, not to {name}"
+        )));
+    }
+    let layout = match options.box_layout.as_deref() {
+        None | Some("corner-size") => BoxLayout::CornerSize,
+        Some("corners") => BoxLayout::Corners,
+        Some("centre-size" | "center-size") => BoxLayout::CentreSize,
+        Some(other) => {
+            return Err(Error::Parameter(format!(
+                "unknown box layout {other:?}: give corner-size, corners or centre-size"
+            )))
+        }
+    };
+    Ok(match name {
+        "euclidean" => Distance::Euclidean { weights },
+        "manhattan" => Distance::Manhattan { weights },
+        "chebyshev" => Distance::Chebyshev { weights },
+        "iou" => Distance::Iou(layout),
+        "geodesic" => Distance::Geodesic,
+        other => {
+            return Err(Error::Parameter(format!(
+                "unknown distance {other:?}: give euclidean, manhattan, chebyshev, iou or geodesic"
+            )))
+        }
+    })
+}
+
+/// Reads or builds both inputs and checks that they can be compared with the distance at this
+/// cut-off.
+fn read_inputs(
+    truth: Input,
+    estimate: Input,
+    options: &Options,
+) -> switchyard::Result<(TrajectoryFile, TrajectoryFile, Distance)> {
+    let distance = build_distance(options)?;
+    distance.check_cutoff(options.cutoff)?;
+    if let Some(columns) = &options.state_columns {
+        distance.check_dimension(columns.len())?;
+    }
+    let delimiter = match options.delimiter.as_str() {
+        "tab" | "\t" => b'\t',
+        text if text.len() == 1 && text.is_ascii() => text.as_bytes()[0],
+        text => {
+            return Err(Error::Parameter(format!(
+                "the delimiter must be one ASCII character or `tab`, got {text:?}"
+            )))
+        }
+    };
+    let layout = CsvLayout {
+        time_column: options.time_column.clone(),
+        id_column: options.id_column.clone(),
+        state_columns: options.state_columns.clone(),
+        time_step: options.time_step,
+        delimiter,
+        distance: Some(distance.clone()),
+    };
+    let read = |input: Input| match input {
+        Input::Path(path) => read_csv_path(&path, &layout),
+        Input::Table(table) => table_file(table, options.time_step, &distance),
+    };
+    let truth = read(truth)?;
+    let estimate = read(estimate)?;
     truth.check_comparable(&estimate)?;
-    distance.validate(truth.set.dim(), cutoff)?;
+    distance.validate(truth.set.dim(), options.cutoff)?;
     Ok((truth, estimate, distance))
 }
 
-/// Per-step GOSPA of two CSV files; returns the steps document as JSON text.
-fn steps_document(
-    truth: &str,
-    estimate: &str,
-    cutoff: f64,
-    order: f64,
-    alpha: f64,
-) -> switchyard::Result<String> {
-    let params = GospaParams::new(cutoff, order, alpha)?;
-    let (truth, estimate, distance) = read_inputs(truth, estimate, cutoff)?;
-    let series = occupied_steps(&truth.set, &estimate.set, &params, &distance)?;
-    let info = InputInfo::new(&truth, &estimate, &distance);
-    let mut json = Vec::new();
-    steps::write_json(&mut json, &series, &params, &info).expect("writing to memory succeeds");
-    Ok(String::from_utf8(json).expect("serde_json writes UTF-8"))
-}
-
-/// How to solve: the engine by its output name, the exact (integral) metric without a budget
-/// or the LP only, and the memory budget in bytes (`None`: the library's default).
-fn solve_options(
-    engine: &str,
-    exact: bool,
-    memory_budget: Option<u64>,
-) -> switchyard::Result<SolveOptions> {
-    let engines = [Engine::Lagrangian, Engine::Microlp, Engine::Highs];
-    let Some(engine) = engines.into_iter().find(|known| known.name() == engine) else {
-        return Err(switchyard::Error::Parameter(format!(
-            "unknown engine {engine:?}: give lagrangian, microlp or highs"
-        )));
+/// How to solve: the engine by its name (`auto` is the command line's default), the exact
+/// metric with its budget or the LP only, and the memory budget in bytes.
+fn solve_options(options: &Options) -> switchyard::Result<SolveOptions> {
+    let engine = match options.engine.as_str() {
+        "auto" => Engine::default(),
+        name => [Engine::Lagrangian, Engine::Microlp, Engine::Highs]
+            .into_iter()
+            .find(|known| known.name() == name)
+            .ok_or_else(|| {
+                Error::Parameter(format!(
+                    "unknown engine {name:?}: give auto, lagrangian, microlp or highs"
+                ))
+            })?,
     };
+    let budget = match (options.exact_seconds, options.exact_nodes) {
+        (Some(_), Some(_)) => {
+            return Err(Error::Parameter(
+                "give at most one of exact_seconds and exact_nodes".into(),
+            ))
+        }
+        (Some(seconds), None) => {
+            ExactBudget::Seconds(Duration::try_from_secs_f64(seconds).map_err(|_| {
+                Error::Parameter(format!(
+                    "exact_seconds must be a number >= 0 and below 10^19, got {seconds}"
+                ))
+            })?)
+        }
+        (None, Some(nodes)) => ExactBudget::Nodes(nodes),
+        (None, None) => ExactBudget::Unlimited,
+    };
+    if !options.exact && budget != ExactBudget::Unlimited {
+        return Err(Error::Parameter(
+            "exact_seconds and exact_nodes apply only with exact=True".into(),
+        ));
+    }
     let defaults = SolveOptions::default();
     Ok(SolveOptions {
         engine,
-        exact: exact.then_some(ExactBudget::Unlimited),
-        memory_budget: memory_budget.unwrap_or(defaults.memory_budget),
+        exact: options.exact.then_some(budget),
+        memory_budget: options.memory_budget.unwrap_or(defaults.memory_budget),
         ..defaults
     })
 }
 
-/// Scores two CSV files; returns the score document as JSON text.
-#[allow(clippy::too_many_arguments)]
-fn score_document(
-    truth: &str,
-    estimate: &str,
-    cutoff: f64,
-    order: f64,
-    switch_penalty: f64,
-    engine: &str,
-    exact: bool,
-    memory_budget: Option<u64>,
-) -> switchyard::Result<String> {
-    let options = solve_options(engine, exact, memory_budget)?;
-    let params = TrajectoryParams::new(cutoff, order, switch_penalty)?;
-    let (truth, estimate, distance) = read_inputs(truth, estimate, cutoff)?;
-    let result = score_with(&truth.set, &estimate.set, &params, &distance, &options)?;
-    let (t, e) = (&truth.set, &estimate.set);
-    let switches = switch_events(&result.assignment, t, e, &result.params);
-    let jumps = jump_events(&result.assignment, t, e, &result.params);
-    let info = InputInfo::new(&truth, &estimate, &distance);
-    let document = ScoreDocument::new(&result, &info, options.engine.name(), &switches, &jumps);
-    Ok(serde_json::to_string(&document).expect("a score document serialises"))
+/// Solves the trajectory LP on the inputs.
+fn solve(
+    truth: &TrajectoryFile,
+    estimate: &TrajectoryFile,
+    distance: &Distance,
+    options: &Options,
+    solve: &SolveOptions,
+) -> switchyard::Result<TrajectoryScore> {
+    let params = TrajectoryParams::new(
+        options.cutoff,
+        options.order,
+        options.switch_penalty.unwrap_or(options.cutoff),
+    )?;
+    score_with(&truth.set, &estimate.set, &params, distance, solve)
 }
 
-/// Scores the CSV files `truth` and `estimate`; returns the score document as JSON text.
-/// Bad input raises ValueError with the command line's message; a panic raises InternalError.
+/// Runs a command; returns its JSON document and the notes the command line would print on
+/// standard error.
+fn run_command(
+    command: &str,
+    truth: Input,
+    estimate: Input,
+    options: &Options,
+) -> switchyard::Result<(String, Vec<String>)> {
+    let json = |document: Result<String, serde_json::Error>| {
+        document.map_err(|error| Error::Solver(format!("a document did not serialise: {error}")))
+    };
+    if command == "steps" {
+        let params = GospaParams::new(options.cutoff, options.order, options.alpha)?;
+        let (truth, estimate, distance) = read_inputs(truth, estimate, options)?;
+        let series = occupied_steps(&truth.set, &estimate.set, &params, &distance)?;
+        let info = InputInfo::new(&truth, &estimate, &distance);
+        let mut text = Vec::new();
+        steps::write_json(&mut text, &series, &params, &info)
+            .map_err(|error| Error::Solver(format!("the steps document: {error}")))?;
+        let text = String::from_utf8(text).expect("serde_json writes UTF-8");
+        return Ok((text, Vec::new()));
+    }
+    if !matches!(command, "score" | "switches" | "audit") {
+        return Err(Error::Parameter(format!("unknown command {command:?}")));
+    }
+    let solve_options = solve_options(options)?;
+    let (truth, estimate, distance) = read_inputs(truth, estimate, options)?;
+    let result = solve(&truth, &estimate, &distance, options, &solve_options)?;
+    let (t, e) = (&truth.set, &estimate.set);
+    let switches = switch_events(&result.assignment, t, e, &result.params);
+    let info = InputInfo::new(&truth, &estimate, &distance);
+    let text = match command {
+        "score" => {
+            let jumps = jump_events(&result.assignment, t, e, &result.params);
+            let engine = solve_options.engine.name();
+            let document = ScoreDocument::new(&result, &info, engine, &switches, &jumps);
+            json(serde_json::to_string(&document))?
+        }
+        "switches" => {
+            let jumps = jump_events(&result.assignment, t, e, &result.params);
+            json(serde_json::to_string(&SwitchesDocument {
+                params: &result.params,
+                inputs: &info,
+                switching: result.parts.switching,
+                switch_count: result.parts.switch_count,
+                switches: &switches,
+                jumps: &jumps,
+                exactness: Exactness::new(&result),
+            }))?
+        }
+        _ => {
+            let mut report = audit(&result, t, e, &switches);
+            if let Some(top) = options.top {
+                report.truths.truncate(top);
+            }
+            json(serde_json::to_string(&AuditDocument {
+                params: &result.params,
+                inputs: &info,
+                truths: &report.truths,
+                estimates: &report.estimates,
+                exactness: Exactness::new(&result),
+            }))?
+        }
+    };
+    Ok((text, result.notes))
+}
+
+/// Runs `command` (`score`, `switches`, `audit` or `steps`) on two inputs (each a CSV path or a
+/// table tuple, see `extract_input`) with the options dict; returns the command line's JSON
+/// document as text and the notes it would print. The work runs without the GIL. Bad input
+/// raises ValueError with the command line's message (or the table's source, row and column);
+/// a memory budget too small MemoryError; a solver failure or a panic InternalError.
 #[pyfunction]
-#[pyo3(signature = (truth, estimate, cutoff, order, switch_penalty, engine, exact, memory_budget))]
-#[allow(clippy::too_many_arguments)]
-fn score_paths(
+fn run(
     py: Python<'_>,
-    truth: &str,
-    estimate: &str,
-    cutoff: f64,
-    order: f64,
-    switch_penalty: f64,
-    engine: &str,
-    exact: bool,
-    memory_budget: Option<u64>,
-) -> PyResult<String> {
-    run_released(py, || {
-        score_document(
-            truth,
-            estimate,
-            cutoff,
-            order,
-            switch_penalty,
-            engine,
-            exact,
-            memory_budget,
-        )
+    command: &str,
+    truth: &Bound<'_, PyAny>,
+    estimate: &Bound<'_, PyAny>,
+    options: Options,
+) -> PyResult<(String, Vec<String>)> {
+    let truth = extract_input(truth)?;
+    let estimate = extract_input(estimate)?;
+    released(py, &format!("running {command}"), || {
+        run_command(command, truth, estimate, &options)
     })
 }
 
-/// Per-step GOSPA (with `alpha`) of the CSV files `truth` and `estimate`; returns the steps
-/// document as JSON text. Errors as [`score_paths`].
+/// Aggregates case scores computed elsewhere into the document of `switchyard compare
+/// --format json` (see `aggregate::Scores` for the dict's keys); the bootstrap runs without
+/// the GIL. Errors as [`run`].
 #[pyfunction]
-#[pyo3(signature = (truth, estimate, cutoff, order, alpha))]
-fn steps_paths(
-    py: Python<'_>,
-    truth: &str,
-    estimate: &str,
-    cutoff: f64,
-    order: f64,
-    alpha: f64,
-) -> PyResult<String> {
-    run_released(py, || steps_document(truth, estimate, cutoff, order, alpha))
+fn compare_scores(py: Python<'_>, scores: aggregate::Scores) -> PyResult<String> {
+    released(py, "comparing", || aggregate::comparison_document(scores))
 }
 
 /// Runs `work` without the GIL, turning its error into a Python exception and a panic into
 /// InternalError, so the interpreter never goes down with it.
-fn run_released<F>(py: Python<'_>, work: F) -> PyResult<String>
-where
-    F: FnOnce() -> switchyard::Result<String> + Send,
-{
+fn released<T: Send>(
+    py: Python<'_>,
+    what: &str,
+    work: impl FnOnce() -> switchyard::Result<T> + Send,
+) -> PyResult<T> {
     match py.detach(|| catch_unwind(AssertUnwindSafe(work))) {
-        Ok(Ok(json)) => Ok(json),
+        Ok(Ok(output)) => Ok(output),
         Ok(Err(error)) => Err(to_python_error(&error)),
-        Err(_) => Err(InternalError::new_err("switchyard panicked while scoring")),
+        Err(_) => Err(InternalError::new_err(format!(
+            "switchyard panicked while {what}: please report it"
+        ))),
     }
 }
 
 /// The Python exception for a library error: the caller's input or parameters are a
 /// ValueError, a memory budget too small a MemoryError, a solver failure an InternalError;
 /// the message is the command line's.
-fn to_python_error(error: &switchyard::Error) -> PyErr {
+fn to_python_error(error: &Error) -> PyErr {
     let message = error.to_string();
     match error {
-        switchyard::Error::Solver(_) => InternalError::new_err(message),
-        switchyard::Error::Budget(_) => PyMemoryError::new_err(message),
+        Error::Solver(_) => InternalError::new_err(message),
+        Error::Budget(_) => PyMemoryError::new_err(message),
         _ => PyValueError::new_err(message),
     }
 }
@@ -180,8 +531,8 @@ fn to_python_error(error: &switchyard::Error) -> PyErr {
 /// The compiled module `switchyard._switchyard`.
 #[pymodule]
 fn _switchyard(m: &Bound<'_, PyModule>) -> PyResult<()> {
-    m.add_function(wrap_pyfunction!(score_paths, m)?)?;
-    m.add_function(wrap_pyfunction!(steps_paths, m)?)?;
+    m.add_function(wrap_pyfunction!(run, m)?)?;
+    m.add_function(wrap_pyfunction!(compare_scores, m)?)?;
     m.add("InternalError", m.py().get_type::<InternalError>())?;
     Ok(())
 }

@@ -27,16 +27,24 @@ def test_score_document_equals_the_command_lines_json():
     expected = json.loads((ROOT / "tests/snapshots/score.json").read_text())
     got = switchyard.score("demo-data/truth.csv", "demo-data/tracker-swaps.csv", cutoff=20)
     # Same serde structs, same serialiser: equal key for key, floats bit for bit.
-    assert got == expected
-    assert got["total"] == pytest.approx(15103.590357841626, rel=0, abs=0)
+    assert got.to_dict() == expected
+    assert got.total == pytest.approx(15103.590357841626, rel=0, abs=0)
+    # Each attribute is its key of the document.
+    for key in ("metric", "total", "per_step", "steps", "localization", "missed", "false", "switching",
+                "missed_count", "false_count", "switch_count", "integral", "lp_total", "exact_total",
+                "exact", "engine", "lp", "certificate", "params", "inputs"):
+        assert getattr(got, key) == expected[key], key
+    assert got.proven is expected["certificate"]["proven"]
+    assert got.window == (expected["window"]["first"], expected["window"]["last"])
 
 
 def test_steps_document_equals_the_command_lines_json():
     expected = json.loads((ROOT / "tests/snapshots/steps.json").read_text())
     got = switchyard.steps("demo-data/truth.csv", "demo-data/tracker-swaps.csv", cutoff=20)
-    assert got == expected
+    assert got.to_dict() == expected
+    assert got.summary == expected["summary"]
     # steps.json: 10 truths, no estimate at time 0, cut-off 20, alpha 2: 10 * 20 / 2 = 100.
-    assert got["steps"][0]["gospa"] == pytest.approx(100.0, abs=1e-12)
+    assert got.table["gospa"][0] == pytest.approx(100.0, abs=1e-12)
 
 
 def test_exact_score_equals_the_command_lines_json():
@@ -46,7 +54,7 @@ def test_exact_score_equals_the_command_lines_json():
     got = switchyard.score(
         "demo-data/truth.csv", "demo-data/tracker-fragments.csv", cutoff=10, exact=True
     )
-    assert got == expected
+    assert got.to_dict() == expected
 
 
 def test_unknown_engine_is_a_value_error():
@@ -56,7 +64,7 @@ def test_unknown_engine_is_a_value_error():
 
 def test_path_objects_are_accepted():
     got = switchyard.score(Path("demo-data/truth.csv"), Path("demo-data/tracker-swaps.csv"), cutoff=20)
-    assert got["switch_count"] == pytest.approx(12.0, abs=0)  # score.json, "switch_count"
+    assert got.switch_count == pytest.approx(12.0, abs=0)  # score.json, "switch_count"
 
 
 def test_bad_parameter_is_a_value_error():
@@ -78,3 +86,10 @@ def test_bad_csv_names_file_line_and_column(tmp_path):
 def test_missing_file_is_a_value_error_naming_it():
     with pytest.raises(ValueError, match="no-such-file.csv"):
         switchyard.score("demo-data/truth.csv", "no-such-file.csv", cutoff=20)
+
+
+def test_memory_budget_too_small_is_a_memory_error():
+    # The command line exits 4 with "over the memory budget" when the candidate pairs alone
+    # would not fit (src/cmd/mod.rs, exit codes); the package raises MemoryError with that text.
+    with pytest.raises(MemoryError, match="over the memory budget"):
+        switchyard.score("demo-data/truth.csv", "demo-data/tracker-swaps.csv", cutoff=20, memory_budget=1)
