@@ -15,19 +15,17 @@ use pyo3::exceptions::{PyException, PyMemoryError, PyValueError};
 use pyo3::prelude::*;
 use pyo3::types::{PyBytes, PyString};
 
-use switchyard::audit::audit;
+use switchyard::assignment::switches::switch_kinds;
 use switchyard::distance::{BoxLayout, Distance};
+use switchyard::evaluate::{evaluate, Request};
 use switchyard::input::{read_csv_path, CsvLayout, TrajectoryFile};
 use switchyard::per_step::{occupied_steps, GospaParams};
 use switchyard::report::audit::AuditDocument;
 use switchyard::report::score::ScoreDocument;
 use switchyard::report::switches::SwitchesDocument;
-use switchyard::report::{steps, Exactness, InputInfo};
-use switchyard::switches::{jump_events, switch_events};
+use switchyard::report::{steps, Exactness, InputInfo, TimedEvents};
 use switchyard::trajectory::{Step, Trajectory, TrajectorySet};
-use switchyard::trajectory_metric::{
-    score_with, Engine, ExactBudget, SolveOptions, TrajectoryParams, TrajectoryScore,
-};
+use switchyard::trajectory_metric::{Engine, ExactBudget, SolveOptions, TrajectoryParams};
 use switchyard::Error;
 
 create_exception!(
@@ -389,22 +387,6 @@ fn solve_options(options: &Options) -> switchyard::Result<SolveOptions> {
     })
 }
 
-/// Solves the trajectory LP on the inputs.
-fn solve(
-    truth: &TrajectoryFile,
-    estimate: &TrajectoryFile,
-    distance: &Distance,
-    options: &Options,
-    solve: &SolveOptions,
-) -> switchyard::Result<TrajectoryScore> {
-    let params = TrajectoryParams::new(
-        options.cutoff,
-        options.order,
-        options.switch_penalty.unwrap_or(options.cutoff),
-    )?;
-    score_with(&truth.set, &estimate.set, &params, distance, solve)
-}
-
 /// Runs a command; returns its JSON document and the notes the command line would print on
 /// standard error.
 fn run_command(
@@ -420,7 +402,7 @@ fn run_command(
         let params = GospaParams::new(options.cutoff, options.order, options.alpha)?;
         let (truth, estimate, distance) = read_inputs(truth, estimate, options)?;
         let series = occupied_steps(&truth.set, &estimate.set, &params, &distance)?;
-        let info = InputInfo::new(&truth, &estimate, &distance);
+        let info = InputInfo::new(&truth, &estimate, &distance).with_time_step(options.time_step);
         let mut text = Vec::new();
         steps::write_json(&mut text, &series, &params, &info)
             .map_err(|error| Error::Solver(format!("the steps document: {error}")))?;
@@ -432,33 +414,49 @@ fn run_command(
     }
     let solve_options = solve_options(options)?;
     let (truth, estimate, distance) = read_inputs(truth, estimate, options)?;
-    let result = solve(&truth, &estimate, &distance, options, &solve_options)?;
-    let (t, e) = (&truth.set, &estimate.set);
-    let switches = switch_events(&result.assignment, t, e, &result.params);
-    let info = InputInfo::new(&truth, &estimate, &distance);
+    let params = TrajectoryParams::new(
+        options.cutoff,
+        options.order,
+        options.switch_penalty.unwrap_or(options.cutoff),
+    )?;
+    // The command line's own evaluation: the LP once, the events and the audit read from it.
+    let request = Request {
+        trajectory: Some(params),
+        solve: solve_options,
+        switches: true,
+        jumps: command != "audit",
+        audit: command == "audit",
+        ..Request::default()
+    };
+    let mut evaluation = evaluate(&truth.set, &[&estimate.set], &distance, &request, &|_| {})?
+        .pop()
+        .expect("one estimate was evaluated");
+    let result = evaluation.score.take().expect("the score was asked for");
+    let switches = evaluation.switches.take().unwrap_or_default();
+    let jumps = evaluation.jumps.take().unwrap_or_default();
+    let info = InputInfo::new(&truth, &estimate, &distance).with_time_step(options.time_step);
     let text = match command {
         "score" => {
-            let jumps = jump_events(&result.assignment, t, e, &result.params);
             let engine = solve_options.engine.name();
             let document = ScoreDocument::new(&result, &info, engine, &switches, &jumps);
             json(serde_json::to_string(&document))?
         }
-        "switches" => {
-            let jumps = jump_events(&result.assignment, t, e, &result.params);
-            json(serde_json::to_string(&SwitchesDocument {
-                params: &result.params,
-                inputs: &info,
-                switching: result.parts.switching,
-                switch_count: result.parts.switch_count,
-                switches: &switches,
-                jumps: &jumps,
-                exactness: Exactness::new(&result),
-            }))?
-        }
+        "switches" => json(serde_json::to_string(&SwitchesDocument {
+            params: &result.params,
+            inputs: &info,
+            switching: result.parts.switching,
+            switch_count: result.parts.switch_count,
+            kinds: switch_kinds(&switches, &estimate.set),
+            switches: TimedEvents::new(&switches, options.time_step),
+            jumps: TimedEvents::new(&jumps, options.time_step),
+            exactness: Exactness::new(&result),
+        }))?,
         _ => {
-            let mut report = audit(&result, t, e, &switches);
+            let mut report = evaluation.audit.take().expect("the audit was asked for");
             if let Some(top) = options.top {
-                report.truths.truncate(top);
+                // As `audit --top N`: the N worst truths and the N costliest tracks.
+                report.rank_tracks_by_cost();
+                report.keep(top);
             }
             json(serde_json::to_string(&AuditDocument {
                 params: &result.params,
@@ -466,6 +464,8 @@ fn run_command(
                 truths: &report.truths,
                 estimates: &report.estimates,
                 exactness: Exactness::new(&result),
+                by_cost: false,
+                tracks_by_cost: options.top.is_some(),
             }))?
         }
     };

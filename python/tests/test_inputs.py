@@ -90,7 +90,14 @@ def test_renamed_columns_and_decimal_times():
     got = switchyard.score(
         t, e, cutoff=20, time_column="t", id_column="track", state_columns=["east", "north"], time_step=0.1, **NAMES
     )
+    # The command line's document (score.json) plus what a step size and other state column
+    # names add (specs/formats.md, "Time in the input's units"): inputs.time_step, the state
+    # columns as named, and each event's input_time = step x 0.1.
     expected = snapshot("score.json")
+    expected["inputs"]["time_step"] = 0.1
+    expected["inputs"]["state_columns"] = ["east", "north"]
+    for event in expected["switches"] + expected["jumps"]:
+        event["input_time"] = round(event["time"] * 0.1, 1)
     assert got.to_dict() == expected
     # Without the time step: rows 0-9 are the 10 truths at time 0 (steps.json, step 0), row 10
     # the first at time 0.1.
