@@ -22,10 +22,10 @@ use serde::Serialize;
 
 pub use self::bootstrap::{BootstrapOptions, Interval};
 pub use self::dataset::{Case, CaseKey, Dataset, TrackerData};
-use self::montecarlo::{mean_and_rms, steps_over_runs, StepOverRuns};
+use self::montecarlo::{mean_and_rms, steps_over_runs, OccupiedOverRuns};
 use crate::distance::Distance;
 use crate::error::{Error, Result};
-use crate::per_step::{per_step, GospaParams, StepSeries};
+use crate::per_step::{occupied_steps, GospaParams, OccupiedSteps};
 use crate::trajectory_metric::{
     score_with, Parts, SolveOptions, TrajectoryParams, TrajectoryScore,
 };
@@ -139,7 +139,7 @@ pub struct Evaluation {
     trackers: usize,
     cases: usize,
     scores: Vec<CaseScore>,
-    series: Vec<StepSeries>,
+    series: Vec<OccupiedSteps>,
 }
 
 impl Evaluation {
@@ -159,8 +159,9 @@ impl Evaluation {
         &self.step_params
     }
 
-    /// The per-step series of `tracker` on `case` for `step_params()[index]`.
-    pub fn series(&self, index: usize, tracker: usize, case: usize) -> &StepSeries {
+    /// The per-step GOSPA of `tracker` on `case` for `step_params()[index]`, kept at the
+    /// occupied steps.
+    pub fn series(&self, index: usize, tracker: usize, case: usize) -> &OccupiedSteps {
         &self.series[(index * self.trackers + tracker) * self.cases + case]
     }
 }
@@ -182,7 +183,7 @@ enum Job {
 
 enum Outcome {
     Trajectory(CaseScore),
-    Steps(StepSeries),
+    Steps(OccupiedSteps),
 }
 
 /// The distinct (cut-off, order) pairs of the settings, in order of first appearance, as
@@ -301,7 +302,7 @@ pub fn evaluate(
                     case,
                 } => {
                     let t = &dataset.trackers()[tracker];
-                    per_step(
+                    occupied_steps(
                         dataset.truth_of(case),
                         &t.estimates[case],
                         &step_params[params],
@@ -506,8 +507,8 @@ pub struct StepsOverRuns {
     pub tracker: String,
     /// The number of runs.
     pub runs: usize,
-    /// One entry per step.
-    pub steps: Vec<StepOverRuns>,
+    /// Every step of the window, held at the steps where some run has an object.
+    pub steps: OccupiedOverRuns,
 }
 
 /// Everything a comparison reports.
@@ -654,7 +655,7 @@ pub fn compare(
     for (index, params) in evaluation.step_params.iter().enumerate() {
         for (sequence, range) in &sequences {
             for (t, tracker) in dataset.trackers().iter().enumerate() {
-                let runs: Vec<&StepSeries> = range
+                let runs: Vec<&OccupiedSteps> = range
                     .clone()
                     .map(|c| evaluation.series(index, t, c))
                     .collect();
