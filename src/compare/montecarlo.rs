@@ -22,6 +22,8 @@
 
 use serde::Serialize;
 
+use super::dataset::Dataset;
+use super::plan::Evaluation;
 use crate::per_step::{every_step, stretches, OccupiedSteps, StepScore, Stretch};
 use crate::trajectory::{Step, Window};
 
@@ -174,6 +176,49 @@ pub fn steps_over_runs(runs: &[&OccupiedSteps]) -> OccupiedOverRuns {
         runs: runs.len(),
         occupied,
     }
+}
+
+/// Per-step GOSPA over the runs of one sequence, for one tracker and one (cut-off, order).
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct StepsOverRuns {
+    /// The cut-off.
+    pub cutoff: f64,
+    /// The order.
+    pub order: f64,
+    /// The sequence.
+    pub sequence: String,
+    /// The tracker.
+    pub tracker: String,
+    /// The number of runs.
+    pub runs: usize,
+    /// Every step of the window, held at the steps where some run has an object.
+    pub steps: OccupiedOverRuns,
+}
+
+/// The per-step summaries over the runs of each sequence: by (cut-off, order), then sequence,
+/// then tracker; empty unless the evaluation computed per-step GOSPA.
+pub fn over_runs(dataset: &Dataset, evaluation: &Evaluation) -> Vec<StepsOverRuns> {
+    let sequences = dataset.sequences();
+    let mut blocks = Vec::new();
+    for (index, params) in evaluation.step_params().iter().enumerate() {
+        for (sequence, range) in &sequences {
+            for (t, tracker) in dataset.trackers().iter().enumerate() {
+                let runs: Vec<&OccupiedSteps> = range
+                    .clone()
+                    .map(|c| evaluation.series(index, t, c))
+                    .collect();
+                blocks.push(StepsOverRuns {
+                    cutoff: params.cutoff,
+                    order: params.order,
+                    sequence: sequence.clone(),
+                    tracker: tracker.name.clone(),
+                    runs: runs.len(),
+                    steps: steps_over_runs(&runs),
+                });
+            }
+        }
+    }
+    blocks
 }
 
 #[cfg(test)]
