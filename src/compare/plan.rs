@@ -215,8 +215,8 @@ fn in_case(error: Error, tracker: &str, key: &CaseKey) -> Error {
 /// job, from any thread.
 ///
 /// # Errors
-/// Invalid settings or options, a distance that does not fit the data, an LP failure (the first
-/// in job order, naming the tracker and case).
+/// Invalid settings or options, a distance that does not fit the data; a failure in a case
+/// (the first in job order) as [`Error::InCase`], naming the tracker and the case.
 pub fn evaluate(
     dataset: &Dataset,
     distance: &Distance,
