@@ -84,9 +84,49 @@ pub enum Error {
     /// The work would not fit the memory budget; the message says why and what to do.
     #[error("over the memory budget: {0}")]
     Budget(String),
+    /// An error in one tracker's case of a comparison. Shown as the error it carries, with the
+    /// tracker and the case put before the message of a parameter, mismatch or solver error
+    /// (the others name their file, or say what to do, on their own).
+    #[error("{}", Placed { tracker, case, error })]
+    InCase {
+        /// The tracker's name.
+        tracker: String,
+        /// The case as messages name it (`sequence "s" run "r"`, or `the only case`).
+        case: String,
+        /// What went wrong there.
+        error: Box<Error>,
+    },
+}
+
+/// The message of [`Error::InCase`].
+struct Placed<'a> {
+    tracker: &'a str,
+    case: &'a str,
+    error: &'a Error,
+}
+
+impl fmt::Display for Placed<'_> {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let at = |message: &str| format!("tracker {:?}, {}: {message}", self.tracker, self.case);
+        match self.error {
+            Error::Parameter(m) => Error::Parameter(at(m)).fmt(f),
+            Error::Mismatch(m) => Error::Mismatch(at(m)).fmt(f),
+            Error::Solver(m) => Error::Solver(at(m)).fmt(f),
+            other => other.fmt(f),
+        }
+    }
 }
 
 impl Error {
+    /// The error itself, or the one an [`Error::InCase`] carries (what kind of failure it is,
+    /// for example for an exit code).
+    pub fn underlying(&self) -> &Error {
+        match self {
+            Error::InCase { error, .. } => error.underlying(),
+            other => other,
+        }
+    }
+
     /// An input error at a location.
     pub fn input(location: Location, message: impl Into<String>) -> Self {
         Error::Input {
@@ -161,5 +201,33 @@ mod tests {
             std::borrow::Cow::Borrowed(_)
         ));
         assert_eq!(quoted("id\0"), "\"id\\0\"");
+    }
+
+    #[test]
+    fn an_error_in_a_case_reads_as_the_message_with_its_place() {
+        let placed = |error: Error| Error::InCase {
+            tracker: "T\"1".to_string(),
+            case: "sequence \"s\" run \"2\"".to_string(),
+            error: Box::new(error),
+        };
+        // The tracker is quoted as Rust's `{:?}` quotes a string (its quote escaped).
+        assert_eq!(
+            placed(Error::Parameter("the cut-off is too large".into())).to_string(),
+            "invalid parameter: tracker \"T\\\"1\", sequence \"s\" run \"2\": the cut-off is too large"
+        );
+        assert_eq!(
+            placed(Error::Solver("no optimum".into())).to_string(),
+            "LP solver: tracker \"T\\\"1\", sequence \"s\" run \"2\": no optimum"
+        );
+        assert_eq!(
+            placed(Error::Mismatch("dimensions differ".into())).to_string(),
+            "tracker \"T\\\"1\", sequence \"s\" run \"2\": dimensions differ"
+        );
+        // A budget error says what to do on its own and is shown unchanged.
+        let budget = placed(Error::Budget("give more".into()));
+        assert_eq!(budget.to_string(), "over the memory budget: give more");
+        assert!(matches!(budget.underlying(), Error::Budget(_)));
+        // Not a source: the error chain printed by the command would repeat the message.
+        assert!(std::error::Error::source(&budget).is_none());
     }
 }

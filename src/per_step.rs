@@ -435,11 +435,12 @@ pub struct OccupiedSteps {
     empty: StepScore,
 }
 
-/// A stretch of the window: one step with objects, or a run of steps with none.
+/// A stretch of the window: one step with objects, or a run of steps with none. `T` is what an
+/// occupied step holds (a step's score, or a summary over runs).
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub enum Stretch<'a> {
+pub enum Stretch<'a, T = StepScore> {
     /// A step where an object is present.
-    Occupied(&'a StepScore),
+    Occupied(&'a T),
     /// Every step from `first` to `last` (both included) has no object.
     Empty {
         /// The first empty step.
@@ -461,43 +462,12 @@ impl OccupiedSteps {
     /// The window in order: each occupied step, and each maximal run of empty steps as one
     /// item. O(occupied steps) items.
     pub fn stretches(&self) -> impl Iterator<Item = Stretch<'_>> + '_ {
-        let end = self.window.map_or(0, |w| w.last + 1);
-        let mut next = self.window.map_or(0, |w| w.first);
-        let mut k = 0;
-        std::iter::from_fn(move || {
-            if next >= end {
-                return None;
-            }
-            let stretch = match self.occupied.get(k) {
-                Some(score) if score.time == next => {
-                    k += 1;
-                    Stretch::Occupied(score)
-                }
-                upcoming => {
-                    let last = upcoming.map_or(end - 1, |score| score.time - 1);
-                    Stretch::Empty { first: next, last }
-                }
-            };
-            next = match stretch {
-                Stretch::Occupied(score) => score.time + 1,
-                Stretch::Empty { last, .. } => last + 1,
-            };
-            Some(stretch)
-        })
+        stretches(self.window, &self.occupied, |score| score.time)
     }
 
     /// Every step of the window in time order, empty ones made on the fly (nothing is held).
     pub fn steps(&self) -> impl Iterator<Item = StepScore> + '_ {
-        self.stretches().flat_map(move |stretch| {
-            let (first, last, occupied) = match stretch {
-                Stretch::Occupied(score) => (score.time, score.time, Some(score)),
-                Stretch::Empty { first, last } => (first, last, None),
-            };
-            (first..=last).map(move |time| match occupied {
-                Some(score) => score.clone(),
-                None => self.empty_step(time),
-            })
-        })
+        every_step(self.stretches(), |time| self.empty_step(time))
     }
 
     /// The series with one entry per step of the window (memory follows the window).
@@ -508,6 +478,58 @@ impl OccupiedSteps {
             summary: self.summary,
         }
     }
+}
+
+/// The stretches of `window` around `occupied` (entries at steps inside the window, strictly
+/// increasing in `time`): each occupied entry, and each maximal run of steps without one as a
+/// single item. O(occupied entries) items, nothing allocated.
+pub fn stretches<'a, T>(
+    window: Option<Window>,
+    occupied: &'a [T],
+    time: impl Fn(&T) -> Step + 'a,
+) -> impl Iterator<Item = Stretch<'a, T>> + 'a {
+    let end = window.map_or(0, |w| w.last + 1);
+    let mut next = window.map_or(0, |w| w.first);
+    let mut k = 0;
+    std::iter::from_fn(move || {
+        if next >= end {
+            return None;
+        }
+        let stretch = match occupied.get(k) {
+            Some(entry) if time(entry) == next => {
+                k += 1;
+                Stretch::Occupied(entry)
+            }
+            upcoming => {
+                let last = upcoming.map_or(end - 1, |entry| time(entry) - 1);
+                Stretch::Empty { first: next, last }
+            }
+        };
+        next = match stretch {
+            Stretch::Occupied(entry) => time(entry) + 1,
+            Stretch::Empty { last, .. } => last + 1,
+        };
+        Some(stretch)
+    })
+}
+
+/// One item per step of the stretches, in order: each occupied entry cloned, each empty step
+/// made by `empty(time)` on the fly.
+pub fn every_step<'a, T: Clone + 'a>(
+    stretches: impl Iterator<Item = Stretch<'a, T>> + 'a,
+    empty: impl Fn(Step) -> T + Clone + 'a,
+) -> impl Iterator<Item = T> + 'a {
+    stretches.flat_map(move |stretch| {
+        let empty = empty.clone();
+        let (first, last, occupied) = match stretch {
+            Stretch::Occupied(entry) => (0, 0, Some(entry)),
+            Stretch::Empty { first, last } => (first, last, None),
+        };
+        (first..=last).map(move |time| match occupied {
+            Some(entry) => entry.clone(),
+            None => empty(time),
+        })
+    })
 }
 
 /// Per-step GOSPA for every step of the window covering both sets, one entry per step. For long

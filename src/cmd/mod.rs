@@ -82,7 +82,7 @@ pub fn main() -> ExitCode {
 }
 
 fn exit_code(error: &anyhow::Error) -> u8 {
-    match error.downcast_ref::<Error>() {
+    match error.downcast_ref::<Error>().map(Error::underlying) {
         Some(Error::Solver(_)) => 3,
         Some(Error::Budget(_)) => 4,
         _ => 1,

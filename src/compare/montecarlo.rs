@@ -22,8 +22,10 @@
 
 use serde::Serialize;
 
-use crate::per_step::StepSeries;
-use crate::trajectory::Step;
+use super::dataset::Dataset;
+use super::plan::Evaluation;
+use crate::per_step::{every_step, stretches, OccupiedSteps, StepScore, Stretch};
+use crate::trajectory::{Step, Window};
 
 /// Per-step GOSPA at one step, over runs.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -65,58 +67,165 @@ pub fn mean_and_rms(values: impl IntoIterator<Item = f64>) -> (f64, f64) {
     }
 }
 
-/// Per-step GOSPA over runs, for every step from the first to the last of any run's window.
-/// The series must have been computed with alpha = 2 (their parts are then present; a missing
-/// part counts as 0).
-pub fn steps_over_runs(runs: &[&StepSeries]) -> Vec<StepOverRuns> {
-    let windows: Vec<_> = runs.iter().filter_map(|s| s.window).collect();
-    let (Some(first), Some(last)) = (
-        windows.iter().map(|w| w.first).min(),
-        windows.iter().map(|w| w.last).max(),
-    ) else {
-        return Vec::new();
-    };
-    let count = runs.len();
-    let length = (last - first + 1) as usize;
-    let mut sums = vec![[0.0f64; 7]; length];
-    for series in runs {
-        let Some(window) = series.window else {
-            continue;
-        };
-        let offset = (window.first - first) as usize;
-        for (k, step) in series.steps.iter().enumerate() {
-            let slot = &mut sums[offset + k];
-            slot[0] += step.gospa;
-            slot[1] += step.gospa * step.gospa;
-            slot[2] += step.localization.unwrap_or(0.0);
-            slot[3] += step.missed.unwrap_or(0.0);
-            slot[4] += step.false_.unwrap_or(0.0);
-            slot[5] += step.missed_count as f64;
-            slot[6] += step.false_count as f64;
+/// Per-step GOSPA over runs, kept at the steps where some run has an object: memory follows the
+/// points, not the window. Every other step of the window has every value 0 (each run adds 0
+/// there), and [`OccupiedOverRuns::iter`] makes those steps as it goes. Serialized as the list
+/// of every step of the window.
+#[derive(Clone, Debug, PartialEq)]
+pub struct OccupiedOverRuns {
+    /// From the first to the last step of any run's window; `None` when every run is empty.
+    pub window: Option<Window>,
+    /// The number of runs R.
+    pub runs: usize,
+    /// One entry per step where some run has an object, in time order.
+    pub occupied: Vec<StepOverRuns>,
+}
+
+impl OccupiedOverRuns {
+    /// The summary of a step where no run has an object: every value 0.
+    pub fn empty_step(&self, time: Step) -> StepOverRuns {
+        StepOverRuns {
+            time,
+            runs: self.runs,
+            mean: 0.0,
+            rms: 0.0,
+            localization: 0.0,
+            missed: 0.0,
+            false_: 0.0,
+            missed_count: 0.0,
+            false_count: 0.0,
         }
     }
-    let n = count as f64;
-    sums.iter()
-        .enumerate()
-        .map(|(k, s)| StepOverRuns {
-            time: first + k as Step,
-            runs: count,
-            mean: s[0] / n,
-            rms: (s[1] / n).sqrt(),
-            localization: s[2] / n,
-            missed: s[3] / n,
-            false_: s[4] / n,
-            missed_count: s[5] / n,
-            false_count: s[6] / n,
+
+    /// The window in order: each occupied step, and each maximal run of empty steps as one
+    /// item. O(occupied steps) items.
+    pub fn stretches(&self) -> impl Iterator<Item = Stretch<'_, StepOverRuns>> + '_ {
+        stretches(self.window, &self.occupied, |step| step.time)
+    }
+
+    /// Every step of the window in time order, empty ones made on the fly (nothing is held).
+    pub fn iter(&self) -> impl Iterator<Item = StepOverRuns> + '_ {
+        every_step(self.stretches(), |time| self.empty_step(time))
+    }
+
+    /// The number of steps in the window.
+    pub fn len(&self) -> usize {
+        self.window.map_or(0, |w| w.len())
+    }
+
+    /// True when the window is empty (every run is empty).
+    pub fn is_empty(&self) -> bool {
+        self.window.is_none()
+    }
+}
+
+impl Serialize for OccupiedOverRuns {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.collect_seq(self.iter())
+    }
+}
+
+/// Per-step GOSPA over runs, for every step from the first to the last of any run's window,
+/// computed at the steps where some run has an object. The series must have been computed with
+/// alpha = 2 (their parts are then present; a missing part counts as 0).
+///
+/// At each such step the runs are summed in run order from +0.0, the runs without an object
+/// there left out: they would add +0.0, which leaves a sum that started at +0.0 unchanged, so the
+/// values are the same bits as summing every run at every step.
+pub fn steps_over_runs(runs: &[&OccupiedSteps]) -> OccupiedOverRuns {
+    let windows: Vec<Window> = runs.iter().filter_map(|s| s.window).collect();
+    let window = match (
+        windows.iter().map(|w| w.first).min(),
+        windows.iter().map(|w| w.last).max(),
+    ) {
+        (Some(first), Some(last)) => Some(Window { first, last }),
+        _ => None,
+    };
+    // Every run's occupied steps, by time; the sort is stable, so each time keeps run order.
+    let mut entries: Vec<&StepScore> = runs.iter().flat_map(|s| &s.occupied).collect();
+    entries.sort_by_key(|step| step.time);
+    let n = runs.len() as f64;
+    let occupied = entries
+        .chunk_by(|a, b| a.time == b.time)
+        .map(|at| {
+            let mut sums = [0.0f64; 7];
+            for step in at {
+                sums[0] += step.gospa;
+                sums[1] += step.gospa * step.gospa;
+                sums[2] += step.localization.unwrap_or(0.0);
+                sums[3] += step.missed.unwrap_or(0.0);
+                sums[4] += step.false_.unwrap_or(0.0);
+                sums[5] += step.missed_count as f64;
+                sums[6] += step.false_count as f64;
+            }
+            StepOverRuns {
+                time: at[0].time,
+                runs: runs.len(),
+                mean: sums[0] / n,
+                rms: (sums[1] / n).sqrt(),
+                localization: sums[2] / n,
+                missed: sums[3] / n,
+                false_: sums[4] / n,
+                missed_count: sums[5] / n,
+                false_count: sums[6] / n,
+            }
         })
-        .collect()
+        .collect();
+    OccupiedOverRuns {
+        window,
+        runs: runs.len(),
+        occupied,
+    }
+}
+
+/// Per-step GOSPA over the runs of one sequence, for one tracker and one (cut-off, order).
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct StepsOverRuns {
+    /// The cut-off.
+    pub cutoff: f64,
+    /// The order.
+    pub order: f64,
+    /// The sequence.
+    pub sequence: String,
+    /// The tracker.
+    pub tracker: String,
+    /// The number of runs.
+    pub runs: usize,
+    /// Every step of the window, held at the steps where some run has an object.
+    pub steps: OccupiedOverRuns,
+}
+
+/// The per-step summaries over the runs of each sequence: by (cut-off, order), then sequence,
+/// then tracker; empty unless the evaluation computed per-step GOSPA.
+pub fn over_runs(dataset: &Dataset, evaluation: &Evaluation) -> Vec<StepsOverRuns> {
+    let sequences = dataset.sequences();
+    let mut blocks = Vec::new();
+    for (index, params) in evaluation.step_params().iter().enumerate() {
+        for (sequence, range) in &sequences {
+            for (t, tracker) in dataset.trackers().iter().enumerate() {
+                let runs: Vec<&OccupiedSteps> = range
+                    .clone()
+                    .map(|c| evaluation.series(index, t, c))
+                    .collect();
+                blocks.push(StepsOverRuns {
+                    cutoff: params.cutoff,
+                    order: params.order,
+                    sequence: sequence.clone(),
+                    tracker: tracker.name.clone(),
+                    runs: runs.len(),
+                    steps: steps_over_runs(&runs),
+                });
+            }
+        }
+    }
+    blocks
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
     use crate::distance::Distance;
-    use crate::per_step::{per_step, GospaParams};
+    use crate::per_step::{occupied_steps, GospaParams};
     use crate::trajectory::{Trajectory, TrajectorySet};
 
     fn set(points: &[(Step, f64)]) -> TrajectorySet {
@@ -142,9 +251,10 @@ mod tests {
         // lies outside its window and counts 0.
         let params = GospaParams::new(2.0, 2.0, 2.0).unwrap();
         let d = Distance::default();
-        let one = per_step(&set(&[(1, 0.0), (2, 0.0)]), &set(&[(1, 1.0)]), &params, &d).unwrap();
-        let two = per_step(&set(&[(2, 0.0)]), &set(&[(2, 0.0)]), &params, &d).unwrap();
-        let steps = steps_over_runs(&[&one, &two]);
+        let one =
+            occupied_steps(&set(&[(1, 0.0), (2, 0.0)]), &set(&[(1, 1.0)]), &params, &d).unwrap();
+        let two = occupied_steps(&set(&[(2, 0.0)]), &set(&[(2, 0.0)]), &params, &d).unwrap();
+        let steps: Vec<StepOverRuns> = steps_over_runs(&[&one, &two]).iter().collect();
         assert_eq!(steps.len(), 2);
         // Step 1: values 1 and 0 -> mean 0.5, RMS sqrt(1/2); localisation (1 + 0) / 2.
         assert_eq!(steps[0].time, 1);
@@ -159,5 +269,42 @@ mod tests {
         assert!((steps[1].missed_count - 0.5).abs() < 1e-12);
         let parts = steps[1].localization + steps[1].missed + steps[1].false_;
         assert!((parts - steps[1].rms.powi(2)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn steps_between_occupied_ones_are_zero_and_not_held() {
+        // c = 2, p = 2 (GOSPA definition: a missed object costs c^p / 2 = 2, GOSPA sqrt 2).
+        // Run 1: truth at 0 at steps 1 and 4, estimate at step 1 off by 1 -> G = 1 at step 1,
+        // missed at step 4 -> G = sqrt 2. Run 2: truth and exact estimate at step 6 -> G = 0.
+        // The window over both runs is 1 to 6; steps 2, 3 and 5 have no object in any run.
+        let params = GospaParams::new(2.0, 2.0, 2.0).unwrap();
+        let d = Distance::default();
+        let one =
+            occupied_steps(&set(&[(1, 0.0), (4, 0.0)]), &set(&[(1, 1.0)]), &params, &d).unwrap();
+        let two = occupied_steps(&set(&[(6, 0.0)]), &set(&[(6, 0.0)]), &params, &d).unwrap();
+        let over = steps_over_runs(&[&one, &two]);
+        assert_eq!(over.len(), 6);
+        let held: Vec<Step> = over.occupied.iter().map(|s| s.time).collect();
+        assert_eq!(held, [1, 4, 6]);
+        let steps: Vec<StepOverRuns> = over.iter().collect();
+        let times: Vec<Step> = steps.iter().map(|s| s.time).collect();
+        assert_eq!(times, [1, 2, 3, 4, 5, 6]);
+        // Step 1: values 1 and 0 -> mean 1/2; step 4: sqrt 2 and 0 -> mean sqrt(2)/2, missed
+        // 2/2 = 1; step 6: 0 and 0.
+        assert!((steps[0].mean - 0.5).abs() < 1e-12);
+        assert!((steps[3].mean - 2f64.sqrt() / 2.0).abs() < 1e-12);
+        assert!((steps[3].missed - 1.0).abs() < 1e-12);
+        assert_eq!(steps[5].mean, 0.0);
+        for s in [&steps[1], &steps[2], &steps[4]] {
+            assert_eq!(s.runs, 2);
+            let values = [s.mean, s.rms, s.localization, s.missed, s.false_];
+            assert!(values.iter().all(|&v| v == 0.0), "{s:?}");
+            assert_eq!((s.missed_count, s.false_count), (0.0, 0.0));
+        }
+        // Serialized as every step of the window.
+        let json = serde_json::to_value(&over).unwrap();
+        assert_eq!(json.as_array().unwrap().len(), 6);
+        assert_eq!(json[4]["time"], 5);
+        assert_eq!(json[4]["mean"], 0.0);
     }
 }

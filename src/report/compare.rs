@@ -6,10 +6,13 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{count, csv_number, fixed, param, plural, printable, write_table};
+use super::steps::write_step;
+use super::{count, csv_number, fixed, param, plural, printable, write_table, TableLayout};
+use crate::compare::montecarlo::StepOverRuns;
 use crate::compare::{
     Comparison, ResampleBy, SettingResult, StepsOverRuns, Summary, TrackerResult, Verdict,
 };
+use crate::per_step::Stretch;
 use crate::trajectory_metric::TrajectoryParams;
 
 /// A tracker and where its estimates came from.
@@ -392,36 +395,55 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
         printable(&block.tracker),
         plural(block.runs, "run", "runs")
     )?;
-    let rows: Vec<Vec<String>> = block
-        .steps
-        .iter()
-        .map(|s| {
-            vec![
-                s.time.to_string(),
-                fixed(s.mean, 4),
-                fixed(s.rms, 4),
-                fixed(s.localization, 4),
-                fixed(s.missed, 4),
-                fixed(s.false_, 4),
-                fixed(s.missed_count, 3),
-                fixed(s.false_count, 3),
-            ]
-        })
-        .collect();
-    write_table(
-        out,
-        &[
-            "step",
-            "mean",
-            "RMS",
-            "localisation^p",
-            "missed^p",
-            "false^p",
-            "missed",
-            "false",
-        ],
-        &rows,
-    )
+    let row = |s: &StepOverRuns| {
+        vec![
+            s.time.to_string(),
+            fixed(s.mean, 4),
+            fixed(s.rms, 4),
+            fixed(s.localization, 4),
+            fixed(s.missed, 4),
+            fixed(s.false_, 4),
+            fixed(s.missed_count, 3),
+            fixed(s.false_count, 3),
+        ]
+    };
+    let header = [
+        "step",
+        "mean",
+        "RMS",
+        "localisation^p",
+        "missed^p",
+        "false^p",
+        "missed",
+        "false",
+    ];
+    // One row per step of the window, made as it is written: the rows of a run of empty steps
+    // differ only in their time, whose widest text is at one end of the run.
+    let steps = &block.steps;
+    let mut layout = TableLayout::new(&header);
+    for stretch in steps.stretches() {
+        match stretch {
+            Stretch::Occupied(s) => layout.fit(&row(s)),
+            Stretch::Empty { first, last } => {
+                layout.fit(&row(&steps.empty_step(first)));
+                layout.fit(&row(&steps.empty_step(last)));
+            }
+        }
+    }
+    layout.write_row(out, &header)?;
+    for stretch in steps.stretches() {
+        match stretch {
+            Stretch::Occupied(s) => layout.write_row(out, &row(s))?,
+            Stretch::Empty { first, last } => {
+                let mut cells = row(&steps.empty_step(first));
+                for time in first..=last {
+                    cells[0] = time.to_string();
+                    layout.write_row(out, &cells)?;
+                }
+            }
+        }
+    }
+    Ok(())
 }
 
 const SUMMARY_CSV: &str = "metric_mean,metric_rms,total_mean,localization,missed,false,switching,missed_count,false_count,switch_count,fractional_cases";
@@ -525,15 +547,16 @@ pub fn write_steps_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::i
         "cutoff,order,sequence,tracker,time,runs,mean,rms,localization,missed,false,missed_count,false_count"
     )?;
     for block in &comparison.monte_carlo {
-        for s in &block.steps {
-            writeln!(
-                out,
-                "{},{},{},{},{},{},{},{},{},{},{},{},{}",
-                block.cutoff,
-                block.order,
-                csv_text(&block.sequence),
-                csv_text(&block.tracker),
-                s.time,
+        let before_time = format!(
+            "{},{},{},{},",
+            block.cutoff,
+            block.order,
+            csv_text(&block.sequence),
+            csv_text(&block.tracker)
+        );
+        let after_time = |s: &StepOverRuns| {
+            format!(
+                ",{},{},{},{},{},{},{},{}\n",
                 s.runs,
                 s.mean,
                 s.rms,
@@ -542,7 +565,21 @@ pub fn write_steps_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::i
                 s.false_,
                 s.missed_count,
                 s.false_count
-            )?;
+            )
+        };
+        // The rows of a run of empty steps differ only in their time: the rest is formatted once.
+        for stretch in block.steps.stretches() {
+            let (first, last, rest) = match stretch {
+                Stretch::Occupied(s) => (s.time, s.time, after_time(s)),
+                Stretch::Empty { first, last } => {
+                    (first, last, after_time(&block.steps.empty_step(first)))
+                }
+            };
+            for time in first..=last {
+                out.write_all(before_time.as_bytes())?;
+                write_step(out, time)?;
+                out.write_all(rest.as_bytes())?;
+            }
         }
     }
     Ok(())

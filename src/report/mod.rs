@@ -185,30 +185,56 @@ pub fn write_table<W: std::io::Write>(
     header: &[&str],
     rows: &[Vec<String>],
 ) -> std::io::Result<()> {
-    let shown: Vec<Vec<std::borrow::Cow<str>>> = std::iter::once(header.to_vec())
-        .chain(
-            rows.iter()
-                .map(|row| row.iter().map(String::as_str).collect()),
-        )
-        .map(|cells| cells.into_iter().map(printable).collect())
-        .collect();
-    let mut widths: Vec<usize> = vec![0; header.len()];
-    for row in &shown {
-        for (width, cell) in widths.iter_mut().zip(row) {
-            *width = (*width).max(cell.chars().count());
+    let mut layout = TableLayout::new(header);
+    for row in rows {
+        layout.fit(row);
+    }
+    layout.write_row(out, header)?;
+    for row in rows {
+        layout.write_row(out, row)?;
+    }
+    Ok(())
+}
+
+/// The column widths of a table written row by row, for tables too long to hold: widened by
+/// every row first, then each row written as [`write_table`] writes it.
+#[derive(Clone, Debug)]
+pub struct TableLayout {
+    widths: Vec<usize>,
+}
+
+impl TableLayout {
+    /// A layout as wide as the header (one column per header cell).
+    pub fn new(header: &[&str]) -> Self {
+        let mut layout = TableLayout {
+            widths: vec![0; header.len()],
+        };
+        layout.fit(header);
+        layout
+    }
+
+    /// Widens the columns to hold `row` as shown (cells past the header's are ignored).
+    pub fn fit<S: AsRef<str>>(&mut self, row: &[S]) {
+        for (width, cell) in self.widths.iter_mut().zip(row) {
+            *width = (*width).max(printable(cell.as_ref()).chars().count());
         }
     }
-    for row in &shown {
+
+    /// Writes one row (or the header), each cell right-aligned in its column.
+    pub fn write_row<W: std::io::Write, S: AsRef<str>>(
+        &self,
+        out: &mut W,
+        row: &[S],
+    ) -> std::io::Result<()> {
         let mut line = String::new();
-        for (index, (cell, width)) in row.iter().zip(&widths).enumerate() {
+        for (index, (cell, width)) in row.iter().zip(&self.widths).enumerate() {
             if index > 0 {
                 line.push_str("  ");
             }
-            pad_left(&mut line, cell, *width);
+            pad_left(&mut line, &printable(cell.as_ref()), *width);
         }
-        writeln!(out, "{line}")?;
+        writeln!(out, "{line}")
     }
-    Ok(())
 }
 
 /// Appends `text` right-aligned in `width` characters (no limit on the width).

@@ -176,7 +176,7 @@ pub fn write_csv_timed<W: Write>(
 
 /// Writes a step in decimal, as `Display` does, without the formatting machinery (it is called
 /// once per row of a long window).
-fn write_step(out: &mut impl Write, step: Step) -> std::io::Result<()> {
+pub(crate) fn write_step(out: &mut impl Write, step: Step) -> std::io::Result<()> {
     let mut digits = [0u8; 20];
     let mut at = digits.len();
     let mut rest = step.unsigned_abs();

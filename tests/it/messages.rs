@@ -307,3 +307,37 @@ fn score_writes_one_csv_row() {
     }
     assert_eq!(cells[11], "true");
 }
+
+#[test]
+fn an_error_in_one_case_of_compare_names_the_tracker_and_the_case() {
+    // c = 1.7e308, p = 1: an object-step left alone costs c/2 = 8.5e307, and the first case
+    // (run 1) has 4 of them (three truth steps, one estimate step), 3.4e308 in all: beyond the
+    // largest double, about 1.8e308 (IEEE 754 binary64), so the sum overflows.
+    let files = Files::new();
+    files.write("t.csv", "time,id,x,y\n0,a,0,0\n1,a,0,0\n2,a,0,0\n");
+    files.write("e.csv", "run,time,id,x,y\n1,5,p,0,0\n2,5,p,0,0\n");
+    let (code, stdout, stderr) = files.run(&[
+        "compare",
+        "--truth",
+        "t.csv",
+        "--estimate",
+        "T=e.csv",
+        "--cutoff",
+        "1.7e308",
+    ]);
+    assert_eq!(code, 1, "{stderr}");
+    assert!(stdout.is_empty(), "{stdout}");
+    // The place goes after the kind of error and before what the metric said.
+    assert!(
+        stderr.starts_with(
+            "switchyard: error: invalid parameter: tracker \"T\", run \"1\": the cut-off "
+        ),
+        "{stderr}"
+    );
+    assert!(
+        stderr.ends_with(
+            " is too large for these inputs: c^p / 2 times the 4 object-steps overflows\n"
+        ),
+        "{stderr}"
+    );
+}

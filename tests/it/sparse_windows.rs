@@ -170,3 +170,155 @@ fn score_and_report_over_the_longest_window_count_only_the_two_steps() {
     // 50,000,000 steps over at most 800 columns: bins of 62,500 steps (Limits::default).
     assert!(html.contains("bins of 62500 steps"), "no binning note");
 }
+
+/// The Monte Carlo scene over steps 0 to `LONG` (5,000,000 steps; a dense series of one f64 per
+/// step would be 40 MB for each tracker and run), with c = 10, p = 1, and the switching penalty
+/// gamma = c (the command's default). One truth A at (0, 0), present at steps 0 and `LONG`,
+/// shared by both runs. Tracker T: run 1 has B at (1, 0) at step 0 and (5, 0) at `LONG`; run 2
+/// has B at (3, 0) at step 0 only, and C at (0, 0) at `MIDDLE` only (when A is absent).
+/// Tracker U: A itself in both runs.
+const LONG: i64 = 4_999_999;
+const MIDDLE: i64 = 2_500_000;
+
+fn monte_carlo_scene() -> (tempfile::TempDir, String, String, String) {
+    let dir = tempfile::tempdir().unwrap();
+    let write = |name: &str, text: String| {
+        let path = dir.path().join(name);
+        std::fs::write(&path, text).unwrap();
+        path.to_str().unwrap().to_string()
+    };
+    let truth = write("truth.csv", format!("time,id,x,y\n0,A,0,0\n{LONG},A,0,0\n"));
+    let t = write(
+        "t.csv",
+        format!("run,time,id,x,y\n1,0,B,1,0\n1,{LONG},B,5,0\n2,0,B,3,0\n2,{MIDDLE},C,0,0\n"),
+    );
+    let u = write(
+        "u.csv",
+        format!("run,time,id,x,y\n1,0,A,0,0\n1,{LONG},A,0,0\n2,0,A,0,0\n2,{LONG},A,0,0\n"),
+    );
+    (dir, truth, t, u)
+}
+
+#[test]
+fn compare_over_a_long_window_scores_only_the_occupied_steps() {
+    // Trajectory GOSPA (García-Fernández, Rahmathullah, Svensson, IEEE TSP 2020), p = 1:
+    // a pair with both present costs min(d, c), an object present alone c/2 = 5, a step with
+    // neither 0, and keeping one assignment throughout costs no switch.
+    // T run 1: A with B at d = 1 and d = 5 -> d = 6 (localisation 6).
+    // T run 2: A with B at d = 3 (leaving both unassigned would cost 10), A alone at LONG (5,
+    //   missed), C alone at MIDDLE (5, false) -> d = 13.
+    // U: exact in both runs -> d = 0.
+    let (_dir, truth, t, u) = monte_carlo_scene();
+    let doc: Value = serde_json::from_slice(&crate::cli::run(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &format!("T={t}"),
+        "--estimate",
+        &format!("U={u}"),
+        "--cutoff",
+        "10",
+        "--format",
+        "json",
+    ]))
+    .unwrap();
+    let trackers = &doc["settings"][0]["trackers"];
+    assert_eq!(trackers[0]["tracker"], "U");
+    assert_eq!(number(&trackers[0], "metric_mean"), 0.0);
+    let row = &trackers[1];
+    assert_eq!(row["tracker"], "T");
+    assert_eq!(row["rank"], 2);
+    // Over the two runs: mean (6 + 13) / 2 = 9.5, RMS sqrt((36 + 169) / 2) = sqrt(102.5);
+    // parts as means: localisation (6 + 3) / 2, missed (0 + 5) / 2, false (0 + 5) / 2; counts
+    // as totals: one missed and one false object-step.
+    for (key, expected) in [
+        ("metric_mean", 9.5),
+        ("metric_rms", 102.5f64.sqrt()),
+        ("total_mean", 9.5),
+        ("localization", 4.5),
+        ("missed", 2.5),
+        ("false", 2.5),
+        ("switching", 0.0),
+        ("missed_count", 1.0),
+        ("false_count", 1.0),
+        ("switch_count", 0.0),
+    ] {
+        assert!(
+            (number(row, key) - expected).abs() < 1e-9,
+            "{key}: {} against {expected}",
+            row[key]
+        );
+    }
+    // The paired differences with U are 6 and 13, so every resampled mean is 6, 9.5 or 13: the
+    // interval lies within [6, 13], above 0.
+    let difference = &row["difference"];
+    assert!((number(difference, "mean") - 9.5).abs() < 1e-9);
+    assert!(number(difference, "lower") >= 6.0 - 1e-9);
+    assert!(number(difference, "upper") <= 13.0 + 1e-9);
+    assert_eq!(difference["verdict"], "worse");
+}
+
+#[test]
+fn monte_carlo_over_a_long_window_writes_every_step_from_the_occupied_ones() {
+    // Per-step GOSPA (Rahmathullah, García-Fernández, Svensson, FUSION 2017), c = 10, p = 1:
+    // an assigned pair costs d, an object alone c/2 = 5; averaged over the two runs (mean,
+    // root mean square, parts and counts), with a step where a run has no object counting 0.
+    // Tracker T:
+    // - step 0: G = 1 and 3 -> mean 2, RMS sqrt((1 + 9) / 2) = sqrt 5, localisation 2;
+    // - MIDDLE: G = 0 and 5 (C false) -> mean 2.5, RMS sqrt(25 / 2), false 2.5, false count 1/2;
+    // - LONG: G = 5 (d = 5) and 5 (A missed) -> mean 5, RMS 5, localisation 2.5, missed 2.5,
+    //   missed count 1/2;
+    // - every other step: no object in either run -> all 0.
+    let (dir, truth, t, _) = monte_carlo_scene();
+    let out = dir.path().join("steps.csv");
+    crate::cli::run(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &format!("T={t}"),
+        "--cutoff",
+        "10",
+        "--monte-carlo",
+        "--format",
+        "csv",
+        "--output",
+        out.to_str().unwrap(),
+    ]);
+    use std::io::BufRead;
+    let mut lines = std::io::BufReader::new(std::fs::File::open(&out).unwrap()).lines();
+    assert_eq!(
+        lines.next().unwrap().unwrap(),
+        "cutoff,order,sequence,tracker,time,runs,mean,rms,localization,missed,false,missed_count,false_count"
+    );
+    // Columns from `runs` on: runs, mean, rms, localisation, missed, false, missed count, false
+    // count.
+    let occupied = [
+        (0, [2.0, 2.0, 5f64.sqrt(), 2.0, 0.0, 0.0, 0.0, 0.0]),
+        (MIDDLE, [2.0, 2.5, 12.5f64.sqrt(), 0.0, 0.0, 2.5, 0.0, 0.5]),
+        (LONG, [2.0, 5.0, 5.0, 2.5, 2.5, 0.0, 0.5, 0.0]),
+    ];
+    let mut rows = 0i64;
+    for (time, line) in (0..).zip(lines) {
+        let line = line.unwrap();
+        rows += 1;
+        let fields: Vec<&str> = line.split(',').collect();
+        assert_eq!(fields[..4], ["10", "1", "", "T"], "{line}");
+        assert_eq!(fields[4], time.to_string(), "{line}");
+        match occupied.iter().find(|(at, _)| *at == time) {
+            Some((_, expected)) => {
+                for (field, expected) in fields[5..].iter().zip(expected) {
+                    let value: f64 = field.parse().unwrap();
+                    assert!((value - expected).abs() < 1e-12, "step {time}: {line}");
+                }
+            }
+            None => assert_eq!(
+                fields[5..],
+                ["2", "0", "0", "0", "0", "0", "0", "0"],
+                "{line}"
+            ),
+        }
+    }
+    assert_eq!(rows, LONG + 1, "one row per step of the window");
+}

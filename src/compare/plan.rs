@@ -1,0 +1,325 @@
+//! Planning and running a comparison's work: the settings of a sweep, one job per (setting,
+//! tracker, case) and, for the Monte Carlo summaries, per (cut-off and order, tracker, case),
+//! in a fixed order (settings, then trackers, then cases); the jobs run in parallel with rayon
+//! and are collected in that order, so what follows sums them in the same order whatever the
+//! number of threads.
+
+use rayon::prelude::*;
+use serde::Serialize;
+
+use super::dataset::{self, CaseKey, Dataset};
+use super::CompareOptions;
+use crate::distance::Distance;
+use crate::error::{Error, Result};
+use crate::per_step::{occupied_steps, GospaParams, OccupiedSteps};
+use crate::trajectory_metric::{score_with, Parts, TrajectoryParams, TrajectoryScore};
+
+/// The settings of a sweep: every order, then every cut-off, then every switching penalty
+/// (the penalty defaults to each cut-off when `penalties` is `None`).
+///
+/// # Errors
+/// An empty list, a value listed twice, or a setting outside the metric's range.
+pub fn settings_grid(
+    cutoffs: &[f64],
+    orders: &[f64],
+    penalties: Option<&[f64]>,
+) -> Result<Vec<TrajectoryParams>> {
+    let check = |name: &str, values: &[f64]| -> Result<()> {
+        if values.is_empty() {
+            return Err(Error::Parameter(format!("the list of {name} is empty")));
+        }
+        for (i, v) in values.iter().enumerate() {
+            if values[..i].contains(v) {
+                return Err(Error::Parameter(format!("the {name} {v} is listed twice")));
+            }
+        }
+        Ok(())
+    };
+    check("cut-offs", cutoffs)?;
+    check("orders", orders)?;
+    if let Some(penalties) = penalties {
+        check("switching penalties", penalties)?;
+    }
+    let mut settings = Vec::new();
+    for &order in orders {
+        for &cutoff in cutoffs {
+            match penalties {
+                Some(penalties) => {
+                    for &gamma in penalties {
+                        settings.push(TrajectoryParams::new(cutoff, order, gamma)?);
+                    }
+                }
+                None => settings.push(TrajectoryParams::new(cutoff, order, cutoff)?),
+            }
+        }
+    }
+    Ok(settings)
+}
+
+/// The trajectory metric of one (tracker, case, setting), without the LP's weights.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct CaseScore {
+    /// d.
+    pub metric: f64,
+    /// d^p.
+    pub total: f64,
+    /// The parts and counts.
+    #[serde(flatten)]
+    pub parts: Parts,
+    /// True when the LP optimum is integral.
+    pub integral: bool,
+    /// True when the value is proven optimal (see [`crate::trajectory_metric::Certificate`]).
+    #[serde(skip)]
+    pub proven: bool,
+    /// Steps in the window.
+    pub steps: usize,
+}
+
+impl From<&TrajectoryScore> for CaseScore {
+    fn from(s: &TrajectoryScore) -> Self {
+        CaseScore {
+            metric: s.metric,
+            total: s.total,
+            parts: s.parts,
+            integral: s.integral,
+            proven: s.certificate.proven,
+            steps: s.steps,
+        }
+    }
+}
+
+/// The raw results: every job's score, in job order.
+#[derive(Clone, Debug)]
+pub struct Evaluation {
+    settings: Vec<TrajectoryParams>,
+    step_params: Vec<GospaParams>,
+    trackers: usize,
+    cases: usize,
+    scores: Vec<CaseScore>,
+    series: Vec<OccupiedSteps>,
+}
+
+impl Evaluation {
+    /// The score of `tracker` on `case` at setting `setting`.
+    pub fn score(&self, setting: usize, tracker: usize, case: usize) -> &CaseScore {
+        &self.scores[(setting * self.trackers + tracker) * self.cases + case]
+    }
+
+    /// True when the evaluation has the numbers of trackers and cases of `dataset`.
+    pub fn fits(&self, dataset: &Dataset) -> bool {
+        self.trackers == dataset.trackers().len() && self.cases == dataset.cases().len()
+    }
+
+    /// The settings evaluated.
+    pub fn settings(&self) -> &[TrajectoryParams] {
+        &self.settings
+    }
+
+    /// The per-step parameters (distinct cut-off and order pairs of the settings, alpha 2);
+    /// empty unless the Monte Carlo summaries were asked for.
+    pub fn step_params(&self) -> &[GospaParams] {
+        &self.step_params
+    }
+
+    /// The per-step GOSPA of `tracker` on `case` for `step_params()[index]`, kept at the
+    /// occupied steps.
+    pub fn series(&self, index: usize, tracker: usize, case: usize) -> &OccupiedSteps {
+        &self.series[(index * self.trackers + tracker) * self.cases + case]
+    }
+}
+
+/// One unit of work.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Job {
+    Trajectory {
+        setting: usize,
+        tracker: usize,
+        case: usize,
+    },
+    Steps {
+        params: usize,
+        tracker: usize,
+        case: usize,
+    },
+}
+
+enum Outcome {
+    Trajectory(CaseScore),
+    Steps(OccupiedSteps),
+}
+
+/// The distinct (cut-off, order) pairs of the settings, in order of first appearance, as
+/// per-step parameters with alpha = 2.
+fn step_params(settings: &[TrajectoryParams]) -> Result<Vec<GospaParams>> {
+    let mut result: Vec<GospaParams> = Vec::new();
+    for s in settings {
+        if !result
+            .iter()
+            .any(|g| g.cutoff == s.cutoff && g.order == s.order)
+        {
+            result.push(GospaParams::new(s.cutoff, s.order, 2.0)?);
+        }
+    }
+    Ok(result)
+}
+
+fn plan(dataset: &Dataset, options: &CompareOptions, steps: usize) -> Vec<Job> {
+    let trackers = dataset.trackers().len();
+    let cases = dataset.cases().len();
+    let mut jobs = Vec::with_capacity((options.settings.len() + steps) * trackers * cases);
+    for setting in 0..options.settings.len() {
+        for tracker in 0..trackers {
+            for case in 0..cases {
+                jobs.push(Job::Trajectory {
+                    setting,
+                    tracker,
+                    case,
+                });
+            }
+        }
+    }
+    for params in 0..steps {
+        for tracker in 0..trackers {
+            for case in 0..cases {
+                jobs.push(Job::Steps {
+                    params,
+                    tracker,
+                    case,
+                });
+            }
+        }
+    }
+    jobs
+}
+
+/// The number of jobs [`evaluate`] runs (for a progress display).
+pub fn job_count(dataset: &Dataset, options: &CompareOptions) -> usize {
+    let steps = if options.monte_carlo {
+        step_params(&options.settings).map_or(0, |p| p.len())
+    } else {
+        0
+    };
+    (options.settings.len() + steps) * dataset.trackers().len() * dataset.cases().len()
+}
+
+/// Carries which tracker and case failed with the error.
+fn in_case(error: Error, tracker: &str, key: &CaseKey) -> Error {
+    Error::InCase {
+        tracker: tracker.to_string(),
+        case: dataset::describe(key),
+        error: Box::new(error),
+    }
+}
+
+/// Scores every (setting, tracker, case) in parallel; `progress` is called once per finished
+/// job, from any thread.
+///
+/// # Errors
+/// Invalid settings or options, a distance that does not fit the data; a failure in a case
+/// (the first in job order) as [`Error::InCase`], naming the tracker and the case.
+pub fn evaluate(
+    dataset: &Dataset,
+    distance: &Distance,
+    options: &CompareOptions,
+    progress: &(dyn Fn() + Sync),
+) -> Result<Evaluation> {
+    if options.settings.is_empty() {
+        return Err(Error::Parameter("there is no setting to evaluate".into()));
+    }
+    options.bootstrap.validate()?;
+    for s in &options.settings {
+        distance.validate(dataset.dim(), s.cutoff)?;
+    }
+    let step_params = if options.monte_carlo {
+        step_params(&options.settings)?
+    } else {
+        Vec::new()
+    };
+    let jobs = plan(dataset, options, step_params.len());
+    let outcomes: Vec<Result<Outcome>> = jobs
+        .par_iter()
+        .map(|job| {
+            let outcome = match *job {
+                Job::Trajectory {
+                    setting,
+                    tracker,
+                    case,
+                } => {
+                    let t = &dataset.trackers()[tracker];
+                    score_with(
+                        dataset.truth_of(case),
+                        &t.estimates[case],
+                        &options.settings[setting],
+                        distance,
+                        &options.solve,
+                    )
+                    .map(|s| Outcome::Trajectory(CaseScore::from(&s)))
+                    .map_err(|e| in_case(e, &t.name, &dataset.cases()[case].key))
+                }
+                Job::Steps {
+                    params,
+                    tracker,
+                    case,
+                } => {
+                    let t = &dataset.trackers()[tracker];
+                    occupied_steps(
+                        dataset.truth_of(case),
+                        &t.estimates[case],
+                        &step_params[params],
+                        distance,
+                    )
+                    .map(Outcome::Steps)
+                    .map_err(|e| in_case(e, &t.name, &dataset.cases()[case].key))
+                }
+            };
+            progress();
+            outcome
+        })
+        .collect();
+    let mut scores = Vec::with_capacity(jobs.len());
+    let mut series = Vec::new();
+    for outcome in outcomes {
+        match outcome? {
+            Outcome::Trajectory(score) => scores.push(score),
+            Outcome::Steps(s) => series.push(s),
+        }
+    }
+    Ok(Evaluation {
+        settings: options.settings.clone(),
+        step_params,
+        trackers: dataset.trackers().len(),
+        cases: dataset.cases().len(),
+        scores,
+        series,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn grid_runs_order_then_cutoff_then_penalty() {
+        let grid = settings_grid(&[2.0, 5.0], &[1.0], Some(&[1.0, 4.0])).unwrap();
+        let triples: Vec<(f64, f64, f64)> = grid
+            .iter()
+            .map(|p| (p.cutoff, p.order, p.switch_penalty))
+            .collect();
+        assert_eq!(
+            triples,
+            [
+                (2.0, 1.0, 1.0),
+                (2.0, 1.0, 4.0),
+                (5.0, 1.0, 1.0),
+                (5.0, 1.0, 4.0)
+            ]
+        );
+        // Without penalties, each cut-off is its own penalty.
+        let grid = settings_grid(&[3.0], &[1.0, 2.0], None).unwrap();
+        assert_eq!(grid[1].switch_penalty, 3.0);
+        assert_eq!(grid[1].order, 2.0);
+        assert!(settings_grid(&[2.0, 2.0], &[1.0], None).is_err());
+        assert!(settings_grid(&[], &[1.0], None).is_err());
+        assert!(settings_grid(&[-1.0], &[1.0], None).is_err());
+    }
+}
