@@ -120,11 +120,39 @@ pub(super) fn section(out: &mut String, report: &Report) {
             plural(report.truth.len())
         ),
     );
+    let times = |first: i64, last: i64| match &report.time {
+        Some(time) => format!(
+            ", time {} to {}",
+            esc(&time.time_text(first)),
+            esc(&time.time_text(last))
+        ),
+        None => String::new(),
+    };
     if let Some(w) = window {
         item(
             "window",
-            format!("steps {} to {} ({} steps)", w.first, w.last, w.len()),
+            format!(
+                "steps {} to {} ({} steps{})",
+                w.first,
+                w.last,
+                w.len(),
+                times(w.first, w.last)
+            ),
         );
+    }
+    if report.view.is_some() {
+        let shown = match super::shown_window(report) {
+            Some(w) => format!(
+                "steps {} to {} ({} steps{}) — the charts and top views below; this summary \
+                 covers the whole window",
+                w.first,
+                w.last,
+                w.len(),
+                times(w.first, w.last)
+            ),
+            None => "no step of the inputs".to_string(),
+        };
+        item("shown", shown);
     }
     item(
         "LP engine",
