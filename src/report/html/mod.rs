@@ -2,12 +2,15 @@
 //! reference) built from result structs. Contents and rules: `specs/report.md`.
 //!
 //! The page opens with a summary (parameters, then the metric, its parts and counts, one column
-//! per tracker, and a bar chart of the parts), followed by a section per tracker with three
-//! charts on a shared time axis: errors over time (per-step GOSPA stacked by its parts, switch
-//! events marked), the identity chart (a row per true object, worst covered first, spans
-//! coloured by the covering track) and, for states of two or more dimensions, a top view of
-//! true and estimated paths with switch locations. What is too large to draw one mark per item
-//! is thinned or grouped ([`Limits`]), and the page says so beside the chart.
+//! per tracker, and a bar chart of the parts) and a chart of every tracker's per-step GOSPA on
+//! one time axis, followed by a section per tracker with three charts on that axis: errors over
+//! time (per-step GOSPA stacked by its parts, switch events marked, counted per stretch of steps
+//! where they would crowd), the identity chart (a row per true object, worst covered first,
+//! spans coloured by the covering track) and, for states of two or more dimensions, a top view
+//! of true and estimated paths with switch locations. [`Report::view`] restricts every chart to
+//! a window of steps (the summary stays whole) and [`Report::time`] labels the time axes in the
+//! input's time unit. What is too large to draw one mark per item is thinned or grouped
+//! ([`Limits`]), and the page says so beside the chart.
 //!
 //! The markup is also well-formed XML (every element closed, no named entities), so it can be
 //! checked with an XML parser; the same result structs give the same bytes.
@@ -128,10 +131,11 @@ pub struct Limits {
     pub max_time_bins: usize,
     /// Identity chart: at most this many rows (the worst-covered objects).
     pub max_identity_rows: usize,
-    /// Top view: at most about this many points in all; above it every k-th step is drawn.
+    /// Top view: at most about this many points in all; above it one step in k is drawn.
     pub max_top_points: usize,
-    /// Errors over time and top view: at most this many switch marks; above it nearby switches
-    /// share one mark that counts them.
+    /// Top view: at most this many switch rings; above it nearby switches share one ring that
+    /// counts them. (The time charts count switches per stretch of steps whenever their marks
+    /// would touch.)
     pub max_switch_marks: usize,
     /// Top view: label the start of at most this many true paths.
     pub max_path_labels: usize,

@@ -1,9 +1,11 @@
 //! The top view: true paths (wide grey, labelled at their start) and estimated tracks (thin, in
 //! the track's colour and dash pattern, as in the identity chart) in the plane of the first two
 //! state columns, one unit the same length on both axes; a ring marks where each switch
-//! happened (dashed for a half switch). Above [`Limits::max_top_points`](super::Limits) points,
-//! every k-th step is drawn (the ends of each run always); above `max_switch_marks` switches,
-//! rings that fall in one small cell are merged and count their switches.
+//! happened (dashed for a half switch). Only the steps of the window shown are drawn; above
+//! [`Limits::max_top_objects`](super::Limits) true objects, only those with a switch there and
+//! the tracks that covered them. Above `max_top_points` points, one step in k is drawn (the ends
+//! of each run always); above `max_switch_marks` switches, rings that fall in one small cell are
+//! merged and count their switches.
 
 use std::collections::BTreeMap;
 use std::fmt::Write;
