@@ -531,6 +531,25 @@ fn report_command_writes_the_page_and_refuses_bad_input() {
             12
         );
     }
+    // The top view: 28 boats are more than 20, so it draws only those with a switch (the
+    // objects `switchyard switches` names) and says so.
+    let mut switched: Vec<String> = demo_switches("tracker-swaps.csv")
+        .into_iter()
+        .map(|(_, object)| object)
+        .collect();
+    switched.sort();
+    switched.dedup();
+    let top = one_with_class(swaps, "top-view");
+    let mut drawn: Vec<String> = with_class(top, "truth-path")
+        .iter()
+        .map(|p| p.attribute("data-truth").unwrap().to_string())
+        .collect();
+    drawn.sort();
+    assert_eq!(drawn, switched);
+    assert!(html.contains(&format!(
+        "28 true objects are too many to follow in one view: it draws only the {} with a switch",
+        switched.len()
+    )));
     // 28 boats, one row each.
     assert_eq!(
         with_class(one_with_class(swaps, "identity-chart"), "identity-row").len(),
@@ -757,6 +776,15 @@ fn page_of(output: std::process::Output) -> String {
 
 /// The switch steps of one demo tracker as `switchyard switches --format csv` lists them.
 fn demo_switch_steps(file: &str) -> Vec<i64> {
+    demo_switches(file)
+        .into_iter()
+        .map(|(step, _)| step)
+        .collect()
+}
+
+/// `(step, true object)` of each switch of one demo tracker, as `switchyard switches --format
+/// csv` lists them.
+fn demo_switches(file: &str) -> Vec<(i64, String)> {
     let output = Command::cargo_bin("switchyard")
         .unwrap()
         .args(["switches", "--truth", &demo("truth.csv"), "--estimate"])
@@ -770,7 +798,10 @@ fn demo_switch_steps(file: &str) -> Vec<i64> {
         .lines()
         .skip(1)
         .filter(|line| line.starts_with("truth,"))
-        .map(|line| line.split(',').nth(1).unwrap().parse().unwrap())
+        .map(|line| {
+            let fields: Vec<&str> = line.split(',').collect();
+            (fields[1].parse().unwrap(), fields[2].to_string())
+        })
         .collect()
 }
 

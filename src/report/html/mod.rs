@@ -153,7 +153,7 @@ impl Default for Limits {
             max_top_points: 40_000,
             max_switch_marks: 400,
             max_path_labels: 60,
-            max_top_objects: 30,
+            max_top_objects: 20,
         }
     }
 }

@@ -133,16 +133,22 @@ fn selection<'a>(
     covering.dedup();
     notes.push(format!(
         "{} true objects are too many to follow in one view: it draws only the {} with a switch \
-         {}(the worst covered first), and the {} track{} that covered them.",
+         {}(the worst covered first), and the {} track{} that covered them.{}",
         truths.len(),
         chosen.len(),
         if report.view.is_some() {
-            "within the chosen steps "
+            "within the steps shown "
         } else {
             ""
         },
         covering.len(),
-        super::plural(covering.len())
+        super::plural(covering.len()),
+        if report.view.is_none() {
+            " A shorter stretch of steps (<code>--from</code>, <code>--to</code>) untangles \
+             long paths."
+        } else {
+            ""
+        }
     ));
     (
         truths
