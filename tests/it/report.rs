@@ -959,13 +959,66 @@ fn a_window_limits_every_chart_but_not_the_summary() {
     let html = demo_page(&["--from", "100", "--to", "149"]);
     let doc = parse(&html);
     let root = doc.root_element();
-    // The summary is over the whole scene: its table is unchanged.
+    // The summary is over the whole scene: its table is unchanged, but for two rows added at
+    // its end for the window.
     let table = |page: &str| {
         let start = page.find("<table class=\"summary\">").unwrap();
-        let end = page.find("</table>").unwrap();
+        let end = page.find("</tbody>").unwrap();
         page[start..end].to_string()
     };
-    assert_eq!(table(&html), table(&whole));
+    let (windowed, whole_table) = (table(&html), table(&whole));
+    assert!(windowed.starts_with(&whole_table));
+    // Those rows: the switch events within steps 100 to 149 (counted from `switchyard
+    // switches`), and the mean per-step GOSPA there.
+    let added = &windowed[whole_table.len()..];
+    let swaps_inside = demo_switch_steps("tracker-swaps.csv")
+        .into_iter()
+        .filter(|s| (100..=149).contains(s))
+        .count();
+    let fragments_inside = demo_switch_steps("tracker-fragments.csv")
+        .into_iter()
+        .filter(|s| (100..=149).contains(s))
+        .count();
+    assert!(
+        added.contains(&format!(
+            "switch events over the steps 100 to 149 shown</th><td{}>{swaps_inside}</td>",
+            if swaps_inside <= fragments_inside {
+                " class=\"best\""
+            } else {
+                ""
+            }
+        )),
+        "{added}"
+    );
+    // The mean over the window: `switchyard steps` gives per-step GOSPA at every step of the
+    // demo (all 300 have objects); its mean over the 50 steps, to the page's one decimal.
+    let output = Command::cargo_bin("switchyard")
+        .unwrap()
+        .args(["steps", "--truth", &demo("truth.csv"), "--estimate"])
+        .arg(demo("tracker-swaps.csv"))
+        .args(["--cutoff", "20", "--format", "csv"])
+        .output()
+        .unwrap();
+    let steps = String::from_utf8(output.stdout).unwrap();
+    let sum: f64 = steps
+        .lines()
+        .skip(1)
+        .map(|line| line.split(',').collect::<Vec<_>>())
+        .filter(|f| (100..=149).contains(&f[0].parse::<i64>().unwrap()))
+        .map(|f| f[1].parse::<f64>().unwrap())
+        .sum();
+    let row = &added[added
+        .find("mean per-step GOSPA over the steps 100 to 149 shown")
+        .unwrap()..];
+    let cell = &row[row.find("<td").unwrap()..];
+    let value: f64 = cell[cell.find('>').unwrap() + 1..cell.find("</td>").unwrap()]
+        .parse()
+        .unwrap();
+    assert!(
+        (value - sum / 50.0).abs() <= 0.05 + 1e-9,
+        "{value} vs {}",
+        sum / 50.0
+    );
     let present = demo_truths_within(100, 149);
     for (index, file) in ["tracker-swaps.csv", "tracker-fragments.csv"]
         .into_iter()
