@@ -19,8 +19,8 @@ const PLOT_H: f64 = 190.0;
 /// Width of a switch triangle, in pixels; triangles closer than this (and a little air) would
 /// touch.
 const TRIANGLE_W: f64 = 8.0;
-/// Narrowest switch bin, in pixels: room for a badge holding a two-digit count.
-const BADGE_BIN_W: f64 = 18.0;
+/// Narrowest switch bin, in pixels: room for a badge holding a two-digit count and some air.
+const BADGE_BIN_W: f64 = 22.0;
 const BADGE_H: f64 = 12.0;
 
 /// The figure's caption.
@@ -110,13 +110,38 @@ pub(super) fn crowded(events: &[&SwitchEvent], x: &Scale) -> bool {
     })
 }
 
-/// Steps per switch bin: the fewest whole columns of the chart that are at least
-/// [`BADGE_BIN_W`] pixels wide, so that badges never overlap.
+/// Steps per switch bin, shared by every tracker so that their counts line up: the fewest
+/// whole columns of the chart that are at least [`BADGE_BIN_W`] pixels wide and hold the
+/// widest badge any tracker needs there (with 2 px of air), so that badges never overlap.
 pub(super) fn switch_bin_size(context: &Context, columns: usize) -> usize {
+    let window = context.window;
     let plot = WIDTH - RIGHT - context.left;
-    let per_step = plot / context.window.len() as f64;
-    let steps = (BADGE_BIN_W / per_step).ceil().max(1.0) as usize;
-    steps.div_ceil(columns) * columns
+    let per_step = plot / window.len() as f64;
+    let events: Vec<Vec<&SwitchEvent>> = context
+        .report
+        .trackers
+        .iter()
+        .map(|t| events_in(&t.switches, window))
+        .collect();
+    let mut steps = ((BADGE_BIN_W / per_step).ceil().max(1.0) as usize).div_ceil(columns) * columns;
+    while steps < window.len() {
+        let widest = events
+            .iter()
+            .flat_map(|e| switch_bins(e, window, steps))
+            .map(|bin| bin.events.len())
+            .max()
+            .unwrap_or(0);
+        if badge_width(widest) + 2.0 <= steps as f64 * per_step {
+            break;
+        }
+        steps += columns;
+    }
+    steps
+}
+
+/// Width of a badge holding `count`, in pixels.
+fn badge_width(count: usize) -> f64 {
+    svg::text_width(count.to_string().len()).max(6.0) + 6.0
 }
 
 /// Switches that share a bin of whole steps.
@@ -165,8 +190,11 @@ pub(super) fn badge(out: &mut String, context: &Context, bin: &SwitchBin, x: &Sc
         ("#c3c9d0", INK)
     };
     let digits = count.to_string();
-    let w = svg::text_width(digits.len()).max(6.0) + 6.0;
-    let cx = (x.at(bin.first as f64 - 0.5) + x.at(bin.last as f64 + 0.5)) / 2.0;
+    let w = badge_width(count);
+    // Centred on its stretch; a shorter last stretch keeps the badge from reaching back
+    // over the one before.
+    let start = x.at(bin.first as f64 - 0.5);
+    let cx = ((start + x.at(bin.last as f64 + 0.5)) / 2.0).max(start + w / 2.0 + 1.0);
     let mut title = format!(
         "{}: {count} switch{} ({fulls} full, {} half)",
         context.span_text(bin.first, bin.last),
