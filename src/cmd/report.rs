@@ -6,7 +6,8 @@ use std::io::Write;
 use clap::Args;
 
 use switchyard::evaluate::{evaluate, Request};
-use switchyard::report::html::{render, Limits, Report, TrackerResults};
+use switchyard::report::html::{render, Limits, Report, TimeScale, TrackerResults};
+use switchyard::trajectory::{Step, Window};
 
 use super::config::{check_trackers, read_files};
 use super::options::{CsvOptions, DistanceOptions, MetricArgs, NamedFile};
@@ -32,6 +33,18 @@ pub struct ReportArgs {
     /// Unit of the state values, written on the axes (for example `m`).
     #[arg(long, value_name = "UNIT")]
     units: Option<String>,
+    /// Show only the steps from this time on (in the time column's units: a step index, or a
+    /// time with --time-step) in the time charts and the top view; the summary still covers
+    /// the whole scene.
+    #[arg(long, value_name = "TIME", allow_negative_numbers = true)]
+    from: Option<f64>,
+    /// Show only the steps up to this time (included); see --from.
+    #[arg(long, value_name = "TIME", allow_negative_numbers = true)]
+    to: Option<f64>,
+    /// Unit of time written on the time axes (for example `s`); needs --time-step, with which
+    /// the axes show time = step x step size instead of the step index.
+    #[arg(long, value_name = "UNIT", requires = "time_step")]
+    time_unit: Option<String>,
     /// Title of the page.
     #[arg(long, value_name = "TEXT", default_value = "Tracker report")]
     title: String,
@@ -39,8 +52,48 @@ pub struct ReportArgs {
     output: OutputArgs,
 }
 
+/// A `--from` / `--to` value as a step: a whole step index, or with a step size the nearest
+/// step, as the reader turns times into steps.
+fn step_of(option: &str, value: f64, time_step: Option<f64>) -> anyhow::Result<Step> {
+    let step = match time_step {
+        Some(dt) => (value / dt).round(),
+        None if value.fract() != 0.0 => anyhow::bail!(
+            "{option} {value} is not a whole step; give a step index, or a time together with \
+             --time-step"
+        ),
+        None => value,
+    };
+    if !step.is_finite() || step.abs() > 9_007_199_254_740_992.0 {
+        anyhow::bail!("{option} {value} is beyond the supported range of steps");
+    }
+    Ok(step as Step)
+}
+
+/// The steps to show, from `--from` and `--to` (`None` when neither is given).
+fn view_of(args: &ReportArgs) -> anyhow::Result<Option<Window>> {
+    if args.from.is_none() && args.to.is_none() {
+        return Ok(None);
+    }
+    let dt = args.csv.time_step;
+    let first = args
+        .from
+        .map(|v| step_of("--from", v, dt))
+        .transpose()?
+        .unwrap_or(Step::MIN / 2);
+    let last = args
+        .to
+        .map(|v| step_of("--to", v, dt))
+        .transpose()?
+        .unwrap_or(Step::MAX / 2);
+    if first > last {
+        anyhow::bail!("--from must not come after --to (they give steps {first} and {last})");
+    }
+    Ok(Some(Window { first, last }))
+}
+
 pub fn run(args: &ReportArgs) -> anyhow::Result<()> {
     let params = args.metric.params()?;
+    let view = view_of(args)?;
     check_trackers(&args.truth, &args.estimate)?;
     let files: Vec<&str> = args
         .estimate
@@ -56,6 +109,25 @@ pub fn run(args: &ReportArgs) -> anyhow::Result<()> {
         &args.distance,
         params.cutoff,
     )?;
+    if let Some(view) = view {
+        let whole = estimates
+            .iter()
+            .filter_map(|e| Window::covering(&truth.set, &e.set))
+            .reduce(|a, b| Window {
+                first: a.first.min(b.first),
+                last: a.last.max(b.last),
+            });
+        if let Some(whole) = whole {
+            if view.first > whole.last || view.last < whole.first {
+                anyhow::bail!(
+                    "no step of the inputs lies within --from/--to; the inputs cover steps {} \
+                     to {}",
+                    whole.first,
+                    whole.last
+                );
+            }
+        }
+    }
     // The page shows no jumps: everything else is evaluated.
     let request = Request {
         jumps: false,
@@ -86,6 +158,11 @@ pub fn run(args: &ReportArgs) -> anyhow::Result<()> {
         distance: distance.name().to_string(),
         engine: args.metric.engine_name().to_string(),
         trackers,
+        view,
+        time: args.csv.time_step.map(|step| TimeScale {
+            step,
+            unit: args.time_unit.clone().filter(|u| !u.trim().is_empty()),
+        }),
     };
     let page = render(&report, &Limits::default());
     args.output.emit(|out| {

@@ -12,9 +12,9 @@ use std::fmt::Write;
 use super::over_time::describe;
 use super::style::{self, Style, INK, MISSED};
 use super::svg::{self, esc, n};
-use super::{plural, Context, Figure, RIGHT, WIDTH};
+use super::{plural, Context, Figure, WIDTH};
 use crate::assignment::switches::SwitchEvent;
-use crate::trajectory::Step;
+use crate::trajectory::{Step, Window};
 
 const ROW_H: f64 = 17.0;
 const BAR_H: f64 = 11.0;
@@ -44,43 +44,42 @@ fn runs(steps: &[Step]) -> Vec<(Step, Step)> {
     out
 }
 
-fn steps_text(first: Step, last: Step) -> String {
-    if first == last {
-        format!("step {first}")
-    } else {
-        format!("steps {first}–{last}")
-    }
+/// The part of `first..=last` within the window, if any.
+fn clip(first: Step, last: Step, window: Window) -> Option<(Step, Step)> {
+    let (first, last) = (first.max(window.first), last.min(window.last));
+    (first <= last).then_some((first, last))
 }
 
-fn x_axis(out: &mut String, context: &Context, y_line: f64, y_text: f64, tick_dir: f64) {
-    let x = context.time_scale();
-    let window = context.window;
-    let step = svg::step_tick(window.len() as f64, 10);
-    let _ = write!(
-        out,
-        "<line x1=\"{}\" x2=\"{}\" y1=\"{y}\" y2=\"{y}\" stroke=\"{INK}\"/>",
-        n(context.left),
-        n(WIDTH - RIGHT),
-        y = n(y_line)
-    );
-    for value in svg::ticks(window.first as f64, window.last as f64, step as f64) {
-        let px = x.at(value);
-        let _ = write!(
-            out,
-            "<line x1=\"{p}\" x2=\"{p}\" y1=\"{}\" y2=\"{}\" stroke=\"{INK}\"/>",
-            n(y_line),
-            n(y_line + 3.0 * tick_dir),
-            p = n(px)
-        );
-        svg::text(out, px, y_text, "middle", "tick", &svg::value(value, 0));
-    }
+/// True when the trajectory is present at some step of `window`.
+fn present_in(steps: &[Step], window: Window) -> bool {
+    let index = steps.partition_point(|&s| s < window.first);
+    index < steps.len() && steps[index] <= window.last
 }
 
 /// Draws the chart.
 pub(super) fn chart(context: &Context) -> Figure {
     let mut notes = Vec::new();
     let tracker = context.tracker;
-    let truths = &tracker.audit.truths;
+    let window = context.window;
+    let truth_index: HashMap<&str, usize> = context
+        .report
+        .truth
+        .trajectories()
+        .iter()
+        .enumerate()
+        .map(|(i, t)| (t.id(), i))
+        .collect();
+    // Only the objects present within the steps shown, in the audit's order.
+    let truths: Vec<_> = tracker
+        .audit
+        .truths
+        .iter()
+        .filter(|t| {
+            truth_index
+                .get(t.truth.as_str())
+                .is_some_and(|&i| present_in(context.report.truth.get(i).steps(), window))
+        })
+        .collect();
     let limit = context.limits.max_identity_rows.max(1);
     let shown = truths.len().min(limit);
     if truths.len() > limit {
@@ -91,17 +90,11 @@ pub(super) fn chart(context: &Context) -> Figure {
             truths.len() - shown
         ));
     }
-    let truth_index: HashMap<&str, usize> = context
-        .report
-        .truth
-        .trajectories()
-        .iter()
-        .enumerate()
-        .map(|(i, t)| (t.id(), i))
-        .collect();
     let mut events: HashMap<&str, Vec<&SwitchEvent>> = HashMap::new();
     for event in &tracker.switches {
-        events.entry(event.truth.as_str()).or_default().push(event);
+        if event.time >= window.first && event.time <= window.last {
+            events.entry(event.truth.as_str()).or_default().push(event);
+        }
     }
 
     let left = context.left;
@@ -174,20 +167,9 @@ pub(super) fn chart(context: &Context) -> Figure {
 
     // Axes and grid.
     out.push_str("<g class=\"axis x\">");
-    x_axis(&mut out, context, rows_top - 2.0, rows_top - 8.0, -1.0);
-    x_axis(
-        &mut out,
-        context,
-        rows_bottom + 2.0,
-        rows_bottom + 16.0,
-        1.0,
-    );
-    let _ = write!(
-        out,
-        "<text class=\"axis-label\" x=\"{}\" y=\"{}\" text-anchor=\"middle\">step</text>",
-        n((left + WIDTH - RIGHT) / 2.0),
-        n(rows_bottom + AXIS_H + 18.0)
-    );
+    context.time_axis(&mut out, rows_top - 2.0, rows_top - 8.0, -1.0);
+    context.time_axis(&mut out, rows_bottom + 2.0, rows_bottom + 16.0, 1.0);
+    context.time_axis_title(&mut out, rows_bottom + AXIS_H + 18.0);
     let _ = write!(
         out,
         "<text class=\"axis-label\" transform=\"rotate(-90)\" x=\"{}\" y=\"13\" text-anchor=\"middle\">true object (worst first)</text>",
@@ -207,14 +189,7 @@ pub(super) fn chart(context: &Context) -> Figure {
             truth.rank
         );
         if r % 2 == 0 {
-            let _ = write!(
-                out,
-                "<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"#f3f5f7\"/>",
-                n(left),
-                n(top),
-                n(WIDTH - RIGHT - left),
-                n(ROW_H)
-            );
+            super::over_time::row_band(&mut out, context, top, ROW_H);
         }
         let switches_text = svg::value(truth.switches, 1);
         let row_title = format!(
@@ -243,6 +218,9 @@ pub(super) fn chart(context: &Context) -> Figure {
             let trajectory = context.report.truth.get(index);
             let mut d = String::new();
             for (first, last) in runs(trajectory.steps()) {
+                let Some((first, last)) = clip(first, last, window) else {
+                    continue;
+                };
                 let _ = write!(
                     d,
                     "M{} {}H{}",
@@ -260,8 +238,11 @@ pub(super) fn chart(context: &Context) -> Figure {
         }
         // Missed runs.
         for span in &truth.missed {
-            let x0 = x.at(span.first as f64 - 0.5);
-            let x1 = x.at(span.last as f64 + 0.5);
+            let Some((first, last)) = clip(span.first, span.last, window) else {
+                continue;
+            };
+            let x0 = x.at(first as f64 - 0.5);
+            let x1 = x.at(last as f64 + 0.5);
             let _ = write!(
                 out,
                 "<rect class=\"missed\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"#ffffff\" fill-opacity=\"0.01\" stroke=\"{}\" stroke-width=\"1.3\" stroke-dasharray=\"3 2\"><title>{}</title></rect>",
@@ -273,7 +254,7 @@ pub(super) fn chart(context: &Context) -> Figure {
                 esc(&format!(
                     "{} missed, {} ({} present step{})",
                     truth.truth,
-                    steps_text(span.first, span.last),
+                    context.span_text(span.first, span.last),
                     span.steps,
                     plural(span.steps)
                 ))
@@ -283,14 +264,17 @@ pub(super) fn chart(context: &Context) -> Figure {
         // in a row, so a run broken by short misses is not labelled at every piece.
         let mut labelled: Option<(&str, f64)> = None;
         for span in &truth.covered {
-            let x0 = x.at(span.first as f64 - 0.5);
-            let x1 = x.at(span.last as f64 + 0.5);
+            let Some((first, last)) = clip(span.first, span.last, window) else {
+                continue;
+            };
+            let x0 = x.at(first as f64 - 0.5);
+            let x1 = x.at(last as f64 + 0.5);
             let style = context.style_of(&span.estimate);
             let title = format!(
                 "{} covered by track {}, {} ({} present step{}), mean distance {}",
                 truth.truth,
                 span.estimate,
-                steps_text(span.first, span.last),
+                context.span_text(span.first, span.last),
                 span.steps,
                 plural(span.steps),
                 context.with_unit(span.mean_error)
@@ -333,13 +317,10 @@ pub(super) fn chart(context: &Context) -> Figure {
             let group = &mine[k..end];
             let full = group.iter().all(|e| e.from.is_some() && e.to.is_some());
             let title = if group.len() == 1 {
-                describe(group[0], &svg::short(group[0].cost))
+                describe(group[0], context)
             } else {
                 merged += group.len();
-                let lines: Vec<String> = group
-                    .iter()
-                    .map(|e| describe(e, &svg::short(e.cost)))
-                    .collect();
+                let lines: Vec<String> = group.iter().map(|e| describe(e, context)).collect();
                 format!("{} switches here:\n{}", group.len(), lines.join("\n"))
             };
             let dash = if full {

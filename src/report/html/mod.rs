@@ -2,21 +2,26 @@
 //! reference) built from result structs. Contents and rules: `specs/report.md`.
 //!
 //! The page opens with a summary (parameters, then the metric, its parts and counts, one column
-//! per tracker, and a bar chart of the parts), followed by a section per tracker with three
-//! charts on a shared time axis: errors over time (per-step GOSPA stacked by its parts, switch
-//! events marked), the identity chart (a row per true object, worst covered first, spans
-//! coloured by the covering track) and, for states of two or more dimensions, a top view of
-//! true and estimated paths with switch locations. What is too large to draw one mark per item
-//! is thinned or grouped ([`Limits`]), and the page says so beside the chart.
+//! per tracker, and a bar chart of the parts) and a chart of every tracker's per-step GOSPA on
+//! one time axis, followed by a section per tracker with three charts on that axis: errors over
+//! time (per-step GOSPA stacked by its parts, switch events marked, counted per stretch of steps
+//! where they would crowd), the identity chart (a row per true object, worst covered first,
+//! spans coloured by the covering track) and, for states of two or more dimensions, a top view
+//! of true and estimated paths with switch locations. [`Report::view`] restricts every chart to
+//! a window of steps (the summary stays whole) and [`Report::time`] labels the time axes in the
+//! input's time unit. What is too large to draw one mark per item is thinned or grouped
+//! ([`Limits`]), and the page says so beside the chart.
 //!
 //! The markup is also well-formed XML (every element closed, no named entities), so it can be
 //! checked with an XML parser; the same result structs give the same bytes.
 
+mod all_trackers;
 mod identity;
 mod over_time;
 mod style;
 mod summary;
 mod svg;
+mod time_axis;
 mod topview;
 
 use std::fmt::Write;
@@ -31,6 +36,7 @@ use crate::trajectory_metric::TrajectoryScore;
 
 use self::style::Style;
 use self::svg::esc;
+pub use self::time_axis::TimeScale;
 
 /// Everything the report shows about one tracker.
 #[derive(Clone, Debug)]
@@ -110,6 +116,11 @@ pub struct Report {
     pub engine: String,
     /// One entry per tracker, in the order given.
     pub trackers: Vec<TrackerResults>,
+    /// The steps the time charts and the top view show (both ends included), `None` for the
+    /// whole scene. The summary always covers the whole scene.
+    pub view: Option<Window>,
+    /// How steps read as time on the axes and in tooltips; `None` shows step indices.
+    pub time: Option<TimeScale>,
 }
 
 /// Sizes above which a chart thins or groups its marks (and says so on the page).
@@ -120,13 +131,18 @@ pub struct Limits {
     pub max_time_bins: usize,
     /// Identity chart: at most this many rows (the worst-covered objects).
     pub max_identity_rows: usize,
-    /// Top view: at most about this many points in all; above it every k-th step is drawn.
+    /// Top view: at most about this many points in all; above it one step in k is drawn.
     pub max_top_points: usize,
-    /// Errors over time and top view: at most this many switch marks; above it nearby switches
-    /// share one mark that counts them.
+    /// Top view: at most this many switch rings; above it nearby switches share one ring that
+    /// counts them. (The time charts count switches per stretch of steps whenever their marks
+    /// would touch.)
     pub max_switch_marks: usize,
     /// Top view: label the start of at most this many true paths.
     pub max_path_labels: usize,
+    /// Top view: above this many true objects in the window, only those with a switch in the
+    /// window are drawn (the worst ranked first, at most this many), with the tracks that
+    /// covered them.
+    pub max_top_objects: usize,
 }
 
 impl Default for Limits {
@@ -137,6 +153,7 @@ impl Default for Limits {
             max_top_points: 40_000,
             max_switch_marks: 400,
             max_path_labels: 60,
+            max_top_objects: 20,
         }
     }
 }
@@ -158,7 +175,7 @@ pub(crate) struct Context<'a> {
     pub prefix: String,
     /// Left margin of the time charts (room for row labels).
     pub left: f64,
-    /// The time window shared by every tracker's time charts.
+    /// The steps shown, shared by every tracker's time charts and top view.
     pub window: Window,
     /// The unit label ("m", or "state units").
     pub unit: String,
@@ -217,22 +234,33 @@ pub fn render(report: &Report, limits: &Limits) -> String {
     header(&mut out, report);
     out.push_str("<main>\n");
     summary::section(&mut out, report);
-    let window = shared_window(report);
+    let window = shown_window(report);
     let max_id = report
         .truth
         .trajectories()
         .iter()
         .map(|t| t.id().chars().count())
         .max()
-        .unwrap_or(1);
+        .unwrap_or(1)
+        .max(
+            report
+                .trackers
+                .iter()
+                .map(|t| t.name.chars().count())
+                .max()
+                .unwrap_or(1),
+        );
     let left = (svg::text_width(max_id) + 22.0).clamp(64.0, 220.0);
     let unit = report
         .units
         .clone()
         .filter(|u| !u.trim().is_empty())
         .unwrap_or_else(|| "state units".to_string());
-    for (index, tracker) in report.trackers.iter().enumerate() {
-        let context = Context {
+    let contexts: Vec<Context> = report
+        .trackers
+        .iter()
+        .enumerate()
+        .map(|(index, tracker)| Context {
             prefix: format!("k{}", index + 1),
             left,
             window: window.unwrap_or(Window { first: 0, last: 0 }),
@@ -242,8 +270,13 @@ pub fn render(report: &Report, limits: &Limits) -> String {
             tracker,
             styles: track_styles(tracker),
             limits,
-        };
-        tracker_section(&mut out, &context, window.is_some());
+        })
+        .collect();
+    if let Some(first) = contexts.first() {
+        all_trackers::section(&mut out, first, window.is_some());
+    }
+    for context in &contexts {
+        tracker_section(&mut out, context, window.is_some());
     }
     out.push_str("</main>\n");
     footer(&mut out);
@@ -251,7 +284,21 @@ pub fn render(report: &Report, limits: &Limits) -> String {
     out
 }
 
-/// The union of the trackers' windows, so that every time chart shares one axis.
+/// The steps the charts show: the union of the trackers' windows (so that every time chart
+/// shares one axis), cut to the requested view; `None` when nothing is left.
+pub(super) fn shown_window(report: &Report) -> Option<Window> {
+    let whole = shared_window(report)?;
+    match report.view {
+        None => Some(whole),
+        Some(view) => {
+            let first = whole.first.max(view.first);
+            let last = whole.last.min(view.last);
+            (first <= last).then_some(Window { first, last })
+        }
+    }
+}
+
+/// The union of the trackers' windows.
 fn shared_window(report: &Report) -> Option<Window> {
     report
         .trackers
@@ -301,7 +348,10 @@ fn header(out: &mut String, report: &Report) {
         trackers,
         plural(trackers)
     );
-    out.push_str("<nav aria-label=\"Contents\"><ol>\n<li><a href=\"#summary\">Summary</a></li>\n");
+    out.push_str(
+        "<nav aria-label=\"Contents\"><ol>\n<li><a href=\"#summary\">Summary</a></li>\n\
+         <li><a href=\"#all\">All trackers over time</a></li>\n",
+    );
     for (index, tracker) in report.trackers.iter().enumerate() {
         let id = format!("k{}", index + 1);
         let _ = writeln!(
@@ -358,11 +408,23 @@ fn tracker_section(out: &mut String, context: &Context, has_window: bool) {
                     let _ = writeln!(out, "<p class=\"note\">{note}</p>");
                 }
             }
-            None => out.push_str("<p class=\"note\">Both sets are empty: nothing to draw.</p>\n"),
+            None => out.push_str(&format!(
+                "<p class=\"note\">{}</p>\n",
+                nothing_to_draw(context.report)
+            )),
         }
         out.push_str("</figure>\n");
     }
     out.push_str("</section>\n");
+}
+
+/// Why a chart is left out: no object at all, or none within the chosen steps.
+pub(crate) fn nothing_to_draw(report: &Report) -> &'static str {
+    if report.view.is_some() && shared_window(report).is_some() {
+        "No step of the inputs lies within the chosen steps: nothing to draw."
+    } else {
+        "Both sets are empty: nothing to draw."
+    }
 }
 
 fn footer(out: &mut String) {

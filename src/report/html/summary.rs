@@ -120,11 +120,39 @@ pub(super) fn section(out: &mut String, report: &Report) {
             plural(report.truth.len())
         ),
     );
+    let times = |first: i64, last: i64| match &report.time {
+        Some(time) => format!(
+            ", time {} to {}",
+            esc(&time.time_text(first)),
+            esc(&time.time_text(last))
+        ),
+        None => String::new(),
+    };
     if let Some(w) = window {
         item(
             "window",
-            format!("steps {} to {} ({} steps)", w.first, w.last, w.len()),
+            format!(
+                "steps {} to {} ({} steps{})",
+                w.first,
+                w.last,
+                w.len(),
+                times(w.first, w.last)
+            ),
         );
+    }
+    if report.view.is_some() {
+        let shown = match super::shown_window(report) {
+            Some(w) => format!(
+                "steps {} to {} ({} steps{}) — the charts and top views below; this summary \
+                 covers the whole window",
+                w.first,
+                w.last,
+                w.len(),
+                times(w.first, w.last)
+            ),
+            None => "no step of the inputs".to_string(),
+        };
+        item("shown", shown);
     }
     item(
         "LP engine",
@@ -310,6 +338,41 @@ pub(super) fn section(out: &mut String, report: &Report) {
         )
     }));
 
+    // With a window shown, two values over that window alone, so that the charts' stretch can
+    // be compared between trackers too (the rest of the table stays whole).
+    if let (Some(_), Some(shown)) = (report.view, super::shown_window(report)) {
+        let within = format!("steps {} to {}", shown.first, shown.last);
+        rows.push(Row {
+            group: true,
+            ..row(
+                &format!("mean per-step GOSPA over the {within} shown ({u})"),
+                report,
+                |t| {
+                    let sum: f64 = t
+                        .steps
+                        .occupied
+                        .iter()
+                        .filter(|s| s.time >= shown.first && s.time <= shown.last)
+                        .map(|s| s.gospa)
+                        .sum();
+                    let mean = sum / shown.len() as f64;
+                    (svg::value(mean, dec), Some(mean))
+                },
+            )
+        });
+        rows.push(row(
+            &format!("switch events over the {within} shown"),
+            report,
+            |t| {
+                let count = t
+                    .switches
+                    .iter()
+                    .filter(|e| e.time >= shown.first && e.time <= shown.last)
+                    .count();
+                (count.to_string(), Some(count as f64))
+            },
+        ));
+    }
     out.push_str("<table class=\"summary\">\n<thead><tr><th scope=\"col\"></th>");
     for (index, tracker) in report.trackers.iter().enumerate() {
         let _ = write!(

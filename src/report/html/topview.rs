@@ -1,9 +1,11 @@
 //! The top view: true paths (wide grey, labelled at their start) and estimated tracks (thin, in
 //! the track's colour and dash pattern, as in the identity chart) in the plane of the first two
 //! state columns, one unit the same length on both axes; a ring marks where each switch
-//! happened (dashed for a half switch). Above [`Limits::max_top_points`](super::Limits) points,
-//! every k-th step is drawn (the ends of each run always); above `max_switch_marks` switches,
-//! rings that fall in one small cell are merged and count their switches.
+//! happened (dashed for a half switch). Only the steps of the window shown are drawn; above
+//! [`Limits::max_top_objects`](super::Limits) true objects, only those with a switch there and
+//! the tracks that covered them. Above `max_top_points` points, one step in k is drawn (the ends
+//! of each run always); above `max_switch_marks` switches, rings that fall in one small cell are
+//! merged and count their switches.
 
 use std::collections::BTreeMap;
 use std::fmt::Write;
@@ -12,7 +14,8 @@ use super::over_time::describe;
 use super::style::{self, INK};
 use super::svg::{self, esc, n, Scale};
 use super::{Context, Figure, RIGHT, WIDTH};
-use crate::trajectory::{Step, Trajectory};
+use crate::assignment::switches::SwitchEvent;
+use crate::trajectory::{Step, Trajectory, Window};
 
 const LEFT: f64 = 64.0;
 const TOP: f64 = 30.0;
@@ -37,15 +40,26 @@ pub(super) fn caption(context: &Context) -> String {
     )
 }
 
-/// Runs of consecutive steps of a trajectory, thinned to every `k`-th step of the window (the
-/// ends of each run kept), as point lists in the plane of the first two coordinates.
-fn thinned_runs(trajectory: &Trajectory, k: usize, origin: Step) -> Vec<Vec<(Step, f64, f64)>> {
+/// The points of a trajectory within the window.
+fn points_in(trajectory: &Trajectory, window: Window) -> impl Iterator<Item = (Step, &[f64])> {
+    trajectory
+        .points()
+        .skip_while(move |&(s, _)| s < window.first)
+        .take_while(move |&(s, _)| s <= window.last)
+}
+
+/// Runs of consecutive steps of a trajectory within the window, thinned to every `k`-th step
+/// of the window (the ends of each run kept), as point lists in the plane of the first two
+/// coordinates.
+fn thinned_runs(trajectory: &Trajectory, k: usize, window: Window) -> Vec<Vec<(Step, f64, f64)>> {
     let mut runs: Vec<Vec<(Step, f64, f64)>> = Vec::new();
     let steps = trajectory.steps();
-    let mut start = 0;
-    while start < steps.len() {
+    let origin = window.first;
+    let mut start = steps.partition_point(|&s| s < window.first);
+    let stop = steps.partition_point(|&s| s <= window.last);
+    while start < stop {
         let mut end = start + 1;
-        while end < steps.len() && steps[end] == steps[end - 1] + 1 {
+        while end < stop && steps[end] == steps[end - 1] + 1 {
             end += 1;
         }
         let mut run = Vec::new();
@@ -60,6 +74,92 @@ fn thinned_runs(trajectory: &Trajectory, k: usize, origin: Step) -> Vec<Vec<(Ste
         start = end;
     }
     runs
+}
+
+/// The true objects and the tracks (with their index) the view draws: those with a point in
+/// the window; above [`Limits::max_top_objects`](super::Limits) true objects, only those with a
+/// switch in the window (worst ranked first, at most that many) and the tracks that covered
+/// them there. What is left out is said in `notes`.
+fn selection<'a>(
+    context: &Context<'a>,
+    notes: &mut Vec<String>,
+) -> (Vec<&'a Trajectory>, Vec<(usize, &'a Trajectory)>) {
+    let window = context.window;
+    let report = context.report;
+    let tracker = context.tracker;
+    let present = |t: &Trajectory| points_in(t, window).next().is_some();
+    let truths: Vec<&Trajectory> = report
+        .truth
+        .trajectories()
+        .iter()
+        .filter(|t| present(t))
+        .collect();
+    let estimates: Vec<(usize, &Trajectory)> = tracker
+        .estimate
+        .trajectories()
+        .iter()
+        .enumerate()
+        .filter(|(_, t)| present(t))
+        .collect();
+    let limit = context.limits.max_top_objects.max(1);
+    if truths.len() <= limit {
+        return (truths, estimates);
+    }
+    // The audit ranks the worst covered first; keep those with a switch in the window.
+    let switched = |id: &str| {
+        tracker
+            .switches
+            .iter()
+            .any(|e| e.truth == id && e.time >= window.first && e.time <= window.last)
+    };
+    let chosen: Vec<&str> = tracker
+        .audit
+        .truths
+        .iter()
+        .filter(|a| switched(&a.truth))
+        .take(limit)
+        .map(|a| a.truth.as_str())
+        .collect();
+    let mut covering: Vec<&str> = tracker
+        .audit
+        .truths
+        .iter()
+        .filter(|a| chosen.contains(&a.truth.as_str()))
+        .flat_map(|a| a.covered.iter())
+        .filter(|span| span.first <= window.last && span.last >= window.first)
+        .map(|span| span.estimate.as_str())
+        .collect();
+    covering.sort_unstable();
+    covering.dedup();
+    notes.push(format!(
+        "{} true objects are too many to follow in one view: it draws only the {} with a switch \
+         {}(the worst covered first), and the {} track{} that covered them.{}",
+        truths.len(),
+        chosen.len(),
+        if report.view.is_some() {
+            "within the steps shown "
+        } else {
+            ""
+        },
+        covering.len(),
+        super::plural(covering.len()),
+        if report.view.is_none() {
+            " A shorter stretch of steps (<code>--from</code>, <code>--to</code>) untangles \
+             long paths."
+        } else {
+            ""
+        }
+    ));
+    (
+        truths
+            .into_iter()
+            .filter(|t| chosen.contains(&t.id()))
+            .collect(),
+        estimates
+            .into_iter()
+            .filter(|(_, t)| covering.binary_search(&t.id()).is_ok())
+            .collect(),
+    )
 }
 
 /// The truth's position at `step`, or at its nearest present step.
@@ -113,9 +213,12 @@ pub(super) fn chart(context: &Context) -> Figure {
             esc(&report.state_columns[1])
         ));
     }
-    let truths = report.truth.trajectories();
-    let estimates = tracker.estimate.trajectories();
-    let all = truths.iter().chain(estimates.iter());
+    let window = context.window;
+    let (truths, estimates) = selection(context, &mut notes);
+    let all = truths
+        .iter()
+        .copied()
+        .chain(estimates.iter().map(|&(_, t)| t));
     let (mut x0, mut x1, mut y0, mut y1) = (
         f64::INFINITY,
         f64::NEG_INFINITY,
@@ -124,7 +227,7 @@ pub(super) fn chart(context: &Context) -> Figure {
     );
     let mut total = 0usize;
     for trajectory in all {
-        for (_, state) in trajectory.points() {
+        for (_, state) in points_in(trajectory, window) {
             x0 = x0.min(state[0]);
             x1 = x1.max(state[0]);
             y0 = y0.min(state[1]);
@@ -142,7 +245,7 @@ pub(super) fn chart(context: &Context) -> Figure {
     let k = total.div_ceil(context.limits.max_top_points.max(1)).max(1);
     if k > 1 {
         notes.push(format!(
-            "{total} positions are more than this view draws: it draws every {k}th step of each \
+            "{total} positions are more than this view draws: it draws one step in {k} of each \
              path, and the first and last step of each unbroken run."
         ));
     }
@@ -162,7 +265,6 @@ pub(super) fn chart(context: &Context) -> Figure {
     let x = Scale::new(x0, x1, plot_left, plot_left + plot_w);
     let y = Scale::new(y0, y1, TOP + plot_h, TOP);
     let height = TOP + plot_h + BOTTOM;
-    let origin = context.window.first;
 
     let mut out = String::new();
     let _ = write!(
@@ -281,20 +383,19 @@ pub(super) fn chart(context: &Context) -> Figure {
 
     // True paths.
     out.push_str("<g class=\"truth-paths\" fill=\"none\" stroke=\"#5b6470\" stroke-opacity=\"0.45\" stroke-width=\"5\" stroke-linejoin=\"round\" stroke-linecap=\"round\">");
-    for trajectory in truths {
+    for &trajectory in &truths {
         let span = trajectory.span().unwrap_or((0, 0));
         let _ = write!(
             out,
             "<g class=\"truth-path\" data-truth=\"{}\"><title>{}</title>",
             esc(trajectory.id()),
             esc(&format!(
-                "true object {}, steps {}–{}",
+                "true object {}, {}",
                 trajectory.id(),
-                span.0,
-                span.1
+                context.span_text(span.0, span.1)
             ))
         );
-        for run in thinned_runs(trajectory, k, origin) {
+        for run in thinned_runs(trajectory, k, window) {
             if run.len() == 1 {
                 let _ = write!(
                     out,
@@ -312,7 +413,7 @@ pub(super) fn chart(context: &Context) -> Figure {
 
     // Estimated tracks.
     out.push_str("<g class=\"tracks\" fill=\"none\" stroke-linejoin=\"round\">");
-    for (j, trajectory) in estimates.iter().enumerate() {
+    for &(j, trajectory) in &estimates {
         let span = trajectory.span().unwrap_or((0, 0));
         let style = context.styles[j];
         let _ = write!(
@@ -321,14 +422,13 @@ pub(super) fn chart(context: &Context) -> Figure {
             esc(trajectory.id()),
             style.stroke(1.3),
             esc(&format!(
-                "track {}, steps {}–{} ({})",
+                "track {}, {} ({})",
                 trajectory.id(),
-                span.0,
-                span.1,
+                context.span_text(span.0, span.1),
                 style.describe()
             ))
         );
-        for run in thinned_runs(trajectory, k, origin) {
+        for run in thinned_runs(trajectory, k, window) {
             if run.len() == 1 {
                 let _ = write!(
                     out,
@@ -348,8 +448,8 @@ pub(super) fn chart(context: &Context) -> Figure {
     // Labels at the start of each true path.
     if truths.len() <= context.limits.max_path_labels {
         out.push_str("<g class=\"path-labels\">");
-        for trajectory in truths {
-            if let Some((_, state)) = trajectory.points().next() {
+        for &trajectory in &truths {
+            if let Some((_, state)) = points_in(trajectory, window).next() {
                 let (px, py) = (x.at(state[0]), y.at(state[1]));
                 let _ = write!(
                     out,
@@ -376,7 +476,12 @@ pub(super) fn chart(context: &Context) -> Figure {
     }
 
     // Switch locations.
-    let switches = &tracker.switches;
+    let switches: Vec<&SwitchEvent> = tracker
+        .switches
+        .iter()
+        .filter(|e| e.time >= window.first && e.time <= window.last)
+        .filter(|e| truths.iter().any(|t| t.id() == e.truth))
+        .collect();
     let merge = switches.len() > context.limits.max_switch_marks.max(1);
     let mut cells: BTreeMap<(i64, i64), Vec<usize>> = BTreeMap::new();
     let mut located: Vec<(usize, f64, f64)> = Vec::new();
@@ -431,7 +536,7 @@ pub(super) fn chart(context: &Context) -> Figure {
             let events: Vec<_> = members.iter().map(|&m| &switches[located[m].0]).collect();
             let full = events.iter().all(|e| e.from.is_some() && e.to.is_some());
             let title = if events.len() == 1 {
-                describe(events[0], &svg::short(events[0].cost))
+                describe(events[0], context)
             } else {
                 let first = events.iter().map(|e| e.time).min().unwrap_or(0);
                 let last = events.iter().map(|e| e.time).max().unwrap_or(0);
@@ -456,14 +561,14 @@ pub(super) fn chart(context: &Context) -> Figure {
         }
     } else {
         for &(e, px, py) in &located {
-            let event = &switches[e];
+            let event = switches[e];
             ring(
                 &mut out,
                 px,
                 py,
                 1,
                 event.from.is_some() && event.to.is_some(),
-                &describe(event, &svg::short(event.cost)),
+                &describe(event, context),
             );
         }
     }
