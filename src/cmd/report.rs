@@ -6,6 +6,7 @@ use std::io::Write;
 use clap::Args;
 
 use switchyard::evaluate::{evaluate, Request};
+use switchyard::ospa2::Ospa2Params;
 use switchyard::report::html::{render, Limits, Report, TimeScale, TrackerResults};
 use switchyard::trajectory::{Step, Window};
 
@@ -45,6 +46,10 @@ pub struct ReportArgs {
     /// the axes show time = step x step size instead of the step index.
     #[arg(long, value_name = "UNIT", requires = "time_step")]
     time_unit: Option<String>,
+    /// Also give each tracker's OSPA(2) with the same cut-off and order in the summary: the
+    /// OSPA metric on trajectories, normalised to [0, c], as a second opinion (specs/ospa2.md).
+    #[arg(long)]
+    ospa2: bool,
     /// Title of the page.
     #[arg(long, value_name = "TEXT", default_value = "Tracker report")]
     title: String,
@@ -131,6 +136,11 @@ pub fn run(args: &ReportArgs) -> anyhow::Result<()> {
     // The page shows no jumps: everything else is evaluated.
     let request = Request {
         jumps: false,
+        ospa2: if args.ospa2 {
+            Some(Ospa2Params::new(params.cutoff, params.order)?)
+        } else {
+            None
+        },
         ..Request::everything(params, args.metric.solve_options())?
     };
     let sets: Vec<_> = estimates.iter().map(|estimate| &estimate.set).collect();

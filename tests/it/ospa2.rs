@@ -142,3 +142,66 @@ fn score_gives_ospa2_beside_trajectory_gospa() {
     let json: serde_json::Value = serde_json::from_slice(&crate::cli::run(&plain)).unwrap();
     assert!(json.get("ospa2").is_none());
 }
+
+/// `report --ospa2`: each tracker's summary row shows the OSPA(2) that `score --ospa2` gives
+/// (the metric itself is checked against scipy above), to the page's one decimal.
+#[test]
+fn report_shows_the_ospa2_of_score() {
+    let demo = |name: &str| format!("{}/demo-data/{name}", env!("CARGO_MANIFEST_DIR"));
+    let dir = tempfile::tempdir().unwrap();
+    let page = dir.path().join("r.html");
+    crate::cli::run(&[
+        "report",
+        "--truth",
+        &demo("truth.csv"),
+        "--estimate",
+        &format!("swaps={}", demo("tracker-swaps.csv")),
+        "--estimate",
+        &format!("fragments={}", demo("tracker-fragments.csv")),
+        "-c",
+        "20",
+        "--ospa2",
+        "-o",
+        page.to_str().unwrap(),
+    ]);
+    let html = std::fs::read_to_string(&page).unwrap();
+    let at = html
+        .find("OSPA(2), normalised 0 to c")
+        .expect("the OSPA(2) row");
+    let row = &html[at..at + html[at..].find("</tr>").unwrap()];
+    let shown: Vec<f64> = row
+        .split("<td")
+        .skip(1)
+        .map(|cell| {
+            let text = &cell[cell.find('>').unwrap() + 1..cell.find("</td>").unwrap()];
+            text.parse().unwrap()
+        })
+        .collect();
+    for (k, file) in ["tracker-swaps.csv", "tracker-fragments.csv"]
+        .iter()
+        .enumerate()
+    {
+        let json: serde_json::Value = serde_json::from_slice(&crate::cli::run(&[
+            "score",
+            "--truth",
+            &demo("truth.csv"),
+            "--estimate",
+            &demo(file),
+            "-c",
+            "20",
+            "--ospa2",
+            "-f",
+            "json",
+        ]))
+        .unwrap();
+        let value = json["ospa2"]["value"].as_f64().unwrap();
+        assert!(
+            (shown[k] - value).abs() <= 0.05 + 1e-12,
+            "{} vs {value}",
+            shown[k]
+        );
+    }
+    // Without --ospa2 the row is absent (the pinned page of snapshots.rs is made without it).
+    let pinned = format!("{}/tests/snapshots/report.html", env!("CARGO_MANIFEST_DIR"));
+    assert!(!std::fs::read_to_string(pinned).unwrap().contains("OSPA(2)"));
+}

@@ -56,6 +56,8 @@ pub struct TrackerResults {
     pub switches: Vec<SwitchEvent>,
     /// How each true object was covered, worst first.
     pub audit: Audit,
+    /// OSPA(2) with the same cut-off and order, when it was evaluated: a second opinion.
+    pub ospa2: Option<crate::ospa2::Ospa2Score>,
 }
 
 impl TrackerResults {
@@ -76,6 +78,7 @@ impl TrackerResults {
             steps: Some(steps),
             switches: Some(switches),
             audit: Some(audit),
+            ospa2,
             ..
         } = evaluation
         else {
@@ -93,6 +96,7 @@ impl TrackerResults {
             steps,
             switches,
             audit,
+            ospa2,
         })
     }
 }

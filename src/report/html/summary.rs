@@ -318,6 +318,16 @@ pub(super) fn section(out: &mut String, report: &Report) {
             )
         })
     });
+    if report.trackers.iter().all(|t| t.ospa2.is_some()) {
+        rows.push(row(
+            &format!("OSPA(2), normalised 0 to c ({u})"),
+            report,
+            |t| {
+                let value = t.ospa2.as_ref().map_or(0.0, |o| o.value);
+                (svg::value(value, dec), Some(value))
+            },
+        ));
+    }
     rows.push(row("d is the exact metric", report, |t| {
         let text = match &t.score.exact {
             Some(exact) if exact.proven => "yes: proven by integer programs".to_string(),
