@@ -7,8 +7,8 @@ use clap::{Args, ValueEnum};
 use rayon::prelude::*;
 
 use switchyard::compare::{
-    job_count, run as run_comparison, settings_grid, BootstrapOptions, CompareOptions, Dataset,
-    ResampleBy,
+    job_count, run as run_comparison, settings_grid, AggregateOptions, BootstrapOptions,
+    CompareOptions, Dataset, ResampleBy,
 };
 use switchyard::distance::Distance;
 use switchyard::input::grouped::{read_grouped_csv_path, GroupColumns, GroupedFile};
@@ -233,11 +233,13 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
             memory_budget: args.memory_budget,
             ..SolveOptions::default()
         },
-        bootstrap,
-        resample_by: match args.resample {
-            ResampleKind::Auto => ResampleBy::Auto,
-            ResampleKind::Sequence => ResampleBy::Sequence,
-            ResampleKind::Run => ResampleBy::Run,
+        aggregate: AggregateOptions {
+            bootstrap,
+            resample_by: match args.resample {
+                ResampleKind::Auto => ResampleBy::Auto,
+                ResampleKind::Sequence => ResampleBy::Sequence,
+                ResampleKind::Run => ResampleBy::Run,
+            },
         },
         monte_carlo: args.monte_carlo,
     };

@@ -9,7 +9,8 @@
 //! - [`ranking`]: the aggregate of each tracker over the cases and the ranks;
 //! - [`verdict`]: each tracker against the best, with [`bootstrap`]'s interval;
 //! - [`montecarlo`]: per-step GOSPA over the runs of each sequence;
-//! - here: the options, and [`aggregate`], which puts an evaluation together.
+//! - here: the options, and [`aggregate`], which puts an evaluation together: one from
+//!   [`evaluate`], or case scores computed elsewhere ([`Evaluation::from_scores`]).
 
 pub mod bootstrap;
 pub mod dataset;
@@ -28,7 +29,7 @@ use self::ranking::rank_trackers;
 pub use self::ranking::{rank, summarize, SequenceResult, SettingResult, Summary, TrackerResult};
 pub use self::verdict::{PairedDifference, Verdict};
 use crate::distance::Distance;
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::trajectory_metric::{SolveOptions, TrajectoryParams};
 
 /// What the bootstrap resamples.
@@ -50,12 +51,19 @@ pub struct CompareOptions {
     pub settings: Vec<TrajectoryParams>,
     /// How the LP is solved.
     pub solve: SolveOptions,
+    /// How the scores are aggregated.
+    pub aggregate: AggregateOptions,
+    /// Also compute per-step GOSPA over runs.
+    pub monte_carlo: bool,
+}
+
+/// How case scores are aggregated into a comparison.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct AggregateOptions {
     /// The bootstrap.
     pub bootstrap: BootstrapOptions,
     /// What the bootstrap resamples.
     pub resample_by: ResampleBy,
-    /// Also compute per-step GOSPA over runs.
-    pub monte_carlo: bool,
 }
 
 /// Everything a comparison reports.
@@ -76,41 +84,32 @@ pub struct Comparison {
     pub monte_carlo: Vec<StepsOverRuns>,
 }
 
-/// Aggregates an evaluation: rankings per setting (and per sequence), paired bootstrap
+/// Aggregates an evaluation (from [`evaluate`], or from scores computed elsewhere through
+/// [`Evaluation::from_scores`]): rankings per setting (and per sequence), paired bootstrap
 /// differences with the best, ranking stability over the settings, and the Monte Carlo
 /// summaries when they were computed.
 ///
 /// # Errors
-/// Invalid bootstrap options; an evaluation made from another dataset.
-pub fn aggregate(
-    dataset: &Dataset,
-    evaluation: &Evaluation,
-    options: &CompareOptions,
-) -> Result<Comparison> {
+/// Invalid bootstrap options.
+pub fn aggregate(evaluation: &Evaluation, options: &AggregateOptions) -> Result<Comparison> {
     options.bootstrap.validate()?;
-    if !evaluation.fits(dataset) {
-        return Err(Error::Mismatch(
-            "the evaluation was made from other data".into(),
-        ));
-    }
-    let sequences = dataset.sequences();
+    let sequences = evaluation.sequences();
     let resample_by = match options.resample_by {
         ResampleBy::Auto if sequences.len() >= 2 => ResampleBy::Sequence,
         ResampleBy::Auto => ResampleBy::Run,
         other => other,
     };
+    let cases = evaluation.cases().len();
     let units: Vec<std::ops::Range<usize>> = match resample_by {
         ResampleBy::Sequence => sequences.iter().map(|(_, r)| r.clone()).collect(),
-        _ => (0..dataset.cases().len()).map(|c| c..c + 1).collect(),
+        _ => (0..cases).map(|c| c..c + 1).collect(),
     };
-    let all = 0..dataset.cases().len();
     let mut settings = Vec::with_capacity(evaluation.settings().len());
     for (index, params) in evaluation.settings().iter().enumerate() {
         let trackers = rank_trackers(
-            dataset,
             evaluation,
             index,
-            all.clone(),
+            0..cases,
             Some((&options.bootstrap, &units)),
         )?;
         let per_sequence = sequences
@@ -118,7 +117,7 @@ pub fn aggregate(
             .map(|(name, range)| {
                 Ok(SequenceResult {
                     sequence: name.clone(),
-                    trackers: rank_trackers(dataset, evaluation, index, range.clone(), None)?,
+                    trackers: rank_trackers(evaluation, index, range.clone(), None)?,
                 })
             })
             .collect::<Result<_>>()?;
@@ -128,16 +127,16 @@ pub fn aggregate(
             sequences: per_sequence,
         });
     }
-    let names: Vec<String> = dataset.trackers().iter().map(|t| t.name.clone()).collect();
-    let first = settings[0].ranks(&names);
-    let ranking_stable = settings.iter().all(|s| s.ranks(&names) == first);
+    let names = evaluation.trackers();
+    let first = settings[0].ranks(names);
+    let ranking_stable = settings.iter().all(|s| s.ranks(names) == first);
     Ok(Comparison {
         bootstrap: options.bootstrap,
         resample_by,
         resampling_units: units.len(),
         settings,
         ranking_stable,
-        monte_carlo: montecarlo::over_runs(dataset, evaluation),
+        monte_carlo: montecarlo::over_runs(evaluation),
     })
 }
 
@@ -152,5 +151,5 @@ pub fn run(
     progress: &(dyn Fn() + Sync),
 ) -> Result<Comparison> {
     let evaluation = evaluate(dataset, distance, options, progress)?;
-    aggregate(dataset, &evaluation, options)
+    aggregate(&evaluation, &options.aggregate)
 }

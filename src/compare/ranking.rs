@@ -9,7 +9,6 @@ use std::ops::Range;
 use serde::Serialize;
 
 use super::bootstrap::BootstrapOptions;
-use super::dataset::Dataset;
 use super::montecarlo::mean_and_rms;
 use super::plan::{CaseScore, Evaluation};
 use super::verdict::{paired_difference, PairedDifference};
@@ -139,19 +138,18 @@ impl SettingResult {
 /// Ranks trackers on a set of cases and, when `bootstrap` is given, compares each with the
 /// best on `units` (ranges of case positions within `cases`).
 pub(super) fn rank_trackers(
-    dataset: &Dataset,
     evaluation: &Evaluation,
     setting: usize,
     cases: Range<usize>,
     bootstrap: Option<(&BootstrapOptions, &[Range<usize>])>,
 ) -> Result<Vec<TrackerResult>> {
-    let trackers = dataset.trackers();
+    let trackers = evaluation.trackers();
     let summaries: Vec<Summary> = (0..trackers.len())
         .map(|t| summarize(cases.clone().map(|c| evaluation.score(setting, t, c))))
         .collect();
     let means: Vec<f64> = summaries.iter().map(|s| s.metric_mean).collect();
     let (order, ranks) = rank(&means);
-    let best = (order[0], trackers[order[0]].name.as_str());
+    let best = (order[0], trackers[order[0]].as_str());
     let mut result = Vec::with_capacity(trackers.len());
     for &t in &order {
         let difference = match bootstrap {
@@ -162,7 +160,7 @@ pub(super) fn rank_trackers(
         };
         result.push(TrackerResult {
             rank: ranks[t],
-            tracker: trackers[t].name.clone(),
+            tracker: trackers[t].clone(),
             summary: summaries[t],
             difference,
         });
