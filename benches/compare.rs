@@ -11,7 +11,7 @@ use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 
 use switchyard::compare::{
     evaluate, run, AggregateOptions, BootstrapOptions, Case, CaseKey, CompareOptions, Dataset,
-    ResampleBy, TrackerData,
+    RankBy, ResampleBy, TrackerData,
 };
 use switchyard::distance::Distance;
 use switchyard::synth::{generate_truth, imitate_tracker, SceneConfig, TrackerConfig};
@@ -67,6 +67,7 @@ fn bench(c: &mut Criterion) {
         aggregate: AggregateOptions {
             bootstrap: BootstrapOptions::default(),
             resample_by: ResampleBy::Auto,
+            rank_by: RankBy::Metric,
         },
         monte_carlo: false,
     };

@@ -7,7 +7,7 @@ use pyo3::FromPyObject;
 
 use switchyard::compare::dataset::CaseKey;
 use switchyard::compare::{
-    aggregate, AggregateOptions, BootstrapOptions, CaseScore, Evaluation, ResampleBy,
+    aggregate, AggregateOptions, BootstrapOptions, CaseScore, Evaluation, RankBy, ResampleBy,
 };
 use switchyard::report::compare::{write_json, CompareInputs, Sections, TrackerSource};
 use switchyard::trajectory_metric::{Parts, TrajectoryParams};
@@ -47,6 +47,10 @@ pub struct Scores {
     pub confidence: f64,
     pub resample_by: String,
     pub per_sequence: bool,
+    /// "metric" or "per_step": what ranks the trackers.
+    pub rank_by: String,
+    /// Also list every case score.
+    pub per_case: bool,
     /// `inputs` of the document: truth, manifest, the trackers' estimate names, distance, engine.
     pub truth: Option<String>,
     pub manifest: Option<String>,
@@ -95,6 +99,15 @@ pub fn comparison_document(input: Scores) -> Result<String> {
             )))
         }
     };
+    let rank_by = match input.rank_by.as_str() {
+        "metric" => RankBy::Metric,
+        "per_step" => RankBy::PerStep,
+        other => {
+            return Err(Error::Parameter(format!(
+                "unknown ranking {other:?}: give metric or per_step"
+            )))
+        }
+    };
     let (trackers, cases) = (input.trackers.len(), input.cases.len());
     let shaped = input.scores.len() == input.settings.len()
         && input
@@ -129,6 +142,7 @@ pub fn comparison_document(input: Scores) -> Result<String> {
         &AggregateOptions {
             bootstrap,
             resample_by,
+            rank_by,
         },
     )?;
     let inputs = CompareInputs {
@@ -151,6 +165,7 @@ pub fn comparison_document(input: Scores) -> Result<String> {
     let sections = Sections {
         per_sequence: input.per_sequence,
         monte_carlo: false,
+        per_case: input.per_case,
     };
     let mut text = Vec::new();
     write_json(&mut text, &comparison, &inputs, sections)

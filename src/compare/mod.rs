@@ -57,6 +57,27 @@ pub struct CompareOptions {
     pub monte_carlo: bool,
 }
 
+/// What ranks the trackers and what the bootstrap compares.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum RankBy {
+    /// The trajectory metric d of each case: long cases weigh more, as d^p sums over steps.
+    #[default]
+    Metric,
+    /// d^p per step of each case (d^p / steps): cases of different lengths weigh alike.
+    PerStep,
+}
+
+impl RankBy {
+    /// The name in JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            RankBy::Metric => "metric",
+            RankBy::PerStep => "per_step",
+        }
+    }
+}
+
 /// How case scores are aggregated into a comparison.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct AggregateOptions {
@@ -64,6 +85,8 @@ pub struct AggregateOptions {
     pub bootstrap: BootstrapOptions,
     /// What the bootstrap resamples.
     pub resample_by: ResampleBy,
+    /// What ranks the trackers and what the bootstrap compares.
+    pub rank_by: RankBy,
 }
 
 /// Everything a comparison reports.
@@ -71,6 +94,8 @@ pub struct AggregateOptions {
 pub struct Comparison {
     /// The bootstrap options used.
     pub bootstrap: BootstrapOptions,
+    /// What ranks the trackers and what the bootstrap compares.
+    pub rank_by: RankBy,
     /// What was resampled (never `Auto`).
     pub resample_by: ResampleBy,
     /// The number of resampling units.
@@ -82,6 +107,28 @@ pub struct Comparison {
     /// Per-step summaries over runs (empty unless asked for), by (cut-off, order), then
     /// sequence, then tracker.
     pub monte_carlo: Vec<StepsOverRuns>,
+    /// Every (setting, tracker, case) score: by setting, then tracker (in the order given),
+    /// then case (sorted).
+    pub cases: Vec<CaseResult>,
+}
+
+/// One (setting, tracker, case) score, for those who run their own statistics.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CaseResult {
+    /// The setting.
+    #[serde(flatten)]
+    pub params: TrajectoryParams,
+    /// The tracker.
+    pub tracker: String,
+    /// The sequence ("" without sequences).
+    pub sequence: String,
+    /// The run ("" without runs).
+    pub run: String,
+    /// The score: d, d^p, the parts and counts, integrality, steps.
+    #[serde(flatten)]
+    pub score: CaseScore,
+    /// d^p / steps ([`CaseScore::per_step`]).
+    pub per_step: f64,
 }
 
 /// Aggregates an evaluation (from [`evaluate`], or from scores computed elsewhere through
@@ -110,6 +157,7 @@ pub fn aggregate(evaluation: &Evaluation, options: &AggregateOptions) -> Result<
             evaluation,
             index,
             0..cases,
+            options.rank_by,
             Some((&options.bootstrap, &units)),
         )?;
         let per_sequence = sequences
@@ -117,7 +165,13 @@ pub fn aggregate(evaluation: &Evaluation, options: &AggregateOptions) -> Result<
             .map(|(name, range)| {
                 Ok(SequenceResult {
                     sequence: name.clone(),
-                    trackers: rank_trackers(evaluation, index, range.clone(), None)?,
+                    trackers: rank_trackers(
+                        evaluation,
+                        index,
+                        range.clone(),
+                        options.rank_by,
+                        None,
+                    )?,
                 })
             })
             .collect::<Result<_>>()?;
@@ -130,13 +184,31 @@ pub fn aggregate(evaluation: &Evaluation, options: &AggregateOptions) -> Result<
     let names = evaluation.trackers();
     let first = settings[0].ranks(names);
     let ranking_stable = settings.iter().all(|s| s.ranks(names) == first);
+    let mut rows = Vec::with_capacity(settings.len() * names.len() * cases);
+    for (index, params) in evaluation.settings().iter().enumerate() {
+        for (t, tracker) in names.iter().enumerate() {
+            for (c, key) in evaluation.cases().iter().enumerate() {
+                let score = *evaluation.score(index, t, c);
+                rows.push(CaseResult {
+                    params: *params,
+                    tracker: tracker.clone(),
+                    sequence: key.sequence.clone(),
+                    run: key.run.clone(),
+                    score,
+                    per_step: score.per_step(),
+                });
+            }
+        }
+    }
     Ok(Comparison {
         bootstrap: options.bootstrap,
+        rank_by: options.rank_by,
         resample_by,
         resampling_units: units.len(),
         settings,
         ranking_stable,
         monte_carlo: montecarlo::over_runs(evaluation),
+        cases: rows,
     })
 }
 

@@ -8,7 +8,7 @@ use rayon::prelude::*;
 use serde::Serialize;
 
 use super::dataset::{self, CaseKey, Dataset};
-use super::CompareOptions;
+use super::{CompareOptions, RankBy};
 use crate::distance::Distance;
 use crate::error::{Error, Result};
 use crate::per_step::{occupied_steps, GospaParams, OccupiedSteps};
@@ -73,6 +73,26 @@ pub struct CaseScore {
     pub proven: bool,
     /// Steps in the window.
     pub steps: usize,
+}
+
+impl CaseScore {
+    /// d^p per step of the window: d^p / steps (0 for an empty window, where d^p is 0), in
+    /// p-th power units; a long and a short case weigh alike in a mean of it.
+    pub fn per_step(&self) -> f64 {
+        if self.steps == 0 {
+            0.0
+        } else {
+            self.total / self.steps as f64
+        }
+    }
+
+    /// The value that ranks and is compared: d, or d^p per step.
+    pub fn ranked(&self, by: RankBy) -> f64 {
+        match by {
+            RankBy::Metric => self.metric,
+            RankBy::PerStep => self.per_step(),
+        }
+    }
 }
 
 impl From<&TrajectoryScore> for CaseScore {
