@@ -10,8 +10,8 @@
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 
 use switchyard::compare::{
-    evaluate, run, BootstrapOptions, Case, CaseKey, CompareOptions, Dataset, ResampleBy,
-    TrackerData,
+    evaluate, run, AggregateOptions, BootstrapOptions, Case, CaseKey, CompareOptions, Dataset,
+    RankBy, ResampleBy, TrackerData,
 };
 use switchyard::distance::Distance;
 use switchyard::synth::{generate_truth, imitate_tracker, SceneConfig, TrackerConfig};
@@ -64,8 +64,11 @@ fn bench(c: &mut Criterion) {
     let options = CompareOptions {
         settings: vec![TrajectoryParams::new(10.0, 1.0, 10.0).unwrap()],
         solve: SolveOptions::default(),
-        bootstrap: BootstrapOptions::default(),
-        resample_by: ResampleBy::Auto,
+        aggregate: AggregateOptions {
+            bootstrap: BootstrapOptions::default(),
+            resample_by: ResampleBy::Auto,
+            rank_by: RankBy::Metric,
+        },
         monte_carlo: false,
     };
     // The full data set, timed once: one pass takes about a minute, too long to sample.

@@ -1,21 +1,13 @@
 //! Aggregating case scores computed elsewhere (on Dask, Ray or Spark workers, or in a loop)
-//! into the comparison `switchyard compare` reports: per setting the trackers' summaries
-//! (`compare::summarize`), their ranking (`compare::rank`), paired bootstrap intervals against
-//! the best (`compare::bootstrap`), the per-sequence rankings, and the JSON document of
-//! `report::compare::write_json`.
-//!
-//! The library's `compare::compare` does the same from its private `Evaluation`; this file
-//! follows it step for step (same order of sums, same generator seeds) so the documents are
-//! equal bit for bit. A library entry point taking case scores would replace it.
-
-use std::ops::Range;
+//! into the comparison `switchyard compare` reports: the Python values become a
+//! `compare::Evaluation` (`Evaluation::from_scores`), which `compare::aggregate` puts together
+//! exactly as the command does, written by `report::compare::write_json`.
 
 use pyo3::FromPyObject;
 
 use switchyard::compare::dataset::CaseKey;
 use switchyard::compare::{
-    bootstrap, rank, summarize, BootstrapOptions, CaseScore, Comparison, PairedDifference,
-    ResampleBy, SequenceResult, SettingResult, TrackerResult, Verdict,
+    aggregate, AggregateOptions, BootstrapOptions, CaseScore, Evaluation, RankBy, ResampleBy,
 };
 use switchyard::report::compare::{write_json, CompareInputs, Sections, TrackerSource};
 use switchyard::trajectory_metric::{Parts, TrajectoryParams};
@@ -55,6 +47,10 @@ pub struct Scores {
     pub confidence: f64,
     pub resample_by: String,
     pub per_sequence: bool,
+    /// "metric" or "per_step": what ranks the trackers.
+    pub rank_by: String,
+    /// Also list every case score.
+    pub per_case: bool,
     /// `inputs` of the document: truth, manifest, the trackers' estimate names, distance, engine.
     pub truth: Option<String>,
     pub manifest: Option<String>,
@@ -82,69 +78,8 @@ fn case_score(s: &ScoreTuple) -> CaseScore {
     }
 }
 
-/// The trackers of one setting over `cases`, ranked, each but the best with its paired
-/// difference when `units` are given.
-fn rank_trackers(
-    names: &[String],
-    scores: &[Vec<CaseScore>],
-    cases: Range<usize>,
-    bootstrap: Option<(&BootstrapOptions, &[Range<usize>])>,
-) -> Result<Vec<TrackerResult>> {
-    let summaries: Vec<_> = scores
-        .iter()
-        .map(|tracker| summarize(&tracker[cases.clone()]))
-        .collect();
-    let means: Vec<f64> = summaries.iter().map(|s| s.metric_mean).collect();
-    let (order, ranks) = rank(&means);
-    let best = order[0];
-    let mut result = Vec::with_capacity(names.len());
-    for &t in &order {
-        let difference = match bootstrap {
-            Some((options, units)) if t != best => {
-                let units: Vec<bootstrap::Unit> = units
-                    .iter()
-                    .map(|range| bootstrap::Unit {
-                        sum: range
-                            .clone()
-                            .map(|c| scores[t][c].metric - scores[best][c].metric)
-                            .sum(),
-                        count: range.len(),
-                    })
-                    .collect();
-                let mean = bootstrap::mean_per_case(&units);
-                let (interval, verdict) = if units.len() < 2 {
-                    (None, Verdict::Undetermined)
-                } else {
-                    let interval = bootstrap::percentile_interval(&units, options)?;
-                    let verdict = if interval.lower > 0.0 {
-                        Verdict::Worse
-                    } else if interval.upper < 0.0 {
-                        Verdict::Better
-                    } else {
-                        Verdict::Indistinguishable
-                    };
-                    (Some(interval), verdict)
-                };
-                Some(PairedDifference {
-                    against: names[best].clone(),
-                    mean,
-                    interval,
-                    verdict,
-                })
-            }
-            _ => None,
-        };
-        result.push(TrackerResult {
-            rank: ranks[t],
-            tracker: names[t].clone(),
-            summary: summaries[t],
-            difference,
-        });
-    }
-    Ok(result)
-}
-
-/// The comparison document (JSON text) of the scores.
+/// The comparison document (JSON text) of the scores: the settings, trackers and cases become
+/// a `compare::Evaluation`, which `compare::aggregate` puts together as the command does.
 ///
 /// # Errors
 /// Bad options, no tracker or case, two cases with one key, scores of the wrong shape.
@@ -154,13 +89,26 @@ pub fn comparison_document(input: Scores) -> Result<String> {
         seed: input.seed,
         confidence: input.confidence,
     };
-    bootstrap.validate()?;
+    let resample_by = match input.resample_by.as_str() {
+        "auto" => ResampleBy::Auto,
+        "run" => ResampleBy::Run,
+        "sequence" => ResampleBy::Sequence,
+        other => {
+            return Err(Error::Parameter(format!(
+                "unknown resampling {other:?}: give auto, sequence or run"
+            )))
+        }
+    };
+    let rank_by = match input.rank_by.as_str() {
+        "metric" => RankBy::Metric,
+        "per_step" => RankBy::PerStep,
+        other => {
+            return Err(Error::Parameter(format!(
+                "unknown ranking {other:?}: give metric or per_step"
+            )))
+        }
+    };
     let (trackers, cases) = (input.trackers.len(), input.cases.len());
-    if trackers == 0 || cases == 0 || input.settings.is_empty() {
-        return Err(Error::Mismatch(
-            "there is nothing to compare: give at least one score".into(),
-        ));
-    }
     let shaped = input.scores.len() == input.settings.len()
         && input
             .scores
@@ -171,80 +119,32 @@ pub fn comparison_document(input: Scores) -> Result<String> {
             "the scores do not cover every (setting, tracker, case)".into(),
         ));
     }
-    let keys: Vec<CaseKey> = input
+    let settings = input
+        .settings
+        .iter()
+        .map(|&(cutoff, order, penalty)| TrajectoryParams::new(cutoff, order, penalty))
+        .collect::<Result<_>>()?;
+    let keys = input
         .cases
         .iter()
         .map(|(sequence, run)| CaseKey::new(sequence, run))
         .collect();
-    let mut order: Vec<usize> = (0..cases).collect();
-    order.sort_by(|&a, &b| keys[a].cmp(&keys[b]));
-    if let Some(pair) = order.windows(2).find(|w| keys[w[0]] == keys[w[1]]) {
-        let key = &keys[pair[0]];
-        return Err(Error::Mismatch(format!(
-            "two scores of one tracker for sequence {:?}, run {:?}",
-            key.sequence, key.run
-        )));
-    }
-    // Sequences: consecutive runs of sorted cases with one sequence name.
-    let mut sequences: Vec<(String, Range<usize>)> = Vec::new();
-    for (position, &case) in order.iter().enumerate() {
-        match sequences.last_mut() {
-            Some((name, range)) if *name == keys[case].sequence => range.end = position + 1,
-            _ => sequences.push((keys[case].sequence.clone(), position..position + 1)),
-        }
-    }
-    let resample_by = match input.resample_by.as_str() {
-        "auto" if sequences.len() >= 2 => ResampleBy::Sequence,
-        "auto" | "run" => ResampleBy::Run,
-        "sequence" => ResampleBy::Sequence,
-        other => {
-            return Err(Error::Parameter(format!(
-                "unknown resampling {other:?}: give auto, sequence or run"
-            )))
-        }
-    };
-    let units: Vec<Range<usize>> = match resample_by {
-        ResampleBy::Sequence => sequences.iter().map(|(_, r)| r.clone()).collect(),
-        _ => (0..cases).map(|c| c..c + 1).collect(),
-    };
-    let mut settings = Vec::with_capacity(input.settings.len());
-    for (index, &(cutoff, order_p, penalty)) in input.settings.iter().enumerate() {
-        let params = TrajectoryParams::new(cutoff, order_p, penalty)?;
-        let scores: Vec<Vec<CaseScore>> = input.scores[index]
-            .iter()
-            .map(|tracker| order.iter().map(|&c| case_score(&tracker[c])).collect())
-            .collect();
-        let trackers = rank_trackers(
-            &input.trackers,
-            &scores,
-            0..cases,
-            Some((&bootstrap, &units)),
-        )?;
-        let per_sequence = sequences
-            .iter()
-            .map(|(name, range)| {
-                Ok(SequenceResult {
-                    sequence: name.clone(),
-                    trackers: rank_trackers(&input.trackers, &scores, range.clone(), None)?,
-                })
-            })
-            .collect::<Result<_>>()?;
-        settings.push(SettingResult {
-            params,
-            trackers,
-            sequences: per_sequence,
-        });
-    }
-    let first = settings[0].ranks(&input.trackers);
-    let ranking_stable = settings.iter().all(|s| s.ranks(&input.trackers) == first);
-    let comparison = Comparison {
-        bootstrap,
-        resample_by,
-        resampling_units: units.len(),
-        settings,
-        ranking_stable,
-        monte_carlo: Vec::new(),
-    };
+    let scores = input
+        .scores
+        .iter()
+        .flatten()
+        .flatten()
+        .map(case_score)
+        .collect();
+    let evaluation = Evaluation::from_scores(settings, input.trackers.clone(), keys, scores)?;
+    let comparison = aggregate(
+        &evaluation,
+        &AggregateOptions {
+            bootstrap,
+            resample_by,
+            rank_by,
+        },
+    )?;
     let inputs = CompareInputs {
         truth: input.truth,
         manifest: input.manifest,
@@ -257,7 +157,7 @@ pub fn comparison_document(input: Scores) -> Result<String> {
                 estimate,
             })
             .collect(),
-        sequences: sequences.len(),
+        sequences: evaluation.sequences().len(),
         cases,
         distance: input.distance,
         engine: input.engine,
@@ -265,6 +165,7 @@ pub fn comparison_document(input: Scores) -> Result<String> {
     let sections = Sections {
         per_sequence: input.per_sequence,
         monte_carlo: false,
+        per_case: input.per_case,
     };
     let mut text = Vec::new();
     write_json(&mut text, &comparison, &inputs, sections)

@@ -69,7 +69,8 @@ def test_monte_carlo_runs_on_dask_equal_the_command(client):
     assert got.ranking_stable is True
 
 
-def test_sequences_on_dask_equal_the_command(client):
+def sequence_jobs():
+    """(tracker, sequence, run, truth, estimate) of tests/data/sequences, one per sequence."""
     base = ROOT / "tests/data/sequences"
     truth = pd.read_csv(base / "truth.csv")
     truths = dict(tuple(truth.groupby("sequence", sort=False)))
@@ -78,6 +79,11 @@ def test_sequences_on_dask_equal_the_command(client):
         estimate = pd.read_csv(base / f"{tracker}.csv")
         for sequence, rows in estimate.groupby("sequence", sort=False):
             jobs.append((tracker, sequence, None, truths[sequence], rows))
+    return jobs
+
+
+def test_sequences_on_dask_equal_the_command(client):
+    jobs = sequence_jobs()
     results = score_on(client, jobs, cutoff=20)
     got = switchyard.compare(
         results,
@@ -91,3 +97,22 @@ def test_sequences_on_dask_equal_the_command(client):
     local = [(t, s, r, switchyard.score(a, b, cutoff=20)) for t, s, r, a, b in jobs]
     assert switchyard.compare(local, per_sequence=True).to_dict()["settings"] == got.to_dict()["settings"]
 
+
+
+def test_case_rows_and_per_step_ranking_equal_the_command():
+    # compare-cases.json: `switchyard compare --truth tests/data/sequences/truth.csv --estimate
+    # swaps=... --estimate fragments=... --cutoff 20 --per-case --rank-by per-step --format json`.
+    results = [(t, s, r, switchyard.score(a, b, cutoff=20)) for t, s, r, a, b in sequence_jobs()]
+    got = switchyard.compare(
+        results,
+        rank_by="per_step",
+        per_case=True,
+        truth_name="tests/data/sequences/truth.csv",
+        estimate_names={t: f"tests/data/sequences/{t}.csv" for t in TRACKERS},
+    )
+    assert got.to_dict() == snapshot("compare-cases.json")
+    assert got.rank_by == "per_step"
+    # Per step by hand: each case's d^p / steps (p = 1, 60 steps per sequence).
+    first = got.cases[0]
+    assert first["per_step"] == pytest.approx(first["total"] / first["steps"], rel=1e-15)
+    assert len(got.cases) == 2 * 3

@@ -7,8 +7,8 @@ use clap::{Args, ValueEnum};
 use rayon::prelude::*;
 
 use switchyard::compare::{
-    job_count, run as run_comparison, settings_grid, BootstrapOptions, CompareOptions, Dataset,
-    ResampleBy,
+    job_count, run as run_comparison, settings_grid, AggregateOptions, BootstrapOptions,
+    CompareOptions, Dataset, RankBy, ResampleBy,
 };
 use switchyard::distance::Distance;
 use switchyard::input::grouped::{read_grouped_csv_path, GroupColumns, GroupedFile};
@@ -32,6 +32,15 @@ pub enum ResampleKind {
     Sequence,
     /// Each (sequence, run) on its own.
     Run,
+}
+
+/// What ranks the trackers, on the command line.
+#[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
+pub enum RankKind {
+    /// The mean over the cases of the trajectory metric d.
+    Metric,
+    /// The mean over the cases of d^p / steps: sequences of different lengths weigh alike.
+    PerStep,
 }
 
 /// Options of `compare`.
@@ -112,8 +121,17 @@ pub struct CompareArgs {
     /// What the bootstrap resamples.
     #[arg(long, value_enum, default_value_t = ResampleKind::Auto)]
     resample: ResampleKind,
+    /// What ranks the trackers and what the bootstrap compares: the mean of d, or the mean of
+    /// d^p / steps of each case (long and short sequences then weigh alike).
+    #[arg(long, value_enum, default_value_t = RankKind::Metric)]
+    rank_by: RankKind,
+    /// Also list every (setting, tracker, sequence, run) score: d, d^p, its parts, the
+    /// counts, the steps and d^p / steps.
+    #[arg(long)]
+    per_case: bool,
     /// Output format; csv holds one table: the ranking, or the per-sequence rankings with
-    /// --per-sequence, or the per-step summaries with --monte-carlo.
+    /// --per-sequence, or the per-step summaries with --monte-carlo, or the case scores with
+    /// --per-case.
     #[arg(long, short = 'f', value_enum, default_value_t = Format::Text)]
     format: Format,
     #[command(flatten)]
@@ -202,9 +220,10 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
 }
 
 pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
-    if args.format == Format::Csv && args.per_sequence && args.monte_carlo {
+    let tables = [args.per_sequence, args.monte_carlo, args.per_case];
+    if args.format == Format::Csv && tables.iter().filter(|&&t| t).count() > 1 {
         return Err(Error::Parameter(
-            "csv holds one table: give --per-sequence or --monte-carlo, not both".into(),
+            "csv holds one table: give one of --per-sequence, --monte-carlo and --per-case".into(),
         )
         .into());
     }
@@ -233,11 +252,17 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
             memory_budget: args.memory_budget,
             ..SolveOptions::default()
         },
-        bootstrap,
-        resample_by: match args.resample {
-            ResampleKind::Auto => ResampleBy::Auto,
-            ResampleKind::Sequence => ResampleBy::Sequence,
-            ResampleKind::Run => ResampleBy::Run,
+        aggregate: AggregateOptions {
+            bootstrap,
+            resample_by: match args.resample {
+                ResampleKind::Auto => ResampleBy::Auto,
+                ResampleKind::Sequence => ResampleBy::Sequence,
+                ResampleKind::Run => ResampleBy::Run,
+            },
+            rank_by: match args.rank_by {
+                RankKind::Metric => RankBy::Metric,
+                RankKind::PerStep => RankBy::PerStep,
+            },
         },
         monte_carlo: args.monte_carlo,
     };
@@ -262,6 +287,7 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
     let sections = Sections {
         per_sequence: args.per_sequence,
         monte_carlo: args.monte_carlo,
+        per_case: args.per_case,
     };
     args.output.emit(|out| {
         match args.format {
@@ -269,6 +295,7 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
             Format::Json => report::write_json(out, &comparison, &inputs, sections)?,
             Format::Csv if args.per_sequence => report::write_sequences_csv(out, &comparison)?,
             Format::Csv if args.monte_carlo => report::write_steps_csv(out, &comparison)?,
+            Format::Csv if args.per_case => report::write_cases_csv(out, &comparison)?,
             Format::Csv => report::write_csv(out, &comparison)?,
         }
         Ok(())

@@ -203,14 +203,7 @@ impl Dataset {
 
     /// The sequences, each with the range of its cases in [`Dataset::cases`].
     pub fn sequences(&self) -> Vec<(String, std::ops::Range<usize>)> {
-        let mut result: Vec<(String, std::ops::Range<usize>)> = Vec::new();
-        for (index, case) in self.cases.iter().enumerate() {
-            match result.last_mut() {
-                Some((sequence, range)) if *sequence == case.key.sequence => range.end = index + 1,
-                _ => result.push((case.key.sequence.clone(), index..index + 1)),
-            }
-        }
-        result
+        sequences(self.cases.iter().map(|case| &case.key))
     }
 
     /// The total number of (object, step) points over every truth and estimate, each case
@@ -463,6 +456,21 @@ impl Dataset {
             .collect();
         Dataset::new(truths, cases, trackers)
     }
+}
+
+/// The sequences of sorted case keys, each with the range of its cases: consecutive keys with
+/// one sequence name.
+pub fn sequences<'a>(
+    keys: impl IntoIterator<Item = &'a CaseKey>,
+) -> Vec<(String, std::ops::Range<usize>)> {
+    let mut result: Vec<(String, std::ops::Range<usize>)> = Vec::new();
+    for (index, key) in keys.into_iter().enumerate() {
+        match result.last_mut() {
+            Some((sequence, range)) if *sequence == key.sequence => range.end = index + 1,
+            _ => result.push((key.sequence.clone(), index..index + 1)),
+        }
+    }
+    result
 }
 
 /// "sequence S, run R" for messages.

@@ -9,7 +9,8 @@
 //! - [`ranking`]: the aggregate of each tracker over the cases and the ranks;
 //! - [`verdict`]: each tracker against the best, with [`bootstrap`]'s interval;
 //! - [`montecarlo`]: per-step GOSPA over the runs of each sequence;
-//! - here: the options, and [`aggregate`], which puts an evaluation together.
+//! - here: the options, and [`aggregate`], which puts an evaluation together: one from
+//!   [`evaluate`], or case scores computed elsewhere ([`Evaluation::from_scores`]).
 
 pub mod bootstrap;
 pub mod dataset;
@@ -28,7 +29,7 @@ use self::ranking::rank_trackers;
 pub use self::ranking::{rank, summarize, SequenceResult, SettingResult, Summary, TrackerResult};
 pub use self::verdict::{PairedDifference, Verdict};
 use crate::distance::Distance;
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::trajectory_metric::{SolveOptions, TrajectoryParams};
 
 /// What the bootstrap resamples.
@@ -50,12 +51,42 @@ pub struct CompareOptions {
     pub settings: Vec<TrajectoryParams>,
     /// How the LP is solved.
     pub solve: SolveOptions,
+    /// How the scores are aggregated.
+    pub aggregate: AggregateOptions,
+    /// Also compute per-step GOSPA over runs.
+    pub monte_carlo: bool,
+}
+
+/// What ranks the trackers and what the bootstrap compares.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum RankBy {
+    /// The trajectory metric d of each case: long cases weigh more, as d^p sums over steps.
+    #[default]
+    Metric,
+    /// d^p per step of each case (d^p / steps): cases of different lengths weigh alike.
+    PerStep,
+}
+
+impl RankBy {
+    /// The name in JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            RankBy::Metric => "metric",
+            RankBy::PerStep => "per_step",
+        }
+    }
+}
+
+/// How case scores are aggregated into a comparison.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct AggregateOptions {
     /// The bootstrap.
     pub bootstrap: BootstrapOptions,
     /// What the bootstrap resamples.
     pub resample_by: ResampleBy,
-    /// Also compute per-step GOSPA over runs.
-    pub monte_carlo: bool,
+    /// What ranks the trackers and what the bootstrap compares.
+    pub rank_by: RankBy,
 }
 
 /// Everything a comparison reports.
@@ -63,6 +94,8 @@ pub struct CompareOptions {
 pub struct Comparison {
     /// The bootstrap options used.
     pub bootstrap: BootstrapOptions,
+    /// What ranks the trackers and what the bootstrap compares.
+    pub rank_by: RankBy,
     /// What was resampled (never `Auto`).
     pub resample_by: ResampleBy,
     /// The number of resampling units.
@@ -74,43 +107,57 @@ pub struct Comparison {
     /// Per-step summaries over runs (empty unless asked for), by (cut-off, order), then
     /// sequence, then tracker.
     pub monte_carlo: Vec<StepsOverRuns>,
+    /// Every (setting, tracker, case) score: by setting, then tracker (in the order given),
+    /// then case (sorted).
+    pub cases: Vec<CaseResult>,
 }
 
-/// Aggregates an evaluation: rankings per setting (and per sequence), paired bootstrap
+/// One (setting, tracker, case) score, for those who run their own statistics.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CaseResult {
+    /// The setting.
+    #[serde(flatten)]
+    pub params: TrajectoryParams,
+    /// The tracker.
+    pub tracker: String,
+    /// The sequence ("" without sequences).
+    pub sequence: String,
+    /// The run ("" without runs).
+    pub run: String,
+    /// The score: d, d^p, the parts and counts, integrality, steps.
+    #[serde(flatten)]
+    pub score: CaseScore,
+    /// d^p / steps ([`CaseScore::per_step`]).
+    pub per_step: f64,
+}
+
+/// Aggregates an evaluation (from [`evaluate`], or from scores computed elsewhere through
+/// [`Evaluation::from_scores`]): rankings per setting (and per sequence), paired bootstrap
 /// differences with the best, ranking stability over the settings, and the Monte Carlo
 /// summaries when they were computed.
 ///
 /// # Errors
-/// Invalid bootstrap options; an evaluation made from another dataset.
-pub fn aggregate(
-    dataset: &Dataset,
-    evaluation: &Evaluation,
-    options: &CompareOptions,
-) -> Result<Comparison> {
+/// Invalid bootstrap options.
+pub fn aggregate(evaluation: &Evaluation, options: &AggregateOptions) -> Result<Comparison> {
     options.bootstrap.validate()?;
-    if !evaluation.fits(dataset) {
-        return Err(Error::Mismatch(
-            "the evaluation was made from other data".into(),
-        ));
-    }
-    let sequences = dataset.sequences();
+    let sequences = evaluation.sequences();
     let resample_by = match options.resample_by {
         ResampleBy::Auto if sequences.len() >= 2 => ResampleBy::Sequence,
         ResampleBy::Auto => ResampleBy::Run,
         other => other,
     };
+    let cases = evaluation.cases().len();
     let units: Vec<std::ops::Range<usize>> = match resample_by {
         ResampleBy::Sequence => sequences.iter().map(|(_, r)| r.clone()).collect(),
-        _ => (0..dataset.cases().len()).map(|c| c..c + 1).collect(),
+        _ => (0..cases).map(|c| c..c + 1).collect(),
     };
-    let all = 0..dataset.cases().len();
     let mut settings = Vec::with_capacity(evaluation.settings().len());
     for (index, params) in evaluation.settings().iter().enumerate() {
         let trackers = rank_trackers(
-            dataset,
             evaluation,
             index,
-            all.clone(),
+            0..cases,
+            options.rank_by,
             Some((&options.bootstrap, &units)),
         )?;
         let per_sequence = sequences
@@ -118,7 +165,13 @@ pub fn aggregate(
             .map(|(name, range)| {
                 Ok(SequenceResult {
                     sequence: name.clone(),
-                    trackers: rank_trackers(dataset, evaluation, index, range.clone(), None)?,
+                    trackers: rank_trackers(
+                        evaluation,
+                        index,
+                        range.clone(),
+                        options.rank_by,
+                        None,
+                    )?,
                 })
             })
             .collect::<Result<_>>()?;
@@ -128,16 +181,34 @@ pub fn aggregate(
             sequences: per_sequence,
         });
     }
-    let names: Vec<String> = dataset.trackers().iter().map(|t| t.name.clone()).collect();
-    let first = settings[0].ranks(&names);
-    let ranking_stable = settings.iter().all(|s| s.ranks(&names) == first);
+    let names = evaluation.trackers();
+    let first = settings[0].ranks(names);
+    let ranking_stable = settings.iter().all(|s| s.ranks(names) == first);
+    let mut rows = Vec::with_capacity(settings.len() * names.len() * cases);
+    for (index, params) in evaluation.settings().iter().enumerate() {
+        for (t, tracker) in names.iter().enumerate() {
+            for (c, key) in evaluation.cases().iter().enumerate() {
+                let score = *evaluation.score(index, t, c);
+                rows.push(CaseResult {
+                    params: *params,
+                    tracker: tracker.clone(),
+                    sequence: key.sequence.clone(),
+                    run: key.run.clone(),
+                    score,
+                    per_step: score.per_step(),
+                });
+            }
+        }
+    }
     Ok(Comparison {
         bootstrap: options.bootstrap,
+        rank_by: options.rank_by,
         resample_by,
         resampling_units: units.len(),
         settings,
         ranking_stable,
-        monte_carlo: montecarlo::over_runs(dataset, evaluation),
+        monte_carlo: montecarlo::over_runs(evaluation),
+        cases: rows,
     })
 }
 
@@ -152,5 +223,5 @@ pub fn run(
     progress: &(dyn Fn() + Sync),
 ) -> Result<Comparison> {
     let evaluation = evaluate(dataset, distance, options, progress)?;
-    aggregate(dataset, &evaluation, options)
+    aggregate(&evaluation, &options.aggregate)
 }

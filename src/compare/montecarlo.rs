@@ -22,7 +22,6 @@
 
 use serde::Serialize;
 
-use super::dataset::Dataset;
 use super::plan::Evaluation;
 use crate::per_step::{every_step, stretches, OccupiedSteps, StepScore, Stretch};
 use crate::trajectory::{Step, Window};
@@ -197,12 +196,12 @@ pub struct StepsOverRuns {
 
 /// The per-step summaries over the runs of each sequence: by (cut-off, order), then sequence,
 /// then tracker; empty unless the evaluation computed per-step GOSPA.
-pub fn over_runs(dataset: &Dataset, evaluation: &Evaluation) -> Vec<StepsOverRuns> {
-    let sequences = dataset.sequences();
+pub fn over_runs(evaluation: &Evaluation) -> Vec<StepsOverRuns> {
+    let sequences = evaluation.sequences();
     let mut blocks = Vec::new();
     for (index, params) in evaluation.step_params().iter().enumerate() {
         for (sequence, range) in &sequences {
-            for (t, tracker) in dataset.trackers().iter().enumerate() {
+            for (t, tracker) in evaluation.trackers().iter().enumerate() {
                 let runs: Vec<&OccupiedSteps> = range
                     .clone()
                     .map(|c| evaluation.series(index, t, c))
@@ -211,7 +210,7 @@ pub fn over_runs(dataset: &Dataset, evaluation: &Evaluation) -> Vec<StepsOverRun
                     cutoff: params.cutoff,
                     order: params.order,
                     sequence: sequence.clone(),
-                    tracker: tracker.name.clone(),
+                    tracker: tracker.clone(),
                     runs: runs.len(),
                     steps: steps_over_runs(&runs),
                 });

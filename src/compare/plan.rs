@@ -8,7 +8,7 @@ use rayon::prelude::*;
 use serde::Serialize;
 
 use super::dataset::{self, CaseKey, Dataset};
-use super::CompareOptions;
+use super::{CompareOptions, RankBy};
 use crate::distance::Distance;
 use crate::error::{Error, Result};
 use crate::per_step::{occupied_steps, GospaParams, OccupiedSteps};
@@ -75,6 +75,26 @@ pub struct CaseScore {
     pub steps: usize,
 }
 
+impl CaseScore {
+    /// d^p per step of the window: d^p / steps (0 for an empty window, where d^p is 0), in
+    /// p-th power units; a long and a short case weigh alike in a mean of it.
+    pub fn per_step(&self) -> f64 {
+        if self.steps == 0 {
+            0.0
+        } else {
+            self.total / self.steps as f64
+        }
+    }
+
+    /// The value that ranks and is compared: d, or d^p per step.
+    pub fn ranked(&self, by: RankBy) -> f64 {
+        match by {
+            RankBy::Metric => self.metric,
+            RankBy::PerStep => self.per_step(),
+        }
+    }
+}
+
 impl From<&TrajectoryScore> for CaseScore {
     fn from(s: &TrajectoryScore) -> Self {
         CaseScore {
@@ -88,31 +108,91 @@ impl From<&TrajectoryScore> for CaseScore {
     }
 }
 
-/// The raw results: every job's score, in job order.
+/// The raw results: every (setting, tracker, case) score, in job order, with the names of the
+/// trackers and the cases' keys (sorted); what [`super::aggregate`] needs, whether the scores
+/// were computed by [`evaluate`] or elsewhere ([`Evaluation::from_scores`]).
 #[derive(Clone, Debug)]
 pub struct Evaluation {
     settings: Vec<TrajectoryParams>,
     step_params: Vec<GospaParams>,
-    trackers: usize,
-    cases: usize,
+    trackers: Vec<String>,
+    cases: Vec<CaseKey>,
     scores: Vec<CaseScore>,
     series: Vec<OccupiedSteps>,
 }
 
 impl Evaluation {
-    /// The score of `tracker` on `case` at setting `setting`.
-    pub fn score(&self, setting: usize, tracker: usize, case: usize) -> &CaseScore {
-        &self.scores[(setting * self.trackers + tracker) * self.cases + case]
+    /// An evaluation from case scores computed elsewhere (a loop, or the workers of a
+    /// distributed engine): `scores[(setting x trackers + tracker) x cases + case]` for the
+    /// cases in the order given; the cases are sorted here as [`Dataset`] sorts them, their
+    /// scores following. No per-step GOSPA, so no Monte Carlo summaries.
+    ///
+    /// # Errors
+    /// No setting, tracker or case; scores not covering every (setting, tracker, case) once;
+    /// two cases with one key.
+    pub fn from_scores(
+        settings: Vec<TrajectoryParams>,
+        trackers: Vec<String>,
+        cases: Vec<CaseKey>,
+        scores: Vec<CaseScore>,
+    ) -> Result<Self> {
+        if settings.is_empty() || trackers.is_empty() || cases.is_empty() {
+            return Err(Error::Mismatch(
+                "there is nothing to compare: give at least one score".into(),
+            ));
+        }
+        if scores.len() != settings.len() * trackers.len() * cases.len() {
+            return Err(Error::Mismatch(
+                "the scores do not cover every (setting, tracker, case)".into(),
+            ));
+        }
+        let mut order: Vec<usize> = (0..cases.len()).collect();
+        order.sort_by(|&a, &b| cases[a].cmp(&cases[b]));
+        if let Some(pair) = order.windows(2).find(|w| cases[w[0]] == cases[w[1]]) {
+            let key = &cases[pair[0]];
+            return Err(Error::Mismatch(format!(
+                "two scores of one tracker for sequence {:?}, run {:?}",
+                key.sequence, key.run
+            )));
+        }
+        let sorted_scores = scores
+            .chunks(cases.len())
+            .flat_map(|row| order.iter().map(move |&c| row[c]))
+            .collect();
+        let sorted_cases = order.iter().map(|&c| cases[c].clone()).collect();
+        Ok(Evaluation {
+            settings,
+            step_params: Vec::new(),
+            trackers,
+            cases: sorted_cases,
+            scores: sorted_scores,
+            series: Vec::new(),
+        })
     }
 
-    /// True when the evaluation has the numbers of trackers and cases of `dataset`.
-    pub fn fits(&self, dataset: &Dataset) -> bool {
-        self.trackers == dataset.trackers().len() && self.cases == dataset.cases().len()
+    /// The score of `tracker` on `case` at setting `setting`.
+    pub fn score(&self, setting: usize, tracker: usize, case: usize) -> &CaseScore {
+        &self.scores[(setting * self.trackers.len() + tracker) * self.cases.len() + case]
     }
 
     /// The settings evaluated.
     pub fn settings(&self) -> &[TrajectoryParams] {
         &self.settings
+    }
+
+    /// The trackers' names, in the order given.
+    pub fn trackers(&self) -> &[String] {
+        &self.trackers
+    }
+
+    /// The cases' keys, sorted.
+    pub fn cases(&self) -> &[CaseKey] {
+        &self.cases
+    }
+
+    /// The sequences, each with the range of its cases in [`Evaluation::cases`].
+    pub fn sequences(&self) -> Vec<(String, std::ops::Range<usize>)> {
+        dataset::sequences(&self.cases)
     }
 
     /// The per-step parameters (distinct cut-off and order pairs of the settings, alpha 2);
@@ -124,7 +204,7 @@ impl Evaluation {
     /// The per-step GOSPA of `tracker` on `case` for `step_params()[index]`, kept at the
     /// occupied steps.
     pub fn series(&self, index: usize, tracker: usize, case: usize) -> &OccupiedSteps {
-        &self.series[(index * self.trackers + tracker) * self.cases + case]
+        &self.series[(index * self.trackers.len() + tracker) * self.cases.len() + case]
     }
 }
 
@@ -226,7 +306,7 @@ pub fn evaluate(
     if options.settings.is_empty() {
         return Err(Error::Parameter("there is no setting to evaluate".into()));
     }
-    options.bootstrap.validate()?;
+    options.aggregate.bootstrap.validate()?;
     for s in &options.settings {
         distance.validate(dataset.dim(), s.cutoff)?;
     }
@@ -287,8 +367,8 @@ pub fn evaluate(
     Ok(Evaluation {
         settings: options.settings.clone(),
         step_params,
-        trackers: dataset.trackers().len(),
-        cases: dataset.cases().len(),
+        trackers: dataset.trackers().iter().map(|t| t.name.clone()).collect(),
+        cases: dataset.cases().iter().map(|c| c.key.clone()).collect(),
         scores,
         series,
     })
@@ -321,5 +401,38 @@ mod tests {
         assert!(settings_grid(&[2.0, 2.0], &[1.0], None).is_err());
         assert!(settings_grid(&[], &[1.0], None).is_err());
         assert!(settings_grid(&[-1.0], &[1.0], None).is_err());
+    }
+
+    #[test]
+    fn scores_from_elsewhere_are_sorted_with_their_cases() {
+        let score = |metric: f64| CaseScore {
+            metric,
+            total: metric,
+            parts: Parts::default(),
+            integral: true,
+            proven: true,
+            steps: 1,
+        };
+        let settings = vec![TrajectoryParams::new(2.0, 1.0, 2.0).unwrap()];
+        // Runs "10" and "9" of one sequence: as integers 9 comes first (the order `Dataset`
+        // sorts cases in), and each score follows its case.
+        let cases = vec![CaseKey::new("s", "10"), CaseKey::new("s", "9")];
+        let scores = vec![score(10.0), score(9.0), score(20.0), score(19.0)];
+        let trackers = vec!["a".to_string(), "b".to_string()];
+        let evaluation =
+            Evaluation::from_scores(settings.clone(), trackers.clone(), cases, scores).unwrap();
+        assert_eq!(evaluation.cases()[0], CaseKey::new("s", "9"));
+        assert_eq!(evaluation.score(0, 0, 0).metric, 9.0);
+        assert_eq!(evaluation.score(0, 1, 1).metric, 20.0);
+        assert_eq!(evaluation.sequences(), [("s".to_string(), 0..2)]);
+        // The same key twice, a score missing, nothing at all: refused.
+        let twice = vec![CaseKey::new("s", "1"), CaseKey::new("s", "1")];
+        let four = vec![score(1.0); 4];
+        assert!(Evaluation::from_scores(settings.clone(), trackers.clone(), twice, four).is_err());
+        let one = vec![CaseKey::new("s", "1")];
+        assert!(
+            Evaluation::from_scores(settings.clone(), trackers, one, vec![score(1.0)]).is_err()
+        );
+        assert!(Evaluation::from_scores(settings, Vec::new(), Vec::new(), Vec::new()).is_err());
     }
 }

@@ -1,18 +1,19 @@
 //! Ranking trackers on a set of cases. Aggregation over the cases of a tracker (formulas in
 //! `specs/compare.md`): the mean and the root mean square of the trajectory metric d, the mean
 //! of d^p and of each of its four parts (p-th power units), and the totals of the missed and
-//! false object-steps and of the switches. Trackers are ranked by the mean of d, smallest first;
-//! exactly equal means share a rank and keep the order the trackers were given in.
+//! false object-steps and of the switches, and the mean of d^p per step. Trackers are ranked by
+//! the mean of d (or of d^p per step, [`RankBy`]), smallest first; exactly equal means share a
+//! rank and keep the order the trackers were given in.
 
 use std::ops::Range;
 
 use serde::Serialize;
 
 use super::bootstrap::BootstrapOptions;
-use super::dataset::Dataset;
 use super::montecarlo::mean_and_rms;
 use super::plan::{CaseScore, Evaluation};
 use super::verdict::{paired_difference, PairedDifference};
+use super::RankBy;
 use crate::error::Result;
 use crate::trajectory_metric::{Parts, TrajectoryParams};
 
@@ -27,6 +28,8 @@ pub struct Summary {
     pub metric_rms: f64,
     /// Mean of d^p over the cases (the sum of the four mean parts).
     pub total_mean: f64,
+    /// Mean over the cases of d^p / steps ([`CaseScore::per_step`]).
+    pub per_step_mean: f64,
     /// The four parts as means over the cases; the counts (missed and false object-steps,
     /// switches) as sums over the cases.
     #[serde(flatten)]
@@ -57,6 +60,7 @@ pub fn summarize<'a>(scores: impl IntoIterator<Item = &'a CaseScore>) -> Summary
         metric_mean,
         metric_rms,
         total_mean: mean(|s| s.total),
+        per_step_mean: mean(CaseScore::per_step),
         parts: Parts {
             localization: mean(|s| s.parts.localization),
             missed: mean(|s| s.parts.missed),
@@ -139,30 +143,36 @@ impl SettingResult {
 /// Ranks trackers on a set of cases and, when `bootstrap` is given, compares each with the
 /// best on `units` (ranges of case positions within `cases`).
 pub(super) fn rank_trackers(
-    dataset: &Dataset,
     evaluation: &Evaluation,
     setting: usize,
     cases: Range<usize>,
+    rank_by: RankBy,
     bootstrap: Option<(&BootstrapOptions, &[Range<usize>])>,
 ) -> Result<Vec<TrackerResult>> {
-    let trackers = dataset.trackers();
+    let trackers = evaluation.trackers();
     let summaries: Vec<Summary> = (0..trackers.len())
         .map(|t| summarize(cases.clone().map(|c| evaluation.score(setting, t, c))))
         .collect();
-    let means: Vec<f64> = summaries.iter().map(|s| s.metric_mean).collect();
+    let means: Vec<f64> = summaries
+        .iter()
+        .map(|s| match rank_by {
+            RankBy::Metric => s.metric_mean,
+            RankBy::PerStep => s.per_step_mean,
+        })
+        .collect();
     let (order, ranks) = rank(&means);
-    let best = (order[0], trackers[order[0]].name.as_str());
+    let best = (order[0], trackers[order[0]].as_str());
     let mut result = Vec::with_capacity(trackers.len());
     for &t in &order {
         let difference = match bootstrap {
             Some((options, units)) if t != best.0 => Some(paired_difference(
-                evaluation, setting, t, best, units, options,
+                evaluation, setting, t, best, units, rank_by, options,
             )?),
             _ => None,
         };
         result.push(TrackerResult {
             rank: ranks[t],
-            tracker: trackers[t].name.clone(),
+            tracker: trackers[t].clone(),
             summary: summaries[t],
             difference,
         });

@@ -9,6 +9,7 @@ use serde::Serialize;
 
 use super::bootstrap::{self, BootstrapOptions, Interval, Unit};
 use super::plan::Evaluation;
+use super::RankBy;
 use crate::error::Result;
 
 /// What the bootstrap says of a tracker against the best.
@@ -50,12 +51,13 @@ impl Verdict {
     }
 }
 
-/// A tracker against the best: the mean difference of d per case and its interval.
+/// A tracker against the best: the mean difference per case of the ranked value (d, or d^p per
+/// step) and its interval.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct PairedDifference {
     /// The best tracker's name.
     pub against: String,
-    /// Mean over cases of d(tracker) - d(best).
+    /// Mean over cases of d(tracker) - d(best), or of the differences of d^p per step.
     pub mean: f64,
     /// The percentile bootstrap interval; `None` with fewer than two resampling units.
     pub interval: Option<Interval>,
@@ -64,7 +66,7 @@ pub struct PairedDifference {
 }
 
 /// `tracker` against `best` (its index and name) at setting `setting`: the mean per case of
-/// d(tracker) - d(best) over `units` (ranges of case positions, one per resampling unit), its
+/// d(tracker) - d(best) (or of d^p per step, as `by` says) over `units` (ranges of case positions, one per resampling unit), its
 /// percentile bootstrap interval and the verdict; no interval with fewer than two units.
 ///
 /// # Errors
@@ -75,6 +77,7 @@ pub(super) fn paired_difference(
     tracker: usize,
     best: (usize, &str),
     units: &[Range<usize>],
+    by: RankBy,
     options: &BootstrapOptions,
 ) -> Result<PairedDifference> {
     let units: Vec<Unit> = units
@@ -83,8 +86,8 @@ pub(super) fn paired_difference(
             sum: range
                 .clone()
                 .map(|c| {
-                    evaluation.score(setting, tracker, c).metric
-                        - evaluation.score(setting, best.0, c).metric
+                    evaluation.score(setting, tracker, c).ranked(by)
+                        - evaluation.score(setting, best.0, c).ranked(by)
                 })
                 .sum(),
             count: range.len(),

@@ -7,10 +7,11 @@ use std::io::Write;
 use serde::Serialize;
 
 use super::steps::write_step;
-use super::{count, csv_number, fixed, param, plural, printable, write_table, TableLayout};
+use super::{csv_number, fixed, param, plural, printable, write_table, TableLayout};
 use crate::compare::montecarlo::StepOverRuns;
 use crate::compare::{
-    Comparison, ResampleBy, SettingResult, StepsOverRuns, Summary, TrackerResult, Verdict,
+    CaseResult, Comparison, RankBy, ResampleBy, SettingResult, StepsOverRuns, Summary,
+    TrackerResult, Verdict,
 };
 use crate::per_step::Stretch;
 use crate::trajectory_metric::TrajectoryParams;
@@ -50,6 +51,8 @@ pub struct Sections {
     pub per_sequence: bool,
     /// The per-step summaries over runs.
     pub monte_carlo: bool,
+    /// Every (setting, tracker, case) score.
+    pub per_case: bool,
 }
 
 fn resample_name(by: ResampleBy) -> &'static str {
@@ -73,22 +76,20 @@ pub fn ranking_line(setting: &SettingResult) -> String {
     text
 }
 
-/// The plain statement for a tracker against the best.
-pub fn verdict_statement(tracker: &str, against: &str, verdict: Verdict, by: ResampleBy) -> String {
-    let (tracker, against) = (printable(tracker), printable(against));
+/// The plain statement for a tracker against the best, beside the tracker's row.
+pub fn verdict_statement(against: &str, verdict: Verdict, by: ResampleBy) -> String {
+    let against = printable(against);
     match verdict {
-        Verdict::Worse => format!("{tracker} is worse than {against}: the interval lies above 0."),
-        Verdict::Better => format!(
-            "{tracker} is better than {against} by the interval, though not by the mean: the \
-             data do not rank them reliably."
-        ),
-        Verdict::Indistinguishable => {
-            format!("The data cannot tell {tracker} and {against} apart: the interval contains 0.")
+        Verdict::Worse => format!("worse than {against}: the interval lies above 0."),
+        Verdict::Better => {
+            format!("better than {against} by the interval, not by the mean: not reliably ranked.")
         }
-        Verdict::Undetermined => format!(
-            "Only one {}: no interval, and the data cannot tell {tracker} and {against} apart.",
-            resample_name(by)
-        ),
+        Verdict::Indistinguishable => {
+            format!("not told apart from {against}: the interval contains 0.")
+        }
+        Verdict::Undetermined => {
+            format!("one {} only: no interval can be formed.", resample_name(by))
+        }
     }
 }
 
@@ -101,49 +102,84 @@ fn settings_line(p: &TrajectoryParams) -> String {
     )
 }
 
-const SUMMARY_HEADER: [&str; 11] = [
-    "mean d",
-    "RMS d",
-    "mean d^p",
-    "localisation",
-    "missed",
-    "false",
-    "switching",
-    "missed obj-steps",
-    "false obj-steps",
-    "switches",
-    "fractional",
-];
-
-fn summary_cells(s: &Summary) -> Vec<String> {
-    vec![
-        fixed(s.metric_mean, 4),
-        fixed(s.metric_rms, 4),
-        fixed(s.total_mean, 4),
-        fixed(s.parts.localization, 4),
-        fixed(s.parts.missed, 4),
-        fixed(s.parts.false_, 4),
-        fixed(s.parts.switching, 4),
-        count(s.parts.missed_count),
-        count(s.parts.false_count),
-        count(s.parts.switch_count),
-        s.fractional_cases.to_string(),
-    ]
+/// Counts for one column of a text table, formatted one way: whole numbers when every count
+/// in the column is whole, otherwise every count with three decimals.
+fn count_column(values: &[f64]) -> Vec<String> {
+    let whole = values.iter().all(|v| v.fract() == 0.0);
+    values
+        .iter()
+        .map(|&v| if whole { fixed(v, 0) } else { fixed(v, 3) })
+        .collect()
 }
 
-fn ranking_table<W: Write>(
+/// The two tables of summaries (each row led by `leads`, with `lead_header` above): the
+/// values that rank (mean d, RMS d, mean d^p unless p = 1, where it is mean d, and mean d^p
+/// per step) with the fractional cases, then the parts and the counts. Two narrow tables
+/// rather than one wide one, so that each fits 100 columns.
+fn summary_tables<W: Write>(
     out: &mut W,
-    trackers: &[TrackerResult],
-    first: &[&str],
-    lead: impl Fn(&TrackerResult) -> Vec<String>,
+    order: f64,
+    lead_header: &[&str],
+    leads: &[Vec<String>],
+    summaries: &[&Summary],
 ) -> std::io::Result<()> {
-    let mut header: Vec<&str> = first.to_vec();
-    header.extend_from_slice(&SUMMARY_HEADER);
-    let rows: Vec<Vec<String>> = trackers
+    let show_total = order != 1.0;
+    let mut header: Vec<&str> = lead_header.to_vec();
+    header.extend(["mean d", "RMS d"]);
+    if show_total {
+        header.push("mean d^p");
+    }
+    header.extend(["d^p/step", "fractional"]);
+    let rows: Vec<Vec<String>> = leads
         .iter()
-        .map(|t| {
-            let mut row = lead(t);
-            row.extend(summary_cells(&t.summary));
+        .zip(summaries)
+        .map(|(lead, s)| {
+            let mut row = lead.clone();
+            row.extend([fixed(s.metric_mean, 4), fixed(s.metric_rms, 4)]);
+            if show_total {
+                row.push(fixed(s.total_mean, 4));
+            }
+            row.extend([fixed(s.per_step_mean, 4), s.fractional_cases.to_string()]);
+            row
+        })
+        .collect();
+    write_table(out, &header, &rows)?;
+    writeln!(out)?;
+    // The parts table names the rows without their rank and number of cases.
+    let keep: Vec<usize> = (0..lead_header.len())
+        .filter(|&i| !matches!(lead_header[i], "rank" | "cases" | "runs"))
+        .collect();
+    let mut header: Vec<&str> = keep.iter().map(|&i| lead_header[i]).collect();
+    header.extend([
+        "localisation",
+        "missed",
+        "false",
+        "switching",
+        "n missed",
+        "n false",
+        "switches",
+    ]);
+    let counts = |f: fn(&Summary) -> f64| {
+        count_column(&summaries.iter().map(|s| f(s)).collect::<Vec<f64>>())
+    };
+    let missed = counts(|s| s.parts.missed_count);
+    let false_ = counts(|s| s.parts.false_count);
+    let switches = counts(|s| s.parts.switch_count);
+    let rows: Vec<Vec<String>> = leads
+        .iter()
+        .zip(summaries)
+        .enumerate()
+        .map(|(i, (lead, s))| {
+            let mut row: Vec<String> = keep.iter().map(|&k| lead[k].clone()).collect();
+            row.extend([
+                fixed(s.parts.localization, 4),
+                fixed(s.parts.missed, 4),
+                fixed(s.parts.false_, 4),
+                fixed(s.parts.switching, 4),
+                missed[i].clone(),
+                false_[i].clone(),
+                switches[i].clone(),
+            ]);
             row
         })
         .collect();
@@ -205,9 +241,17 @@ pub fn write_text<W: Write>(
     writeln!(out, "trackers  {}", trackers.join("; "))?;
     writeln!(
         out,
-        "Parts are means over the cases in p-th power units (they add up to mean d^p); object-steps\n\
-         and switches are totals; fractional counts the cases whose LP optimum is fractional (d is\n\
-         then a lower bound of the exact metric)."
+        "d^p/step is the mean over the cases of d^p / steps, each case's cost per step (sequences\n\
+         of different lengths weigh alike). Parts are means over the cases in p-th power units\n\
+         (they add up to mean d^p). Counts are totals over the cases: n missed and n false count\n\
+         object-steps (a truth missed, or an estimate unmatched, at one step), switches the\n\
+         switches (a half switch counts 0.5). fractional counts the cases whose LP optimum is\n\
+         fractional (d is then a lower bound of the exact metric).\n\
+         Ranked by {}.",
+        match comparison.rank_by {
+            RankBy::Metric => "mean d",
+            RankBy::PerStep => "d^p/step (--rank-by per-step)",
+        }
     )?;
     let total = comparison.settings.len();
     let b = &comparison.bootstrap;
@@ -224,20 +268,36 @@ pub fn write_text<W: Write>(
             writeln!(out, "{}", settings_line(&setting.params))?;
         }
         writeln!(out)?;
-        ranking_table(out, &setting.trackers, &["rank", "tracker", "cases"], |t| {
-            vec![
-                t.rank.to_string(),
-                t.tracker.clone(),
-                t.summary.cases.to_string(),
-            ]
-        })?;
+        let leads: Vec<Vec<String>> = setting
+            .trackers
+            .iter()
+            .map(|t| {
+                vec![
+                    t.rank.to_string(),
+                    t.tracker.clone(),
+                    t.summary.cases.to_string(),
+                ]
+            })
+            .collect();
+        let summaries: Vec<&Summary> = setting.trackers.iter().map(|t| &t.summary).collect();
+        summary_tables(
+            out,
+            setting.params.order,
+            &["rank", "tracker", "cases"],
+            &leads,
+            &summaries,
+        )?;
         let best = printable(&setting.trackers[0].tracker);
         if setting.trackers.len() > 1 {
             writeln!(out)?;
+            let value = match comparison.rank_by {
+                RankBy::Metric => "d",
+                RankBy::PerStep => "d^p/step",
+            };
             writeln!(
                 out,
-                "Against the best ({best}): mean over cases of d(tracker) - d({best}), {}% paired \
-                 percentile bootstrap interval over {} ({} resamples, seed {}):",
+                "Against the best ({best}): mean over cases of {value}(tracker) - {value}({best}),\n\
+                 {}% paired percentile bootstrap interval over {} ({} resamples, seed {}):",
                 fixed(100.0 * b.confidence, 1)
                     .trim_end_matches('0')
                     .trim_end_matches('.'),
@@ -258,12 +318,8 @@ pub fn write_text<W: Write>(
                         Some(i) => (fixed(i.lower, 4), fixed(i.upper, 4)),
                         None => ("-".into(), "-".into()),
                     };
-                    let statement = verdict_statement(
-                        &t.tracker,
-                        &d.against,
-                        d.verdict,
-                        comparison.resample_by,
-                    );
+                    let statement =
+                        verdict_statement(&d.against, d.verdict, comparison.resample_by);
                     (
                         vec![t.tracker.clone(), fixed(d.mean, 4), lower, upper],
                         statement,
@@ -291,25 +347,29 @@ pub fn write_text<W: Write>(
         if sections.per_sequence {
             writeln!(out)?;
             writeln!(out, "Per sequence (over its runs):")?;
-            let mut header: Vec<&str> = vec!["sequence", "rank", "tracker", "runs"];
-            header.extend_from_slice(&SUMMARY_HEADER);
-            let table: Vec<Vec<String>> = setting
+            let rows: Vec<(Vec<String>, &Summary)> = setting
                 .sequences
                 .iter()
                 .flat_map(|s| {
                     s.trackers.iter().map(move |t| {
-                        let mut row = vec![
+                        let lead = vec![
                             shown(&s.sequence),
                             t.rank.to_string(),
                             t.tracker.clone(),
                             t.summary.cases.to_string(),
                         ];
-                        row.extend(summary_cells(&t.summary));
-                        row
+                        (lead, &t.summary)
                     })
                 })
                 .collect();
-            write_table(out, &header, &table)?;
+            let (leads, summaries): (Vec<_>, Vec<_>) = rows.into_iter().unzip();
+            summary_tables(
+                out,
+                setting.params.order,
+                &["sequence", "rank", "tracker", "runs"],
+                &leads,
+                &summaries,
+            )?;
         }
     }
     if total > 1 {
@@ -336,6 +396,48 @@ pub fn write_text<W: Write>(
     }
     if sections.monte_carlo {
         write_monte_carlo_text(out, comparison)?;
+    }
+    if sections.per_case {
+        write_cases_text(out, comparison)?;
+    }
+    Ok(())
+}
+
+/// The case scores: d, d^p unless p = 1 (where it is d), and d^p per step; the parts are in
+/// CSV and JSON.
+fn write_cases_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+    writeln!(out)?;
+    writeln!(
+        out,
+        "Case scores (parts and counts of each case: --format csv or json with --per-case):"
+    )?;
+    for setting in &comparison.settings {
+        let p = &setting.params;
+        let cases = comparison.cases.iter().filter(|c| c.params == *p);
+        let show_total = p.order != 1.0;
+        let mut header = vec!["sequence", "run", "tracker", "steps", "d"];
+        if show_total {
+            header.push("d^p");
+        }
+        header.push("d^p/step");
+        let rows: Vec<Vec<String>> = cases
+            .map(|c| {
+                let mut row = vec![
+                    shown(&c.sequence),
+                    shown(&c.run),
+                    c.tracker.clone(),
+                    c.score.steps.to_string(),
+                    fixed(c.score.metric, 4),
+                ];
+                if show_total {
+                    row.push(fixed(c.score.total, 4));
+                }
+                row.push(fixed(c.per_step, 4));
+                row
+            })
+            .collect();
+        writeln!(out, "{}", settings_line(p))?;
+        write_table(out, &header, &rows)?;
     }
     Ok(())
 }
@@ -446,13 +548,14 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
     Ok(())
 }
 
-const SUMMARY_CSV: &str = "metric_mean,metric_rms,total_mean,localization,missed,false,switching,missed_count,false_count,switch_count,fractional_cases";
+const SUMMARY_CSV: &str = "metric_mean,metric_rms,total_mean,per_step_mean,localization,missed,false,switching,missed_count,false_count,switch_count,fractional_cases";
 
 fn summary_csv(s: &Summary) -> String {
     [
         s.metric_mean,
         s.metric_rms,
         s.total_mean,
+        s.per_step_mean,
         s.parts.localization,
         s.parts.missed,
         s.parts.false_,
@@ -536,6 +639,40 @@ pub fn write_sequences_csv<W: Write>(out: &mut W, comparison: &Comparison) -> st
                 )?;
             }
         }
+    }
+    Ok(())
+}
+
+/// CSV: one row per (setting, tracker, sequence, run): the case's score and d^p per step.
+pub fn write_cases_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+    writeln!(
+        out,
+        "cutoff,order,switch_penalty,tracker,sequence,run,metric,total,localization,missed,false,switching,missed_count,false_count,switch_count,integral,steps,per_step"
+    )?;
+    for c in &comparison.cases {
+        let (p, s) = (&c.params, &c.score);
+        writeln!(
+            out,
+            "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}",
+            p.cutoff,
+            p.order,
+            p.switch_penalty,
+            csv_text(&c.tracker),
+            csv_text(&c.sequence),
+            csv_text(&c.run),
+            s.metric,
+            s.total,
+            s.parts.localization,
+            s.parts.missed,
+            s.parts.false_,
+            s.parts.switching,
+            s.parts.missed_count,
+            s.parts.false_count,
+            s.parts.switch_count,
+            s.integral,
+            s.steps,
+            c.per_step
+        )?;
     }
     Ok(())
 }
@@ -633,11 +770,14 @@ struct SettingDocument<'a> {
 #[derive(Serialize)]
 struct CompareDocument<'a> {
     inputs: &'a CompareInputs,
+    rank_by: &'static str,
     bootstrap: BootstrapDocument,
     settings: Vec<SettingDocument<'a>>,
     ranking_stable: bool,
     #[serde(skip_serializing_if = "Option::is_none")]
     monte_carlo: Option<&'a [StepsOverRuns]>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    cases: Option<&'a [CaseResult]>,
 }
 
 fn rows(trackers: &[TrackerResult]) -> Vec<RowDocument<'_>> {
@@ -668,6 +808,7 @@ pub fn write_json<W: Write>(
 ) -> std::io::Result<()> {
     let document = CompareDocument {
         inputs,
+        rank_by: comparison.rank_by.name(),
         bootstrap: BootstrapDocument {
             method: "paired percentile bootstrap",
             resamples: comparison.bootstrap.resamples,
@@ -700,6 +841,7 @@ pub fn write_json<W: Write>(
         monte_carlo: sections
             .monte_carlo
             .then_some(comparison.monte_carlo.as_slice()),
+        cases: sections.per_case.then_some(comparison.cases.as_slice()),
     };
     serde_json::to_writer_pretty(&mut *out, &document)?;
     writeln!(out)

@@ -19,6 +19,7 @@ _SUMMARY_COLUMNS = (
     "metric_mean",
     "metric_rms",
     "total_mean",
+    "per_step_mean",
     "localization",
     "missed",
     "false",
@@ -63,6 +64,12 @@ class Comparison(_Document):
         self.settings: List[Dict[str, Any]] = d["settings"]
         #: True when every setting ranks the trackers the same.
         self.ranking_stable: bool = d["ranking_stable"]
+        #: What ranked the trackers: "metric" (mean d) or "per_step" (mean d^p / steps).
+        self.rank_by: str = d["rank_by"]
+        #: With ``per_case=True``, every (setting, tracker, sequence, run) score: cutoff, order,
+        #: switch_penalty, tracker, sequence, run, metric, total, the parts and counts,
+        #: integral, steps and per_step (d^p / steps); otherwise empty.
+        self.cases: List[Dict[str, Any]] = d.get("cases", [])
 
     @property
     def table(self) -> Any:
@@ -102,6 +109,8 @@ def compare(
     confidence: float = 0.95,
     resample_by: str = "auto",
     per_sequence: bool = False,
+    rank_by: str = "metric",
+    per_case: bool = False,
     truth_name: Optional[str] = None,
     manifest_name: Optional[str] = None,
     estimate_names: Optional[Mapping[str, str]] = None,
@@ -115,7 +124,9 @@ def compare(
     (integers by value, then names). Every tracker needs a score of every case at every setting.
 
     The bootstrap (``resamples``, ``seed``, ``confidence``, ``resample_by`` ``"auto"``,
-    ``"sequence"`` or ``"run"``) is the command's; ``per_sequence`` adds each sequence's ranking.
+    ``"sequence"`` or ``"run"``) is the command's; ``per_sequence`` adds each sequence's ranking,
+    ``per_case`` every case score (``Comparison.cases``); ``rank_by="per_step"`` ranks and compares
+    by d^p / steps of each case instead of d (``--rank-by per-step``).
     ``truth_name``, ``manifest_name`` and ``estimate_names`` (tracker -> file) only fill in
     ``inputs``. Returns a ``Comparison`` whose ``to_dict()`` is the document of
     ``switchyard compare --format json`` on the same data and options.
@@ -173,6 +184,8 @@ def compare(
         "confidence": float(confidence),
         "resample_by": resample_by,
         "per_sequence": bool(per_sequence),
+        "rank_by": rank_by,
+        "per_case": bool(per_case),
         "truth": truth_name,
         "manifest": manifest_name,
         "estimates": [names.get(t) for t in trackers],
