@@ -313,6 +313,21 @@ pub struct SwitchKinds {
     pub handovers: usize,
 }
 
+impl std::ops::Add for SwitchKinds {
+    type Output = SwitchKinds;
+
+    /// The kinds of two disjoint parts of a scene (two classes) together.
+    fn add(self, other: SwitchKinds) -> SwitchKinds {
+        SwitchKinds {
+            full: self.full + other.full,
+            half: self.half + other.half,
+            swaps: self.swaps + other.swaps,
+            breaks: self.breaks + other.breaks,
+            handovers: self.handovers + other.handovers,
+        }
+    }
+}
+
 /// Sorts truth-side switch `events` (as from [`switch_events`]) into [`SwitchKinds`]: a swap
 /// is a pair of full events at one step, truth A from track X to Y and truth B from Y to X; a
 /// full event not in a swap is a break when X has no state at that step in `estimate`, else a

@@ -3,6 +3,7 @@
 //! same input gives the same bytes.
 
 pub mod audit;
+pub mod classes;
 pub mod compare;
 pub mod html;
 pub mod ospa2;
