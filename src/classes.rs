@@ -236,6 +236,8 @@ pub fn evaluate_by_class(
             "OSPA(2) is not given per class: it is normalised, so classes do not add up".into(),
         ));
     }
+    // The whole window, held to the limit a scene without classes has.
+    let window = crate::trajectory::evaluation_window(truth.0, estimate.0)?;
     let scenes = class_scenes(truth, estimate)?;
     let mut classes = Vec::with_capacity(scenes.len());
     for scene in scenes {
@@ -250,7 +252,6 @@ pub fn evaluate_by_class(
         .ok_or_else(|| Error::Parameter("no evaluation came back".into()))?;
         classes.push(ClassEvaluation { scene, evaluation });
     }
-    let window = Window::covering(truth.0, estimate.0);
     let mut overall = Evaluation {
         score: match &request.trajectory {
             Some(_) => {

@@ -254,6 +254,36 @@ fn switches_and_audit_come_per_class_and_together() {
         10.0,
         "CSV total of the pedestrians",
     );
+    // Switches as CSV: the class's rows under its name, no rows for all classes (the classes'
+    // rows are the whole). A full switch costs gamma^p = 1.
+    let csv = run(&[&["switches"], &base[..], &["-f", "csv"]].concat());
+    let csv = String::from_utf8(csv).unwrap();
+    let lines: Vec<&str> = csv.lines().collect();
+    assert_eq!(lines[0], "class,side,time,object,from,to,weight,cost");
+    assert_eq!(lines.len(), 5, "{csv}");
+    assert!(lines.contains(&"car,truth,3,a,p,q,1,1"), "{csv}");
+    assert!(
+        lines[1..].iter().all(|line| line.starts_with("car,")),
+        "{csv}"
+    );
+    // Steps as CSV: each class's window, then the whole window with an empty class; the cars
+    // are matched exactly (0) and the pedestrian is missed at every step (c^p/2 = 2.5).
+    // (steps takes no switching penalty: the base arguments without `-g 1`.)
+    let steps_args = [&base[..6], &base[8..]].concat();
+    let csv = run(&[&["steps"], &steps_args[..], &["-f", "csv"]].concat());
+    let csv = String::from_utf8(csv).unwrap();
+    let rows: Vec<Vec<&str>> = csv.lines().map(|l| l.split(',').collect()).collect();
+    assert_eq!(rows[0][..3], ["class", "time", "gospa"]);
+    assert_eq!(rows.len(), 1 + 4 + 4 + 4, "{csv}");
+    for (k, row) in rows[1..].iter().enumerate() {
+        let (class, expected) = match k / 4 {
+            0 => ("car", 0.0),
+            1 => ("pedestrian", 2.5),
+            _ => ("", 2.5),
+        };
+        assert_eq!(row[0], class, "{csv}");
+        close(row[2].parse().unwrap(), expected, "per-step GOSPA in CSV");
+    }
 }
 
 /// One seeded scene with `classes` classes: truths and tracks on random walks with gaps, each
