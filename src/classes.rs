@@ -205,7 +205,8 @@ pub struct ByClass {
     /// All classes together, each part when asked for: the score ([`sum_scores`]) and the
     /// per-step values ([`sum_steps`]) added up over the classes; the switches and the jumps of
     /// every class in time order; the audits combined ([`Audit::combine`]), each share taken of
-    /// the sum.
+    /// the sum. Each event and audited object here names its class (`class`); in the classes'
+    /// own evaluations it does not (they are as without classes).
     pub overall: Evaluation,
 }
 
@@ -275,14 +276,19 @@ pub fn evaluate_by_class(
         },
         switches: request.switches.then(|| {
             in_time_order(
-                classes.iter().map(|c| c.evaluation.switches.as_deref()),
+                &classes,
+                |c| c.evaluation.switches.as_deref(),
                 |e| e.time,
+                |e, class| e.class = Some(class.to_string()),
             )
         }),
         jumps: request.jumps.then(|| {
-            in_time_order(classes.iter().map(|c| c.evaluation.jumps.as_deref()), |e| {
-                e.time
-            })
+            in_time_order(
+                &classes,
+                |c| c.evaluation.jumps.as_deref(),
+                |e| e.time,
+                |e, class| e.class = Some(class.to_string()),
+            )
         }),
         ..Evaluation::default()
     };
@@ -290,21 +296,31 @@ pub fn evaluate_by_class(
         let total = overall.score.as_ref().map_or(0.0, |s| s.total);
         let audits = classes
             .iter()
-            .filter_map(|c| c.evaluation.audit.clone())
+            .filter_map(|c| Some((c.scene.class.clone(), c.evaluation.audit.clone()?)))
             .collect();
         overall.audit = Some(Audit::combine(audits, total));
     }
     Ok(ByClass { classes, overall })
 }
 
-/// The events of every class in one list, in time order (at one step, in class order).
-fn in_time_order<'a, T: Clone + 'a>(
-    lists: impl Iterator<Item = Option<&'a [T]>>,
-    time: impl Fn(&T) -> crate::trajectory::Step,
+/// The events of every class in one list (`events` gives a class's), each tagged with its
+/// class by `tag`, in time order (at one step, in class order).
+fn in_time_order<T: Clone>(
+    classes: &[ClassEvaluation],
+    events: fn(&ClassEvaluation) -> Option<&[T]>,
+    time: fn(&T) -> crate::trajectory::Step,
+    tag: fn(&mut T, &str),
 ) -> Vec<T> {
-    let mut all: Vec<T> = lists.flatten().flatten().cloned().collect();
+    let mut all = Vec::new();
+    for class in classes {
+        for event in events(class).unwrap_or_default() {
+            let mut event = event.clone();
+            tag(&mut event, &class.scene.class);
+            all.push(event);
+        }
+    }
     // A stable sort keeps the class order within a step.
-    all.sort_by_key(|event| time(event));
+    all.sort_by_key(time);
     all
 }
 

@@ -104,6 +104,10 @@ pub struct TruthAudit {
     pub missed: Vec<GapSpan>,
     /// What it costs.
     pub costs: TruthCosts,
+    /// The object class, in the list of all classes together (`--class-column`); absent
+    /// otherwise.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub class: Option<String>,
 }
 
 /// A run of steps during which an estimate followed one truth.
@@ -136,6 +140,10 @@ pub struct EstimateAudit {
     pub false_spans: Vec<GapSpan>,
     /// What it costs.
     pub costs: TrackCosts,
+    /// The object class, in the list of all classes together (`--class-column`); absent
+    /// otherwise.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub class: Option<String>,
 }
 
 /// The audit of a whole scene.
@@ -198,18 +206,25 @@ fn rank_by_switches(mut truths: Vec<TruthAudit>) -> Vec<TruthAudit> {
 }
 
 impl Audit {
-    /// The audits of a scene's disjoint parts (its classes) as one: the truths ranked together
-    /// by the switch ranking (ties in the order of `parts`), the tracks in the order of
-    /// `parts`, each object's share taken of `total`, the d^p of the whole scene.
-    pub fn combine(parts: Vec<Audit>, total: f64) -> Audit {
+    /// The audits of a scene's disjoint parts (its classes, each with its name) as one: each
+    /// object tagged with its part's name, the truths ranked together by the switch ranking
+    /// (ties in the order of `parts`), the tracks in the order of `parts`, each object's share
+    /// taken of `total`, the d^p of the whole scene.
+    pub fn combine(parts: Vec<(String, Audit)>, total: f64) -> Audit {
         let share = |cost: f64| if total > 0.0 { cost / total } else { 0.0 };
         let mut truths = Vec::new();
         let mut estimates = Vec::new();
-        for part in parts {
+        for (class, part) in parts {
             let mut part_truths = part.truths;
             part_truths.sort_by_key(|t| t.rank);
+            for truth in &mut part_truths {
+                truth.class = Some(class.clone());
+            }
             truths.extend(part_truths);
-            estimates.extend(part.estimates);
+            estimates.extend(part.estimates.into_iter().map(|estimate| EstimateAudit {
+                class: Some(class.clone()),
+                ..estimate
+            }));
         }
         for truth in &mut truths {
             truth.costs.share = share(truth.costs.total);
@@ -333,6 +348,7 @@ pub fn audit(
             covered,
             missed,
             costs: truth_costs[i],
+            class: None,
         });
     }
     let truths = rank_by_switches(truths);
@@ -460,5 +476,6 @@ fn estimate_audit(
         following,
         false_spans,
         costs: TrackCosts::default(),
+        class: None,
     }
 }

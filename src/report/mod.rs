@@ -139,6 +139,15 @@ pub fn param(value: f64) -> String {
     }
 }
 
+/// An object's id for text, followed by its class in brackets when it has one (in the lists
+/// of all classes together, where one id may stand in several classes).
+pub fn with_class(id: &str, class: Option<&str>) -> String {
+    match class {
+        Some(class) => format!("{id} [{class}]"),
+        None => id.to_string(),
+    }
+}
+
 /// "1 object", "2 objects": a count with its noun.
 pub fn plural(n: usize, one: &str, many: &str) -> String {
     format!("{n} {}", if n == 1 { one } else { many })

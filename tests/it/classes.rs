@@ -204,12 +204,18 @@ fn switches_and_audit_come_per_class_and_together() {
     );
     let events = switches["switches"].as_array().unwrap();
     assert_eq!(events.len(), 2);
-    assert!(events.iter().all(|e| e["time"] == 3));
+    assert!(events.iter().all(|e| e["time"] == 3 && e["class"] == "car"));
+    // A class's own document is as without classes: its events name no class.
+    let car_events = switches["classes"]["car"]["switches"].as_array().unwrap();
+    assert!(car_events.iter().all(|e| e.get("class").is_none()));
     let audit = json(&[&["audit"], &base[..], &["-f", "json"]].concat());
     let truths = audit["truths"].as_array().unwrap();
     assert_eq!(truths.len(), 3);
     // Ranked worst first by switches: the two cars (one full switch each), then the pedestrian.
-    assert_eq!(truths[2]["truth"], "m");
+    assert_eq!(
+        (truths[2]["truth"].as_str(), truths[2]["class"].as_str()),
+        (Some("m"), Some("pedestrian"))
+    );
     // The objects' costs add up to the total, so the shares of all classes add up to 1
     // (`specs/formats.md`, per-object costs): m carries 10 of 12.
     close(
