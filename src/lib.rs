@@ -14,6 +14,7 @@
 //! Modules:
 //! - [`evaluate`]: the one entry point: a truth, estimates, parameters and a request in; the
 //!   score, per-step values, switches, jumps and audit asked for out;
+//! - [`classes`]: object classes: splitting by class, evaluating each class, adding them up;
 //! - [`trajectory`]: trajectories, sets, evaluation windows and per-step frames;
 //! - [`input`]: the readers (CSV, grouped CSV, manifests) and the CSV writer;
 //! - [`distance`]: base distances and the cut-off arithmetic;
@@ -50,6 +51,7 @@
 #![warn(missing_docs)]
 
 pub mod assignment;
+pub mod classes;
 pub mod compare;
 pub mod distance;
 pub mod error;

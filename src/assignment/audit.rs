@@ -104,6 +104,10 @@ pub struct TruthAudit {
     pub missed: Vec<GapSpan>,
     /// What it costs.
     pub costs: TruthCosts,
+    /// The object class, in the list of all classes together (`--class-column`); absent
+    /// otherwise.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub class: Option<String>,
 }
 
 /// A run of steps during which an estimate followed one truth.
@@ -136,6 +140,10 @@ pub struct EstimateAudit {
     pub false_spans: Vec<GapSpan>,
     /// What it costs.
     pub costs: TrackCosts,
+    /// The object class, in the list of all classes together (`--class-column`); absent
+    /// otherwise.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub class: Option<String>,
 }
 
 /// The audit of a whole scene.
@@ -178,6 +186,56 @@ impl Audit {
     pub fn keep(&mut self, n: usize) {
         self.truths.truncate(n);
         self.estimates.truncate(n);
+    }
+}
+
+/// Ranks truths worst first by their switches, then the longest missed span, then the most
+/// missed steps, then their order in `truths`.
+fn rank_by_switches(mut truths: Vec<TruthAudit>) -> Vec<TruthAudit> {
+    // A stable sort keeps the input order among ties.
+    truths.sort_by(|x, y| {
+        y.switches
+            .total_cmp(&x.switches)
+            .then(y.longest_missed.cmp(&x.longest_missed))
+            .then(y.missed_steps.cmp(&x.missed_steps))
+    });
+    for (rank, entry) in truths.iter_mut().enumerate() {
+        entry.rank = rank + 1;
+    }
+    truths
+}
+
+impl Audit {
+    /// The audits of a scene's disjoint parts (its classes, each with its name) as one: each
+    /// object tagged with its part's name, the truths ranked together by the switch ranking
+    /// (ties in the order of `parts`), the tracks in the order of `parts`, each object's share
+    /// taken of `total`, the d^p of the whole scene.
+    pub fn combine(parts: Vec<(String, Audit)>, total: f64) -> Audit {
+        let share = |cost: f64| if total > 0.0 { cost / total } else { 0.0 };
+        let mut truths = Vec::new();
+        let mut estimates = Vec::new();
+        for (class, part) in parts {
+            let mut part_truths = part.truths;
+            part_truths.sort_by_key(|t| t.rank);
+            for truth in &mut part_truths {
+                truth.class = Some(class.clone());
+            }
+            truths.extend(part_truths);
+            estimates.extend(part.estimates.into_iter().map(|estimate| EstimateAudit {
+                class: Some(class.clone()),
+                ..estimate
+            }));
+        }
+        for truth in &mut truths {
+            truth.costs.share = share(truth.costs.total);
+        }
+        for estimate in &mut estimates {
+            estimate.costs.share = share(estimate.costs.false_);
+        }
+        Audit {
+            truths: rank_by_switches(truths),
+            estimates,
+        }
     }
 }
 
@@ -290,27 +348,10 @@ pub fn audit(
             covered,
             missed,
             costs: truth_costs[i],
+            class: None,
         });
     }
-    let mut ranked: Vec<usize> = (0..truths.len()).collect();
-    ranked.sort_by(|&a, &b| {
-        let (x, y) = (&truths[a], &truths[b]);
-        y.switches
-            .total_cmp(&x.switches)
-            .then(y.longest_missed.cmp(&x.longest_missed))
-            .then(y.missed_steps.cmp(&x.missed_steps))
-            .then(a.cmp(&b))
-    });
-    let mut truths: Vec<Option<TruthAudit>> = truths.into_iter().map(Some).collect();
-    let truths: Vec<TruthAudit> = ranked
-        .iter()
-        .enumerate()
-        .map(|(rank, &index)| {
-            let mut entry = truths[index].take().expect("each truth ranked once");
-            entry.rank = rank + 1;
-            entry
-        })
-        .collect();
+    let truths = rank_by_switches(truths);
     let estimates = estimate
         .trajectories()
         .iter()
@@ -435,5 +476,6 @@ fn estimate_audit(
         following,
         false_spans,
         costs: TrackCosts::default(),
+        class: None,
     }
 }

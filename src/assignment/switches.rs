@@ -47,6 +47,10 @@ pub struct SwitchEvent {
     pub weight: f64,
     /// gamma^p x weight for a full switch, half that for a half switch.
     pub cost: f64,
+    /// The object class, in the list of all classes together (`--class-column`); absent
+    /// otherwise.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub class: Option<String>,
 }
 
 /// One jump seen from an estimate: the track passes `from` one truth `to` another.
@@ -64,6 +68,10 @@ pub struct JumpEvent {
     pub weight: f64,
     /// gamma^p x weight for a full jump, half that for a half jump.
     pub cost: f64,
+    /// The object class, in the list of all classes together (`--class-column`); absent
+    /// otherwise.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub class: Option<String>,
 }
 
 /// A generic event before ids are attached: `owner` is the truth (or estimate) index, `from`
@@ -270,6 +278,7 @@ pub fn switch_events(
             to: id(estimate, t.to),
             weight: t.weight,
             cost: cost(params, &t),
+            class: None,
         })
         .collect()
 }
@@ -291,6 +300,7 @@ pub fn jump_events(
             to: id(truth, t.to),
             weight: t.weight,
             cost: cost(params, &t),
+            class: None,
         })
         .collect()
 }
@@ -311,6 +321,21 @@ pub struct SwitchKinds {
     /// Hand-overs: the other full events (the old track goes on, following something else or
     /// nothing).
     pub handovers: usize,
+}
+
+impl std::ops::Add for SwitchKinds {
+    type Output = SwitchKinds;
+
+    /// The kinds of two disjoint parts of a scene (two classes) together.
+    fn add(self, other: SwitchKinds) -> SwitchKinds {
+        SwitchKinds {
+            full: self.full + other.full,
+            half: self.half + other.half,
+            swaps: self.swaps + other.swaps,
+            breaks: self.breaks + other.breaks,
+            handovers: self.handovers + other.handovers,
+        }
+    }
 }
 
 /// Sorts truth-side switch `events` (as from [`switch_events`]) into [`SwitchKinds`]: a swap
@@ -382,6 +407,7 @@ mod kinds_tests {
             to: to.map(Into::into),
             weight: 1.0,
             cost: 1.0,
+            class: None,
         }
     }
 

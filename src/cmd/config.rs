@@ -5,9 +5,10 @@
 
 use clap::ValueEnum;
 
+use switchyard::classes::{evaluate_by_class, ClassEvaluation, PointClasses};
 use switchyard::distance::Distance;
 use switchyard::evaluate::{evaluate, Evaluation, Request};
-use switchyard::input::{read_csv_path, CsvLayout, TrajectoryFile};
+use switchyard::input::{read_classed_csv_path, read_csv_path, CsvLayout, TrajectoryFile};
 use switchyard::report::InputInfo;
 use switchyard::trajectory_metric::{Engine, ExactBudget, SolveOptions, TrajectoryParams};
 use switchyard::{Error, Result};
@@ -26,6 +27,8 @@ pub struct Inputs {
     pub distance: Distance,
     /// `--time-step`: the step size in the input's time units.
     pub time_step: Option<f64>,
+    /// With `--class-column`: the class of every point of the truth and of the estimate.
+    pub classes: Option<(PointClasses, PointClasses)>,
 }
 
 impl Inputs {
@@ -126,18 +129,41 @@ impl InputArgs {
                 )));
             }
         }
-        let (truth, mut estimates, distance) = read_files(
+        let Some(class_column) = &self.class_column else {
+            let (truth, mut estimates, distance) = read_files(
+                &self.truth,
+                &[&self.estimate],
+                &self.csv,
+                &self.distance,
+                cutoff,
+            )?;
+            return Ok(Inputs {
+                truth,
+                estimate: estimates.pop().expect("one estimate was read"),
+                distance,
+                time_step: self.csv.time_step,
+                classes: None,
+            });
+        };
+        let (mut truth, mut estimates, distance) = read_with(
             &self.truth,
             &[&self.estimate],
             &self.csv,
             &self.distance,
             cutoff,
+            |path, layout| {
+                let classed = read_classed_csv_path(path, layout, class_column)?;
+                Ok((classed.file, Some(classed.classes)))
+            },
         )?;
+        let (estimate, estimate_classes) = estimates.pop().expect("one estimate was read");
+        let truth_classes = truth.1.take().unwrap_or_default();
         Ok(Inputs {
-            truth,
-            estimate: estimates.pop().expect("one estimate was read"),
+            truth: truth.0,
+            estimate,
             distance,
             time_step: self.csv.time_step,
+            classes: Some((truth_classes, estimate_classes.unwrap_or_default())),
         })
     }
 }
@@ -153,19 +179,39 @@ pub fn read_files(
     distance: &DistanceOptions,
     cutoff: f64,
 ) -> Result<(TrajectoryFile, Vec<TrajectoryFile>, Distance)> {
+    let (truth, estimates, distance) =
+        read_with(truth, estimates, csv, distance, cutoff, |path, layout| {
+            Ok((read_csv_path(path, layout)?, None))
+        })?;
+    let estimates = estimates.into_iter().map(|(file, _)| file).collect();
+    Ok((truth.0, estimates, distance))
+}
+
+/// A file read, with the classes of its points when they were read.
+type ReadFile = (TrajectoryFile, Option<PointClasses>);
+
+/// [`read_files`] with the reader `read` (which may read classes too).
+fn read_with(
+    truth: &str,
+    estimates: &[&str],
+    csv: &CsvOptions,
+    distance: &DistanceOptions,
+    cutoff: f64,
+    read: impl Fn(&str, &CsvLayout) -> Result<ReadFile>,
+) -> Result<(ReadFile, Vec<ReadFile>, Distance)> {
     let distance = distance.build(csv)?;
     distance.check_cutoff(cutoff)?;
     let layout = csv.layout(&distance);
-    let truth = read_csv_path(truth, &layout)?;
+    let truth = read(truth, &layout)?;
     let estimates = estimates
         .iter()
         .map(|file| {
-            let estimate = read_csv_path(file, &layout)?;
-            truth.check_comparable(&estimate)?;
+            let estimate = read(file, &layout)?;
+            truth.0.check_comparable(&estimate.0)?;
             Ok(estimate)
         })
         .collect::<Result<Vec<_>>>()?;
-    distance.validate(truth.set.dim(), cutoff)?;
+    distance.validate(truth.0.set.dim(), cutoff)?;
     Ok((truth, estimates, distance))
 }
 
@@ -242,11 +288,13 @@ pub fn check_trackers(truth: &str, estimates: &[NamedFile]) -> Result<()> {
 /// Reads the inputs and evaluates them as `request` asks, with the trajectory parameters and
 /// solve options of `args`: shared by the commands built on the trajectory LP. The solve's
 /// progress shows on standard error when it is a terminal, and its notes are written there.
+/// With classes, the evaluation is that of all classes together, and each class's comes
+/// beside it.
 pub fn evaluate_trajectory(
     args: &TrajectoryArgs,
     output: &OutputArgs,
     request: Request,
-) -> anyhow::Result<(Inputs, Evaluation)> {
+) -> anyhow::Result<(Inputs, Evaluation, Option<Vec<ClassEvaluation>>)> {
     output.check(args.input.paths())?;
     let params = args.params()?;
     let inputs = args.input.read(params.cutoff)?;
@@ -255,13 +303,58 @@ pub fn evaluate_trajectory(
         solve: args.metric.solve_options(),
         ..request
     };
-    let evaluation = evaluate_single(&inputs, &request, &solve_progress())?;
+    let (evaluation, classes) = evaluate_inputs(&inputs, &request, &solve_progress())?;
     if let Some(score) = &evaluation.score {
         for note in &score.notes {
             eprintln!("switchyard: note: {note}");
         }
     }
-    Ok((inputs, evaluation))
+    Ok((inputs, evaluation, classes))
+}
+
+/// [`evaluate`] on the one estimate of `inputs`; with classes, [`evaluate_by_class`]: the
+/// evaluation of all classes together, and each class's. A track cut into pieces by class is
+/// noted on standard error.
+pub fn evaluate_inputs(
+    inputs: &Inputs,
+    request: &Request,
+    progress: &(dyn Fn(switchyard::trajectory_metric::Progress) + Sync),
+) -> Result<(Evaluation, Option<Vec<ClassEvaluation>>)> {
+    let Some((truth_classes, estimate_classes)) = &inputs.classes else {
+        return Ok((evaluate_single(inputs, request, progress)?, None));
+    };
+    for (file, classes, one, many) in [
+        (
+            &inputs.truth,
+            truth_classes,
+            "truth carries",
+            "truths carry",
+        ),
+        (
+            &inputs.estimate,
+            estimate_classes,
+            "track carries",
+            "tracks carry",
+        ),
+    ] {
+        let mixed = classes.mixed();
+        if mixed > 0 {
+            eprintln!(
+                "switchyard: note: {}: {} more than one class; each is scored as one piece per \
+                 class",
+                file.source,
+                switchyard::report::plural(mixed, one, many)
+            );
+        }
+    }
+    let by_class = evaluate_by_class(
+        (&inputs.truth.set, truth_classes),
+        (&inputs.estimate.set, estimate_classes),
+        &inputs.distance,
+        request,
+        progress,
+    )?;
+    Ok((by_class.overall, Some(by_class.classes)))
 }
 
 /// [`evaluate`] on the one estimate of `inputs`.

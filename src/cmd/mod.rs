@@ -16,6 +16,7 @@ use clap::Subcommand;
 use switchyard::Error;
 
 mod audit;
+mod by_class;
 mod compare;
 mod config;
 mod options;

@@ -25,6 +25,11 @@ pub struct InputArgs {
     pub csv: CsvOptions,
     #[command(flatten)]
     pub distance: DistanceOptions,
+    /// Name of a column giving each row's class (car, pedestrian ...): objects are matched
+    /// only within their class, and results come per class and for all classes together. A
+    /// track whose rows carry several classes is cut into one piece per class.
+    #[arg(long, value_name = "NAME")]
+    pub class_column: Option<String>,
 }
 
 /// How CSV files are read: the columns, the times and the delimiter.

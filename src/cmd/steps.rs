@@ -1,12 +1,16 @@
 //! `switchyard steps`: per-step GOSPA over time.
 
+use std::io::Write;
+
 use clap::Args;
 
 use switchyard::evaluate::Request;
 use switchyard::per_step::GospaParams;
+use switchyard::report::classes::class_info;
 use switchyard::report::steps;
 
-use super::config::evaluate_single;
+use super::by_class::{self, Part};
+use super::config::evaluate_inputs;
 use super::options::InputArgs;
 use super::output::{Format, OutputArgs};
 
@@ -35,15 +39,32 @@ pub fn run(args: &StepsArgs) -> anyhow::Result<()> {
     args.output.check(args.input.paths())?;
     let params = GospaParams::new(args.cutoff, args.order, args.alpha)?;
     let inputs = args.input.read(args.cutoff)?;
-    let evaluation = evaluate_single(&inputs, &Request::steps(params), &|_| {})?;
-    let series = evaluation.steps.expect("the steps were asked for");
+    let (evaluation, classes) = evaluate_inputs(&inputs, &Request::steps(params), &|_| {})?;
     let info = inputs.info();
-    args.output.emit(|out| {
-        match args.format {
-            Format::Text => steps::write_text(out, &series, &params, &info)?,
-            Format::Csv => steps::write_csv_timed(out, &series, inputs.time_step)?,
-            Format::Json => steps::write_json(out, &series, &params, &info)?,
+    let classes = classes.as_deref();
+    let render = |format: Format, mut out: &mut dyn Write, part: Part| -> anyhow::Result<()> {
+        let (evaluation, info) = match part {
+            Part::Class(k) => {
+                let class = &classes.unwrap_or_default()[k];
+                (&class.evaluation, class_info(&info, &class.scene))
+            }
+            Part::All => (&evaluation, info.clone()),
+        };
+        let series = evaluation
+            .steps
+            .as_ref()
+            .ok_or_else(|| anyhow::anyhow!("the steps were asked for"))?;
+        match format {
+            Format::Text => steps::write_text(&mut out, series, &params, &info)?,
+            Format::Csv => steps::write_csv_timed(&mut out, series, inputs.time_step)?,
+            Format::Json => steps::write_json(&mut out, series, &params, &info)?,
         }
         Ok(())
-    })
+    };
+    match classes {
+        None => args.output.emit(|out| render(args.format, out, Part::All)),
+        Some(classes) => by_class::emit(&args.output, args.format, classes, true, &render, &|_| {
+            Ok(())
+        }),
+    }
 }

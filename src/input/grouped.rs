@@ -13,7 +13,7 @@ use std::io::{self, Read};
 
 use indexmap::IndexMap;
 
-use super::csv::{CsvLayout, ObjectMap, ObjectPoints, Rows};
+use super::csv::{optional_column, CsvLayout, ObjectMap, ObjectPoints, Rows};
 use crate::error::{Error, Location, Result};
 use crate::trajectory::TrajectorySet;
 
@@ -125,8 +125,8 @@ pub fn read_grouped_csv<R: Read>(
             )));
         }
     }
-    let sequence_column = group_position(&rows.names, &groups.sequence, source)?;
-    let run_column = group_position(&rows.names, &groups.run, source)?;
+    let sequence_column = optional_column(&rows.names, &groups.sequence, source)?;
+    let run_column = optional_column(&rows.names, &groups.run, source)?;
     let mut found: IndexMap<(String, String), GroupPoints> = IndexMap::new();
     let mut last: Option<(usize, usize)> = None;
     while rows.advance()? {
@@ -228,23 +228,6 @@ fn check_group_names(layout: &CsvLayout, groups: &GroupColumns) -> Result<()> {
         )));
     }
     Ok(())
-}
-
-/// The position of a group column, if the header has it once.
-fn group_position(names: &[String], wanted: &str, source: &str) -> Result<Option<usize>> {
-    let mut positions = names
-        .iter()
-        .enumerate()
-        .filter(|(_, name)| name.as_str() == wanted)
-        .map(|(position, _)| position);
-    let first = positions.next();
-    if let Some(second) = positions.next() {
-        return Err(Error::input(
-            Location::line(source, 1).with_column(second + 1, wanted),
-            format!("the header names the column {wanted:?} twice"),
-        ));
-    }
-    Ok(first)
 }
 
 #[cfg(test)]

@@ -9,4 +9,7 @@ pub mod csv;
 pub mod grouped;
 pub mod manifest;
 
-pub use self::csv::{read_csv, read_csv_path, write_csv, CsvLayout, TrajectoryFile};
+pub use self::csv::{
+    read_classed_csv, read_classed_csv_path, read_csv, read_csv_path, write_csv, ClassedFile,
+    CsvLayout, TrajectoryFile,
+};

@@ -5,7 +5,8 @@ use std::io::Write;
 use serde::Serialize;
 
 use super::{
-    count, fixed, input_time, printable, write_run_header, write_table, Exactness, InputInfo,
+    count, fixed, input_time, printable, with_class, write_run_header, write_table, Exactness,
+    InputInfo,
 };
 use crate::assignment::audit::{EstimateAudit, TruthAudit};
 use crate::trajectory::Step;
@@ -176,7 +177,7 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
         .map(|t| {
             vec![
                 t.rank.to_string(),
-                t.truth.clone(),
+                with_class(&t.truth, t.class.as_deref()),
                 count(t.switches),
                 t.longest_missed.to_string(),
                 format!("{}/{}", t.covered_steps, t.present_steps),
@@ -202,7 +203,8 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
     )?;
     for t in document.truths {
         writeln!(out)?;
-        writeln!(out, "{} (rank {}):", printable(&t.truth), t.rank)?;
+        let truth = with_class(&t.truth, t.class.as_deref());
+        writeln!(out, "{} (rank {}):", printable(&truth), t.rank)?;
         let mut lines: Vec<(i64, String)> = Vec::new();
         let times = |first: Step, last: Step| match document.inputs.time_step {
             Some(dt) => format!(
@@ -265,7 +267,7 @@ pub fn write_text<W: Write>(out: &mut W, document: &AuditDocument) -> std::io::R
                 .map(|s| format!("{} {}..{}", s.truth, s.first, s.last))
                 .collect();
             vec![
-                e.estimate.clone(),
+                with_class(&e.estimate, e.class.as_deref()),
                 e.present_steps.to_string(),
                 e.false_steps.to_string(),
                 fixed(e.costs.false_, 2),

@@ -3,6 +3,7 @@
 //! same input gives the same bytes.
 
 pub mod audit;
+pub mod classes;
 pub mod compare;
 pub mod html;
 pub mod ospa2;
@@ -135,6 +136,15 @@ pub fn param(value: f64) -> String {
         format!("{value:e}")
     } else {
         value.to_string()
+    }
+}
+
+/// An object's id for text, followed by its class in brackets when it has one (in the lists
+/// of all classes together, where one id may stand in several classes).
+pub fn with_class(id: &str, class: Option<&str>) -> String {
+    match class {
+        Some(class) => format!("{id} [{class}]"),
+        None => id.to_string(),
     }
 }
 

@@ -4,7 +4,9 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use super::{fixed, input_time, write_run_header, write_table, Exactness, InputInfo, TimedEvents};
+use super::{
+    fixed, input_time, with_class, write_run_header, write_table, Exactness, InputInfo, TimedEvents,
+};
 use crate::assignment::switches::{JumpEvent, SwitchEvent, SwitchKinds};
 use crate::trajectory::Step;
 use crate::trajectory_metric::TrajectoryParams;
@@ -95,6 +97,7 @@ struct EventRow<'a> {
     to: &'a Option<String>,
     weight: f64,
     cost: f64,
+    class: Option<&'a str>,
 }
 
 /// The truth-side and the track-side events as rows.
@@ -112,6 +115,7 @@ fn event_rows<'a>(
             to: &e.to,
             weight: e.weight,
             cost: e.cost,
+            class: e.class.as_deref(),
         })
         .collect();
     let track_rows = jumps
@@ -124,6 +128,7 @@ fn event_rows<'a>(
             to: &e.to,
             weight: e.weight,
             cost: e.cost,
+            class: e.class.as_deref(),
         })
         .collect();
     (truth_rows, track_rows)
@@ -149,7 +154,7 @@ fn write_events<W: Write>(
                 row.push(input_time(e.time, dt).to_string());
             }
             row.extend([
-                e.object.to_string(),
+                with_class(e.object, e.class),
                 label(e.from),
                 "->".to_string(),
                 label(e.to),

@@ -308,15 +308,8 @@ pub fn score_with_progress(
         methods.push((component.method, component.iterations));
         notes.extend(component.note);
         let s = component.stats;
-        stats.lp_components += s.lp_components;
-        stats.variables += s.variables;
-        stats.constraints += s.constraints;
-        stats.nonzeros += s.nonzeros;
+        stats.add_solve(&s);
         stats.largest_variables = stats.largest_variables.max(s.variables);
-        stats.cells += s.cells;
-        stats.paths_seconds += s.paths_seconds;
-        stats.repair_seconds += s.repair_seconds;
-        stats.simplex_seconds += s.simplex_seconds;
         assignments.extend(component.pairs);
     }
     assignments.sort_by_key(|p| (p.truth, p.estimate));

@@ -127,6 +127,22 @@ pub struct SolveStats {
     pub simplex_seconds: f64,
 }
 
+impl SolveStats {
+    /// Adds the sizes and times of a solve of other groups: the LP counts and the seconds
+    /// solving add up. The candidate pairs, the groups, the seconds finding them and the
+    /// largest group are the caller's to combine.
+    pub fn add_solve(&mut self, other: &SolveStats) {
+        self.lp_components += other.lp_components;
+        self.variables += other.variables;
+        self.constraints += other.constraints;
+        self.nonzeros += other.nonzeros;
+        self.cells += other.cells;
+        self.paths_seconds += other.paths_seconds;
+        self.repair_seconds += other.repair_seconds;
+        self.simplex_seconds += other.simplex_seconds;
+    }
+}
+
 /// The proof behind a score: bounds of the LP optimum and how each component was solved.
 ///
 /// `lower <= LP optimum <= upper = total`. When `proven`, `upper - lower` is within the

@@ -1,6 +1,7 @@
 //! switchyard's integration tests: one binary, one module per topic.
 
 mod bad_input;
+mod classes;
 mod cli;
 mod compare;
 mod distances;

@@ -47,6 +47,7 @@ fn switch(time: i64, truth: &str, from: Option<&str>, to: Option<&str>, cost: f6
         to: to.map(Into::into),
         weight: 1.0,
         cost,
+        class: None,
     }
 }
 
@@ -58,6 +59,7 @@ fn jump(time: i64, estimate: &str, from: Option<&str>, to: Option<&str>, cost: f
         to: to.map(Into::into),
         weight: 1.0,
         cost,
+        class: None,
     }
 }
 

@@ -132,6 +132,30 @@ pub(crate) fn find_columns(
     })
 }
 
+/// The position of an optional column (a group or class column), if the header has it once.
+///
+/// # Errors
+/// The header names the column twice: the error points at the second.
+pub(crate) fn optional_column(
+    names: &[String],
+    wanted: &str,
+    source: &str,
+) -> Result<Option<usize>> {
+    let mut positions = names
+        .iter()
+        .enumerate()
+        .filter(|(_, name)| name.as_str() == wanted)
+        .map(|(position, _)| position);
+    let first = positions.next();
+    if let Some(second) = positions.next() {
+        return Err(Error::input(
+            Location::line(source, 1).with_column(second + 1, wanted),
+            format!("the header names the column {wanted:?} twice"),
+        ));
+    }
+    Ok(first)
+}
+
 /// The longest header name quoted in a message; a longer one means the first line is not a
 /// CSV header.
 const MAX_QUOTED_NAME: usize = 64;

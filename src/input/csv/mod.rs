@@ -21,10 +21,14 @@ mod rows;
 use std::fs::File;
 use std::io::{self, Read};
 
+use indexmap::IndexMap;
+
+use crate::classes::PointClasses;
 use crate::distance::Distance;
 use crate::error::{Error, Location, Result};
 use crate::trajectory::{Step, TrajectorySet};
 
+pub(crate) use self::header::optional_column;
 pub(crate) use self::lines::LineIndex;
 pub(crate) use self::rows::{ObjectMap, ObjectPoints, Rows};
 
@@ -101,8 +105,27 @@ impl TrajectoryFile {
 /// # Errors
 /// The file cannot be opened or read, or its content is not valid (see [`read_csv`]).
 pub fn read_csv_path(path: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
+    with_path(path, |reader, source| read_csv(reader, source, layout))
+}
+
+/// Reads a CSV file with a class column, or standard input when `path` is `-`.
+///
+/// # Errors
+/// The file cannot be opened or read, or its content is not valid (see [`read_classed_csv`]).
+pub fn read_classed_csv_path(
+    path: &str,
+    layout: &CsvLayout,
+    class_column: &str,
+) -> Result<ClassedFile> {
+    with_path(path, |reader, source| {
+        read_classed_csv(reader, source, layout, class_column)
+    })
+}
+
+/// Opens `path` (standard input for `-`) and hands it to `read` with the name messages use.
+fn with_path<T>(path: &str, read: impl FnOnce(&mut dyn Read, &str) -> Result<T>) -> Result<T> {
     if path == "-" {
-        return read_csv(io::stdin().lock(), "<stdin>", layout);
+        return read(&mut io::stdin().lock(), "<stdin>");
     }
     check_file_name(path)?;
     let io_error = |error| Error::Io {
@@ -117,7 +140,7 @@ pub fn read_csv_path(path: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
         ));
     }
     let file = File::open(path).map_err(io_error)?;
-    read_csv(io::BufReader::with_capacity(1 << 16, file), path, layout)
+    read(&mut io::BufReader::with_capacity(1 << 16, file), path)
 }
 
 /// Refuses an empty file name (the operating system's message for it, ": No such file", names
@@ -139,7 +162,54 @@ pub(crate) fn check_file_name(path: &str) -> Result<()> {
 /// value that is not a finite number or that the layout's distance cannot read, two rows of one
 /// id at one step.
 pub fn read_csv<R: Read>(reader: R, source: &str, layout: &CsvLayout) -> Result<TrajectoryFile> {
+    Ok(read_rows(reader, source, layout, None)?.0)
+}
+
+/// A trajectory file read with a class on every row.
+#[derive(Clone, Debug)]
+pub struct ClassedFile {
+    /// The file, each id one trajectory whatever the classes of its rows.
+    pub file: TrajectoryFile,
+    /// The class of each point of each trajectory.
+    pub classes: PointClasses,
+}
+
+/// Reads trajectories from CSV text whose column `class_column` gives each row's class (a
+/// trimmed, non-empty text). An id whose rows carry several classes stays one trajectory
+/// here; [`PointClasses::split`] cuts it into one piece per class. `source` names the input
+/// in messages.
+///
+/// # Errors
+/// Everything [`read_csv`] reports, and: a class column that is also the time, the id or a
+/// state column, that the header lacks or names twice, a class that is empty or not UTF-8;
+/// each names the file, and the line and column where it applies.
+pub fn read_classed_csv<R: Read>(
+    reader: R,
+    source: &str,
+    layout: &CsvLayout,
+    class_column: &str,
+) -> Result<ClassedFile> {
+    let (file, classes) = read_rows(reader, source, layout, Some(class_column))?;
+    Ok(ClassedFile {
+        file,
+        classes: classes.unwrap_or_default(),
+    })
+}
+
+/// The reading behind [`read_csv`] and [`read_classed_csv`]: with a class column, the class
+/// of every point too.
+fn read_rows<R: Read>(
+    reader: R,
+    source: &str,
+    layout: &CsvLayout,
+    class_column: Option<&str>,
+) -> Result<(TrajectoryFile, Option<PointClasses>)> {
     let mut rows = Rows::open(reader, source, layout)?;
+    let class_position = match class_column {
+        Some(name) => Some(class_position(&rows, layout, source, name)?),
+        None => None,
+    };
+    let mut class_names: IndexMap<String, (), rustc_hash::FxBuildHasher> = IndexMap::default();
     let mut objects = ObjectMap::default();
     let mut last_id: Option<usize> = None;
     while rows.advance()? {
@@ -156,13 +226,61 @@ pub fn read_csv<R: Read>(reader: R, source: &str, layout: &CsvLayout) -> Result<
             },
         };
         last_id = Some(index);
-        rows.push_point(step, &mut objects[index])?;
+        if let Some(position) = class_position {
+            let class = rows.class(position)?;
+            let class = match class_names.get_index_of(class) {
+                Some(class) => class,
+                None => class_names.insert_full(class.to_string(), ()).0,
+            };
+            let class = u32::try_from(class).map_err(|_| {
+                Error::input(rows.at(position), "more than 2^32 classes in one file")
+            })?;
+            // Pushed after the point so that a point refused leaves no class behind.
+            rows.push_point(step, &mut objects[index])?;
+            objects[index].classes.push(class);
+        } else {
+            rows.push_point(step, &mut objects[index])?;
+        }
     }
-    let set = rows.finish_set(objects)?;
-    Ok(TrajectoryFile {
+    let (set, point_classes) = rows.finish_set_with_classes(objects)?;
+    let classes = class_position
+        .map(|_| PointClasses::new(class_names.into_keys().collect(), point_classes))
+        .transpose()?;
+    let file = TrajectoryFile {
         source: source.to_string(),
         state_columns: rows.columns.names,
         set,
+    };
+    Ok((file, classes))
+}
+
+/// Where the class column is in the header.
+///
+/// # Errors
+/// A class column that is also the time, the id or a state column, that the header lacks, or
+/// that it names twice.
+fn class_position<R: Read>(
+    rows: &Rows<R>,
+    layout: &CsvLayout,
+    source: &str,
+    name: &str,
+) -> Result<usize> {
+    if name.trim().is_empty() {
+        return Err(Error::Parameter("the class column needs a name".into()));
+    }
+    if name == layout.time_column
+        || name == layout.id_column
+        || rows.columns.names.iter().any(|n| n == name)
+    {
+        return Err(Error::Parameter(format!(
+            "the class column {name:?} is also the time, the id or a state column"
+        )));
+    }
+    optional_column(&rows.names, name, source)?.ok_or_else(|| {
+        Error::input(
+            Location::line(source, 1),
+            format!("the header has no class column {name:?}"),
+        )
     })
 }
 

@@ -106,12 +106,14 @@ fn integer_text(text: &str) -> Option<i64> {
 pub(crate) type ObjectMap = IndexMap<String, ObjectPoints, rustc_hash::FxBuildHasher>;
 
 /// The points of one object in reading order: their steps, the lines they were read from (for
-/// messages) and their states, `dim` values each.
+/// messages), their states, `dim` values each, and, when the input has a class column, the
+/// class of each point (an index into the classes met so far; empty otherwise).
 #[derive(Default)]
 pub(crate) struct ObjectPoints {
     pub(crate) steps: Vec<Step>,
     pub(crate) lines: Vec<u64>,
     pub(crate) states: Vec<f64>,
+    pub(crate) classes: Vec<u32>,
 }
 
 /// The data rows of a CSV input, read the way every reader here shares: the header and its
@@ -280,33 +282,64 @@ impl<'a, R: Read> Rows<'a, R> {
         Ok(())
     }
 
+    /// The current row's class, read from the field at `position`.
+    ///
+    /// # Errors
+    /// A class that is empty or not UTF-8.
+    pub(crate) fn class(&self, position: usize) -> Result<&str> {
+        let class = std::str::from_utf8(self.field(position))
+            .map_err(|_| Error::input(self.at(position), "the class is not valid UTF-8"))?;
+        if class.is_empty() {
+            return Err(Error::input(
+                self.at(position),
+                "the class is empty (every row needs one when a class column is given)",
+            ));
+        }
+        Ok(class)
+    }
+
     /// Turns the objects read into a set; two rows of one object at one step are an error
     /// naming the second row's line and the time column.
     pub(crate) fn finish_set(&self, objects: ObjectMap) -> Result<TrajectorySet> {
+        Ok(self.finish_set_with_classes(objects)?.0)
+    }
+
+    /// [`Rows::finish_set`], with the class of each point of each trajectory in step order
+    /// (empty lists when no classes were read).
+    pub(crate) fn finish_set_with_classes(
+        &self,
+        objects: ObjectMap,
+    ) -> Result<(TrajectorySet, Vec<Vec<u32>>)> {
         let dim = self.columns.state.len();
         let time_name = self.layout.time_column.as_str();
         let mut trajectories = Vec::with_capacity(objects.len());
+        let mut classes = Vec::with_capacity(objects.len());
         for (id, points) in objects {
-            trajectories.push(finish_object(id, dim, points).map_err(|(line, message)| {
-                Error::input(
-                    Location::line(self.source, line).with_column(self.columns.time + 1, time_name),
-                    message,
-                )
-            })?);
+            let (trajectory, point_classes) =
+                finish_object(id, dim, points).map_err(|(line, message)| {
+                    Error::input(
+                        Location::line(self.source, line)
+                            .with_column(self.columns.time + 1, time_name),
+                        message,
+                    )
+                })?;
+            trajectories.push(trajectory);
+            classes.push(point_classes);
         }
-        TrajectorySet::new(dim, trajectories)
+        Ok((TrajectorySet::new(dim, trajectories)?, classes))
     }
 }
 
-/// Sorts an object's points by step and rejects two points at one step.
+/// Sorts an object's points by step and rejects two points at one step; the points' classes
+/// (if any) come back in the same order.
 pub(crate) fn finish_object(
     id: String,
     dim: usize,
     points: ObjectPoints,
-) -> std::result::Result<Trajectory, (u64, String)> {
+) -> std::result::Result<(Trajectory, Vec<u32>), (u64, String)> {
     let sorted = points.steps.windows(2).all(|w| w[0] < w[1]);
-    let (steps, lines, states) = if sorted {
-        (points.steps, points.lines, points.states)
+    let (steps, lines, states, classes) = if sorted {
+        (points.steps, points.lines, points.states, points.classes)
     } else {
         let mut order: Vec<usize> = (0..points.steps.len()).collect();
         order.sort_by_key(|&i| (points.steps[i], points.lines[i]));
@@ -316,7 +349,12 @@ pub(crate) fn finish_object(
         for &i in &order {
             states.extend_from_slice(&points.states[i * dim..(i + 1) * dim]);
         }
-        (steps, lines, states)
+        let classes = if points.classes.is_empty() {
+            Vec::new()
+        } else {
+            order.iter().map(|&i| points.classes[i]).collect()
+        };
+        (steps, lines, states, classes)
     };
     if let Some(k) = (1..steps.len()).find(|&k| steps[k] == steps[k - 1]) {
         return Err((
@@ -328,5 +366,8 @@ pub(crate) fn finish_object(
             ),
         ));
     }
-    Ok(Trajectory::from_checked_parts(id, dim, steps, states))
+    Ok((
+        Trajectory::from_checked_parts(id, dim, steps, states),
+        classes,
+    ))
 }
