@@ -322,8 +322,31 @@ pub fn gospa_between(
     )
 }
 
+/// The localisation, missed and false keys as every JSON output writes them: the localisation
+/// part under `localisation` and, for one release, also under its earlier key `localization`.
+#[derive(Serialize)]
+pub(crate) struct PartKeys<'a, T> {
+    localisation: &'a T,
+    localization: &'a T,
+    missed: &'a T,
+    #[serde(rename = "false")]
+    false_: &'a T,
+}
+
+impl<'a, T> PartKeys<'a, T> {
+    /// The keys of these three parts.
+    pub(crate) fn new(localisation: &'a T, missed: &'a T, false_: &'a T) -> Self {
+        PartKeys {
+            localisation,
+            localization: localisation,
+            missed,
+            false_,
+        }
+    }
+}
+
 /// One step's GOSPA and its parts.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct StepScore {
     /// The step.
     pub time: Step,
@@ -334,7 +357,6 @@ pub struct StepScore {
     /// Missed part, in p-th power units (alpha = 2 only).
     pub missed: Option<f64>,
     /// False part, in p-th power units (alpha = 2 only).
-    #[serde(rename = "false")]
     pub false_: Option<f64>,
     /// Truths present and not assigned.
     pub missed_count: usize,
@@ -346,8 +368,37 @@ pub struct StepScore {
     pub estimate_count: usize,
 }
 
+/// How [`StepScore`] is written: its fields in order, the localisation part under
+/// `localisation` and, for one release, also under its earlier key `localization`.
+#[derive(Serialize)]
+struct StepScoreKeys<'a> {
+    time: &'a Step,
+    gospa: &'a f64,
+    #[serde(flatten)]
+    parts: PartKeys<'a, Option<f64>>,
+    missed_count: &'a usize,
+    false_count: &'a usize,
+    truth_count: &'a usize,
+    estimate_count: &'a usize,
+}
+
+impl Serialize for StepScore {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        StepScoreKeys {
+            time: &self.time,
+            gospa: &self.gospa,
+            parts: PartKeys::new(&self.localization, &self.missed, &self.false_),
+            missed_count: &self.missed_count,
+            false_count: &self.false_count,
+            truth_count: &self.truth_count,
+            estimate_count: &self.estimate_count,
+        }
+        .serialize(serializer)
+    }
+}
+
 /// Totals over the window.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct StepSummary {
     /// Steps in the window.
     pub steps: usize,
@@ -362,12 +413,40 @@ pub struct StepSummary {
     /// Sum of the missed parts (alpha = 2 only).
     pub missed: Option<f64>,
     /// Sum of the false parts (alpha = 2 only).
-    #[serde(rename = "false")]
     pub false_: Option<f64>,
     /// Sum of the missed counts.
     pub missed_count: usize,
     /// Sum of the false counts.
     pub false_count: usize,
+}
+
+/// How [`StepSummary`] is written: its fields in order, the localisation part under
+/// `localisation` and, for one release, also under its earlier key `localization`.
+#[derive(Serialize)]
+struct StepSummaryKeys<'a> {
+    steps: &'a usize,
+    sum: &'a f64,
+    mean: &'a f64,
+    root_mean_power: &'a f64,
+    #[serde(flatten)]
+    parts: PartKeys<'a, Option<f64>>,
+    missed_count: &'a usize,
+    false_count: &'a usize,
+}
+
+impl Serialize for StepSummary {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        StepSummaryKeys {
+            steps: &self.steps,
+            sum: &self.sum,
+            mean: &self.mean,
+            root_mean_power: &self.root_mean_power,
+            parts: PartKeys::new(&self.localization, &self.missed, &self.false_),
+            missed_count: &self.missed_count,
+            false_count: &self.false_count,
+        }
+        .serialize(serializer)
+    }
 }
 
 /// Per-step GOSPA over a window.

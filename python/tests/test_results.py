@@ -122,7 +122,7 @@ def test_trajectory_scenes_match_the_scipy_reference(exact):
         expected = case["exact_total"] if exact else case["lp_total"]
         # The reference solves the LP with HiGHS to its default tolerance (1e-7 relative).
         assert got.total == pytest.approx(expected, rel=1e-6, abs=1e-6), f"case {number}"
-        assert got.localization + got.missed + got.false + got.switching == pytest.approx(got.total, rel=1e-9)
+        assert got.localisation + got.missed + got.false + got.switching == pytest.approx(got.total, rel=1e-9)
 
 
 def test_trajectory_scenes_as_arrays_give_the_same_documents():
@@ -160,11 +160,12 @@ def test_per_step_gospa_matches_the_scipy_reference():
             continue
         step = got.to_dict()["steps"][0]
         assert step["gospa"] ** case["order"] == pytest.approx(case["power"], rel=1e-9, abs=1e-12), f"case {number}"
-        for part in ("localization", "missed", "false"):
-            if case[part] is None:
+        # The reference file names the part "localization"; the document spells it localisation.
+        for part, key in (("localisation", "localization"), ("missed", "missed"), ("false", "false")):
+            if case[key] is None:
                 assert step[part] is None
             else:
-                assert step[part] == pytest.approx(case[part], rel=1e-9, abs=1e-12), f"case {number} {part}"
+                assert step[part] == pytest.approx(case[key], rel=1e-9, abs=1e-12), f"case {number} {part}"
         if case["missed_count"] is not None:  # counted by the reference for alpha = 2 only
             assert (step["missed_count"], step["false_count"]) == (case["missed_count"], case["false_count"])
 
@@ -180,7 +181,7 @@ def test_swap_scene_by_hand():
         got = switchyard.score(truth, estimate, cutoff=5, switch_penalty=gamma, state_columns=["x"])
         assert got.total == pytest.approx(total, abs=1e-9)
         assert got.metric == pytest.approx(total, abs=1e-9)  # d = d^p at p = 1
-    assert (got.localization, got.missed, got.false, got.switching) == pytest.approx((0.0, 10.0, 10.0, 0.0), abs=1e-9)
+    assert (got.localisation, got.missed, got.false, got.switching) == pytest.approx((0.0, 10.0, 10.0, 0.0), abs=1e-9)
     # c = 5, p = 2, gamma = 2: two full switches at gamma^p = 4 each, all switching.
     got = switchyard.score(truth, estimate, cutoff=5, order=2, switch_penalty=2, state_columns=["x"])
     assert got.total == pytest.approx(8.0, abs=1e-9) and got.switching == pytest.approx(8.0, abs=1e-9)

@@ -30,7 +30,7 @@ def test_score_document_equals_the_command_lines_json():
     assert got.to_dict() == expected
     assert got.total == pytest.approx(15103.590357841626, rel=0, abs=0)
     # Each attribute is its key of the document.
-    for key in ("metric", "total", "per_step", "steps", "localization", "missed", "false", "switching",
+    for key in ("metric", "total", "per_step", "steps", "localisation", "localization", "missed", "false", "switching",
                 "missed_count", "false_count", "switch_count", "integral", "lp_total", "exact_total",
                 "exact", "engine", "lp", "certificate", "params", "inputs"):
         assert getattr(got, key) == expected[key], key

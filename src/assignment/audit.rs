@@ -55,6 +55,7 @@ pub struct GapSpan {
 #[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
 pub struct TruthCosts {
     /// Σ weight x d^p over its pairs' close steps.
+    #[serde(rename = "localisation")]
     pub localization: f64,
     /// c^p / 2 per present step, times the weight not assigned there.
     pub missed: f64,
@@ -76,6 +77,7 @@ pub struct TrackCosts {
     /// `false` over the scene's total (0 when that is 0).
     pub share: f64,
     /// Σ weight x d^p over its pairs' close steps (counted with the truths).
+    #[serde(rename = "localisation")]
     pub localization: f64,
 }
 

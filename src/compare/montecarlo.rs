@@ -22,12 +22,14 @@
 
 use serde::Serialize;
 
+use crate::per_step::PartKeys;
+
 use super::plan::Evaluation;
 use crate::per_step::{every_step, stretches, OccupiedSteps, StepScore, Stretch};
 use crate::trajectory::{Step, Window};
 
 /// Per-step GOSPA at one step, over runs.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct StepOverRuns {
     /// The step.
     pub time: Step,
@@ -42,12 +44,40 @@ pub struct StepOverRuns {
     /// Mean missed part (p-th power units).
     pub missed: f64,
     /// Mean false part (p-th power units).
-    #[serde(rename = "false")]
     pub false_: f64,
     /// Mean number of truths missed.
     pub missed_count: f64,
     /// Mean number of false estimates.
     pub false_count: f64,
+}
+
+/// How [`StepOverRuns`] is written: its fields in order, the localisation part under
+/// `localisation` and, for one release, also under its earlier key `localization`.
+#[derive(Serialize)]
+struct StepOverRunsKeys<'a> {
+    time: &'a Step,
+    runs: &'a usize,
+    mean: &'a f64,
+    rms: &'a f64,
+    #[serde(flatten)]
+    parts: PartKeys<'a, f64>,
+    missed_count: &'a f64,
+    false_count: &'a f64,
+}
+
+impl Serialize for StepOverRuns {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        StepOverRunsKeys {
+            time: &self.time,
+            runs: &self.runs,
+            mean: &self.mean,
+            rms: &self.rms,
+            parts: PartKeys::new(&self.localization, &self.missed, &self.false_),
+            missed_count: &self.missed_count,
+            false_count: &self.false_count,
+        }
+        .serialize(serializer)
+    }
 }
 
 /// Mean and root mean square of values: ((1/n) sum v, ((1/n) sum v^2)^(1/2)); (0, 0) when

@@ -548,7 +548,7 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
     Ok(())
 }
 
-const SUMMARY_CSV: &str = "metric_mean,metric_rms,total_mean,per_step_mean,localization,missed,false,switching,missed_count,false_count,switch_count,fractional_cases";
+const SUMMARY_CSV: &str = "metric_mean,metric_rms,total_mean,per_step_mean,localisation,missed,false,switching,missed_count,false_count,switch_count,fractional_cases";
 
 fn summary_csv(s: &Summary) -> String {
     [
@@ -647,7 +647,7 @@ pub fn write_sequences_csv<W: Write>(out: &mut W, comparison: &Comparison) -> st
 pub fn write_cases_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
     writeln!(
         out,
-        "cutoff,order,switch_penalty,tracker,sequence,run,metric,total,localization,missed,false,switching,missed_count,false_count,switch_count,integral,steps,per_step"
+        "cutoff,order,switch_penalty,tracker,sequence,run,metric,total,localisation,missed,false,switching,missed_count,false_count,switch_count,integral,steps,per_step"
     )?;
     for c in &comparison.cases {
         let (p, s) = (&c.params, &c.score);
@@ -681,7 +681,7 @@ pub fn write_cases_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::i
 pub fn write_steps_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
     writeln!(
         out,
-        "cutoff,order,sequence,tracker,time,runs,mean,rms,localization,missed,false,missed_count,false_count"
+        "cutoff,order,sequence,tracker,time,runs,mean,rms,localisation,missed,false,missed_count,false_count"
     )?;
     for block in &comparison.monte_carlo {
         let before_time = format!(

@@ -113,7 +113,7 @@ pub fn write_csv_with<W: Write>(
         "total",
         "per_step",
         "steps",
-        "localization",
+        "localisation",
         "missed",
         "false",
         "switching",

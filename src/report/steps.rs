@@ -133,7 +133,7 @@ pub fn write_csv_timed<W: Write>(
     };
     writeln!(
         out,
-        "time{timed},gospa,localization,missed,false,missed_count,false_count,truth_count,\
+        "time{timed},gospa,localisation,missed,false,missed_count,false_count,truth_count,\
          estimate_count"
     )?;
     let write_time = |out: &mut std::io::BufWriter<&mut W>, time: Step| -> std::io::Result<()> {

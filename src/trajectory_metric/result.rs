@@ -4,6 +4,8 @@
 
 use serde::Serialize;
 
+use crate::per_step::PartKeys;
+
 use super::exact::ExactBudget;
 use super::pairs::CloseStep;
 use super::TrajectoryParams;
@@ -174,14 +176,13 @@ pub struct Certificate {
 /// The four parts of trajectory GOSPA's d^p and the counts behind them: one struct wherever a
 /// score is reported (a single case, or aggregated over cases; the aggregate's documentation
 /// says whether it holds means or sums).
-#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
 pub struct Parts {
     /// Localisation part (p-th power units).
     pub localization: f64,
     /// Missed part.
     pub missed: f64,
     /// False part.
-    #[serde(rename = "false")]
     pub false_: f64,
     /// Switching part.
     pub switching: f64,
@@ -191,6 +192,31 @@ pub struct Parts {
     pub false_count: f64,
     /// Full switches count 1, half switches 0.5.
     pub switch_count: f64,
+}
+
+/// How [`Parts`] is written: its fields in order, the localisation part under
+/// `localisation` and, for one release, also under its earlier key `localization`.
+#[derive(Serialize)]
+struct PartsKeys<'a> {
+    #[serde(flatten)]
+    parts: PartKeys<'a, f64>,
+    switching: &'a f64,
+    missed_count: &'a f64,
+    false_count: &'a f64,
+    switch_count: &'a f64,
+}
+
+impl Serialize for Parts {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        PartsKeys {
+            parts: PartKeys::new(&self.localization, &self.missed, &self.false_),
+            switching: &self.switching,
+            missed_count: &self.missed_count,
+            false_count: &self.false_count,
+            switch_count: &self.switch_count,
+        }
+        .serialize(serializer)
+    }
 }
 
 impl Parts {

@@ -442,3 +442,29 @@ fn time_step_gives_times_in_the_input_units() {
         vec![("0".into(), "0.1".into()), ("0.2".into(), "0.4".into())]
     );
 }
+
+/// One spelling, localisation, in every output; JSON keeps the earlier key `localization`
+/// beside it for one release (`specs/formats.md`), with the same value.
+#[test]
+fn localisation_is_spelt_one_way_and_the_old_json_key_stays_for_now() {
+    let (truth, estimate) = (demo("truth.csv"), demo("tracker-swaps.csv"));
+    let score: Value =
+        serde_json::from_slice(&run(&demo_args("score", &truth, &estimate, "json"))).unwrap();
+    assert_eq!(score["localisation"], score["localization"]);
+    assert!(score["localisation"].as_f64().unwrap() > 0.0);
+    let steps: Value =
+        serde_json::from_slice(&run(&demo_args("steps", &truth, &estimate, "json"))).unwrap();
+    for step in steps["steps"].as_array().unwrap() {
+        assert_eq!(step["localisation"], step["localization"]);
+    }
+    assert_eq!(
+        steps["summary"]["localisation"],
+        steps["summary"]["localization"]
+    );
+    for command in ["score", "steps"] {
+        let csv = String::from_utf8(run(&demo_args(command, &truth, &estimate, "csv"))).unwrap();
+        let header = csv.lines().next().unwrap();
+        assert!(header.split(',').any(|c| c == "localisation"), "{header}");
+        assert!(!header.contains("localization"), "{header}");
+    }
+}

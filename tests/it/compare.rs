@@ -207,7 +207,7 @@ fn case_rows_and_the_per_step_ranking_match_the_hand_computation() {
     let lines: Vec<&str> = csv.lines().collect();
     assert_eq!(
         lines[0],
-        "cutoff,order,switch_penalty,tracker,sequence,run,metric,total,localization,missed,false,\
+        "cutoff,order,switch_penalty,tracker,sequence,run,metric,total,localisation,missed,false,\
          switching,missed_count,false_count,switch_count,integral,steps,per_step"
     );
     assert_eq!(lines[2], "2,1,2,B,s2,,2,2,0,1,1,0,1,1,0,true,1,2");
@@ -334,7 +334,7 @@ fn monte_carlo_steps_match_the_hand_computation() {
         })
         .collect();
     assert!(text.starts_with(
-        "cutoff,order,sequence,tracker,time,runs,mean,rms,localization,missed,false,missed_count,false_count\n"
+        "cutoff,order,sequence,tracker,time,runs,mean,rms,localisation,missed,false,missed_count,false_count\n"
     ));
     assert_eq!(rows.len(), 2);
     // Columns left: cutoff, order, time, runs, mean, rms, localisation, missed, false, missed

@@ -296,7 +296,7 @@ fn score_writes_one_csv_row() {
     let lines: Vec<&str> = stdout.lines().collect();
     assert_eq!(
         lines[0],
-        "metric,total,per_step,steps,localization,missed,false,switching,missed_count,false_count,switch_count,integral,exact_total"
+        "metric,total,per_step,steps,localisation,missed,false,switching,missed_count,false_count,switch_count,integral,exact_total"
     );
     assert_eq!(lines.len(), 2);
     let cells: Vec<&str> = lines[1].split(',').collect();

@@ -290,7 +290,7 @@ fn monte_carlo_over_a_long_window_writes_every_step_from_the_occupied_ones() {
     let mut lines = std::io::BufReader::new(std::fs::File::open(&out).unwrap()).lines();
     assert_eq!(
         lines.next().unwrap().unwrap(),
-        "cutoff,order,sequence,tracker,time,runs,mean,rms,localization,missed,false,missed_count,false_count"
+        "cutoff,order,sequence,tracker,time,runs,mean,rms,localisation,missed,false,missed_count,false_count"
     );
     // Columns from `runs` on: runs, mean, rms, localisation, missed, false, missed count, false
     // count.

@@ -271,7 +271,7 @@ def steps(
 score.__doc__ = (
     """Trajectory GOSPA of ``estimate`` against ``truth``: ``switchyard score``.
 
-    Returns a ``Score``: ``total`` (d^p) and its parts ``localization``, ``missed``, ``false``,
+    Returns a ``Score``: ``total`` (d^p) and its parts ``localisation``, ``missed``, ``false``,
     ``switching`` with their counts, the ``certificate``, the ``switches`` and ``jumps`` tables,
     and ``to_dict()``, the document of ``switchyard score --format json``.
 """

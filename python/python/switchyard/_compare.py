@@ -20,7 +20,7 @@ _SUMMARY_COLUMNS = (
     "metric_rms",
     "total_mean",
     "per_step_mean",
-    "localization",
+    "localisation",
     "missed",
     "false",
     "switching",
@@ -39,7 +39,7 @@ def _values(score: Score) -> Tuple[Any, ...]:
     return (
         score.metric,
         score.total,
-        score.localization,
+        score.localisation,
         score.missed,
         score.false,
         score.switching,

@@ -90,7 +90,7 @@ class _Exactness(_Document):
 class Score(_Exactness):
     """Trajectory GOSPA of an estimate against the truth, with its four parts.
 
-    ``total`` is d^p = ``localization + missed + false + switching``; ``metric`` is d and
+    ``total`` is d^p = ``localisation + missed + false + switching``; ``metric`` is d and
     ``per_step`` is (d^p / steps)^(1/p). ``switches`` and ``jumps`` are tables of the switch
     events seen from the truths and from the estimates.
     """
@@ -103,7 +103,7 @@ class Score(_Exactness):
         self.per_step: float = d["per_step"]
         #: Steps in the window.
         self.steps: int = d["steps"]
-        self.localization: float = d["localization"]
+        self.localisation: float = d["localisation"]
         self.missed: float = d["missed"]
         self.false: float = d["false"]
         self.switching: float = d["switching"]
@@ -125,6 +125,11 @@ class Score(_Exactness):
         self.proven: bool = d["certificate"]["proven"]
 
     @property
+    def localization(self) -> float:
+        """The localisation part under its earlier name (kept for one release)."""
+        return self.localisation
+
+    @property
     def switches(self) -> Any:
         """Switches seen from the truths: time, truth, from, to, weight, cost (from/to are
         estimate ids; missing for unassigned: None, NaN in a DataFrame)."""
@@ -138,7 +143,7 @@ class Score(_Exactness):
 
     def __repr__(self) -> str:
         return (
-            f"Score(total={self.total!r}, localization={self.localization!r}, missed={self.missed!r}, "
+            f"Score(total={self.total!r}, localisation={self.localisation!r}, missed={self.missed!r}, "
             f"false={self.false!r}, switching={self.switching!r}, proven={self.proven!r})"
         )
 
@@ -219,7 +224,7 @@ class Audit(_Exactness):
 _STEP_COLUMNS = (
     "time",
     "gospa",
-    "localization",
+    "localisation",
     "missed",
     "false",
     "missed_count",
@@ -242,7 +247,7 @@ class Steps(_Document):
 
     @property
     def table(self) -> Any:
-        """One row per step of the window: time, gospa, localization, missed, false (the parts
+        """One row per step of the window: time, gospa, localisation, missed, false (the parts
         are None unless alpha = 2), missed_count, false_count, truth_count, estimate_count."""
         return table(self._document["steps"], _STEP_COLUMNS)
 
