@@ -9,9 +9,10 @@
 use libfuzzer_sys::arbitrary::{Result as Drawn, Unstructured};
 use libfuzzer_sys::fuzz_target;
 use switchyard::assignment::audit::audit;
+use switchyard::assignment::switches::{jump_events, switch_events, switch_kinds};
 use switchyard::compare::{
-    run as run_comparison, BootstrapOptions, Case, CaseKey, CompareOptions, Dataset, ResampleBy,
-    TrackerData,
+    run as run_comparison, AggregateOptions, BootstrapOptions, Case, CaseKey, CompareOptions,
+    Dataset, RankBy, ResampleBy, TrackerData,
 };
 use switchyard::distance::Distance;
 use switchyard::per_step::{occupied_steps, GospaParams};
@@ -19,8 +20,7 @@ use switchyard::report::audit::AuditDocument;
 use switchyard::report::compare::{CompareInputs, Sections, TrackerSource};
 use switchyard::report::score::ScoreDocument;
 use switchyard::report::switches::SwitchesDocument;
-use switchyard::report::{self, Exactness, InputInfo};
-use switchyard::assignment::switches::{jump_events, switch_events};
+use switchyard::report::{self, Exactness, InputInfo, TimedEvents};
 use switchyard::trajectory::{Trajectory, TrajectorySet};
 use switchyard::trajectory_metric::{score, TrajectoryParams};
 
@@ -102,6 +102,9 @@ fn run(u: &mut Unstructured) -> Drawn<()> {
         estimate: name(u)?,
         estimate_tracks: estimate.len(),
         distance: "euclidean".to_string(),
+        state_columns: vec![name(u)?],
+        weights: None,
+        time_step: if u.arbitrary()? { Some(0.1) } else { None },
     };
     let distance = Distance::default();
     let cutoff = f64::from(u.int_in_range(1..=4u8)?);
@@ -111,7 +114,9 @@ fn run(u: &mut Unstructured) -> Drawn<()> {
         text(&written(|o| {
             report::steps::write_text(o, &series, &gospa, &info)
         }));
-        check_csv(&written(|o| report::steps::write_csv(o, &series)));
+        check_csv(&written(|o| {
+            report::steps::write_csv_timed(o, &series, info.time_step)
+        }));
         check_json(&written(|o| {
             report::steps::write_json(o, &series, &gospa, &info)
         }));
@@ -123,9 +128,10 @@ fn run(u: &mut Unstructured) -> Drawn<()> {
     };
     let switches = switch_events(&result.assignment, &truth, &estimate, &result.params);
     let jumps = jump_events(&result.assignment, &truth, &estimate, &result.params);
+    let kinds = switch_kinds(&switches, &estimate);
     let document = ScoreDocument::new(&result, &info, "microlp", &switches, &jumps);
     text(&written(|o| {
-        report::score::write_text(o, &result, &info, "microlp")
+        report::score::write_text(o, &result, &info, "microlp", &kinds)
     }));
     check_json(&written(|o| report::score::write_json(o, &document)));
 
@@ -134,23 +140,30 @@ fn run(u: &mut Unstructured) -> Drawn<()> {
         inputs: &info,
         switching: result.parts.switching,
         switch_count: result.parts.switch_count,
-        switches: &switches,
-        jumps: &jumps,
+        kinds,
+        switches: TimedEvents::new(&switches, info.time_step),
+        jumps: TimedEvents::new(&jumps, info.time_step),
         exactness: Exactness::new(&result),
     };
     text(&written(|o| report::switches::write_text(o, &document)));
     check_csv(&written(|o| {
-        report::switches::write_csv(o, &switches, &jumps)
+        report::switches::write_csv_timed(o, &switches, &jumps, info.time_step)
     }));
     check_json(&written(|o| report::switches::write_json(o, &document)));
 
-    let coverage = audit(&result, &truth, &estimate, &switches);
+    let mut coverage = audit(&result, &truth, &estimate, &switches);
+    let by_cost: bool = u.arbitrary()?;
+    if by_cost {
+        coverage.rank_by_cost();
+    }
     let document = AuditDocument {
         params: &result.params,
         inputs: &info,
         truths: &coverage.truths,
         estimates: &coverage.estimates,
         exactness: Exactness::new(&result),
+        by_cost,
+        tracks_by_cost: by_cost,
     };
     text(&written(|o| report::audit::write_text(o, &document)));
     check_csv(&written(|o| report::audit::write_csv(o, &document)));
@@ -185,12 +198,15 @@ fn compare(
     let options = CompareOptions {
         settings: vec![params],
         solve: Default::default(),
-        bootstrap: BootstrapOptions {
-            resamples: 20,
-            seed: 0,
-            confidence: 0.9,
+        aggregate: AggregateOptions {
+            bootstrap: BootstrapOptions {
+                resamples: 20,
+                seed: 0,
+                confidence: 0.9,
+            },
+            resample_by: ResampleBy::Auto,
+            rank_by: RankBy::default(),
         },
-        resample_by: ResampleBy::Auto,
         monte_carlo: true,
     };
     let Ok(comparison) = run_comparison(&dataset, &Distance::default(), &options, &|| {}) else {
@@ -214,6 +230,7 @@ fn compare(
     let sections = Sections {
         per_sequence: true,
         monte_carlo: true,
+        per_case: true,
     };
     use report::compare as writers;
     text(&written(|o| {
@@ -225,6 +242,7 @@ fn compare(
     check_csv(&written(|o| writers::write_csv(o, &comparison)));
     check_csv(&written(|o| writers::write_sequences_csv(o, &comparison)));
     check_csv(&written(|o| writers::write_steps_csv(o, &comparison)));
+    check_csv(&written(|o| writers::write_cases_csv(o, &comparison)));
     Ok(())
 }
 
