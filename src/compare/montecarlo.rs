@@ -83,17 +83,28 @@ impl Serialize for StepOverRuns {
 /// Mean and root mean square of values: ((1/n) sum v, ((1/n) sum v^2)^(1/2)); (0, 0) when
 /// there are none.
 pub fn mean_and_rms(values: impl IntoIterator<Item = f64>) -> (f64, f64) {
-    let (mut n, mut sum, mut squares) = (0usize, 0.0, 0.0);
-    for v in values {
-        n += 1;
-        sum += v;
-        squares += v * v;
+    let values: Vec<f64> = values.into_iter().collect();
+    if values.is_empty() {
+        return (0.0, 0.0);
     }
-    if n == 0 {
-        (0.0, 0.0)
-    } else {
-        (sum / n as f64, (squares / n as f64).sqrt())
+    let n = values.len() as f64;
+    let (sum, squares) = values
+        .iter()
+        .fold((0.0, 0.0), |(sum, squares), v| (sum + v, squares + v * v));
+    let (mut mean, mut rms) = (sum / n, (squares / n).sqrt());
+    // Values above about 1.3e154 overflow their squares (and near the largest double, their
+    // sum): then both are computed on the values divided by the largest of them, as C's
+    // `hypot` does, so that finite values never give an infinite mean or RMS.
+    if !(sum.is_finite() && squares.is_finite()) {
+        let largest = values.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        if largest.is_finite() && largest > 0.0 {
+            let scaled = values.iter().map(|v| v / largest);
+            let (sum, squares) = scaled.fold((0.0, 0.0), |(s, q), v| (s + v, q + v * v));
+            mean = sum / n * largest;
+            rms = (squares / n).sqrt() * largest;
+        }
     }
+    (mean, rms)
 }
 
 /// Per-step GOSPA over runs, kept at the steps where some run has an object: memory follows the
@@ -269,6 +280,17 @@ mod tests {
         assert!((mean - 3.5).abs() < 1e-12);
         assert!((rms - 12.5f64.sqrt()).abs() < 1e-12);
         assert_eq!(mean_and_rms([]), (0.0, 0.0));
+        // Values whose squares overflow a double (IEEE 754: above about 1.34e154): 1e200 and
+        // 1e200 have mean and RMS 1e200 (the definition), not infinity; so do two values near
+        // the largest double, whose sum overflows.
+        let (mean, rms) = mean_and_rms([1e200, 1e200]);
+        assert!((mean / 1e200 - 1.0).abs() < 1e-15 && (rms / 1e200 - 1.0).abs() < 1e-15);
+        let big = f64::MAX / 1.5;
+        let (mean, rms) = mean_and_rms([big, big]);
+        assert!((mean / big - 1.0).abs() < 1e-15 && (rms / big - 1.0).abs() < 1e-15);
+        // 3e200 and 4e200: RMS sqrt(12.5) x 1e200.
+        let (_, rms) = mean_and_rms([3e200, 4e200]);
+        assert!((rms / (12.5f64.sqrt() * 1e200) - 1.0).abs() < 1e-14);
     }
 
     #[test]

@@ -904,3 +904,37 @@ fn bad_input_names_file_line_and_column() {
         .unwrap();
     assert_eq!(output.status.code(), Some(1));
 }
+
+/// A huge cut-off gives a huge but finite d, and its RMS over cases is that d, not infinity
+/// (IEEE 754: squares of values above about 1.34e154 overflow; the RMS of equal values is the
+/// value, by definition). Truth a at steps 1-2, track p at step 1 only: one missed object-step,
+/// d = c^p / 2 = 5e199 at c = 1e200, p = 1.
+#[test]
+fn a_huge_metric_has_a_finite_rms() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = write(dir.path(), "t.csv", "time,id,x\n1,a,0\n2,a,0\n");
+    let estimate = write(dir.path(), "e.csv", "time,id,x\n1,p,0\n");
+    let doc = json(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &format!("A={estimate}"),
+        "--estimate",
+        &format!("B={truth}"),
+        "--state-columns",
+        "x",
+        "-c",
+        "1e200",
+        "-f",
+        "json",
+    ]);
+    let trackers = doc["settings"][0]["trackers"].as_array().unwrap();
+    let a = trackers.iter().find(|t| t["tracker"] == "A").unwrap();
+    let (mean, rms) = (
+        a["metric_mean"].as_f64().unwrap(),
+        a["metric_rms"].as_f64().unwrap(),
+    );
+    assert!((mean / 5e199 - 1.0).abs() < 1e-12, "{mean}");
+    assert!((rms / 5e199 - 1.0).abs() < 1e-12, "{rms}");
+}
