@@ -352,14 +352,7 @@ pub fn sum_scores(
         ..Certificate::default()
     };
     for score in scores {
-        let p = &score.parts;
-        parts.localization += p.localization;
-        parts.missed += p.missed;
-        parts.false_ += p.false_;
-        parts.switching += p.switching;
-        parts.missed_count += p.missed_count;
-        parts.false_count += p.false_count;
-        parts.switch_count += p.switch_count;
+        parts += score.parts;
         let s = &score.stats;
         stats.add_solve(s);
         stats.candidate_pairs += s.candidate_pairs;

@@ -219,6 +219,19 @@ impl Serialize for Parts {
     }
 }
 
+impl std::ops::AddAssign for Parts {
+    /// Adds another scene's parts and counts to these (scenes scored apart, such as classes).
+    fn add_assign(&mut self, other: Parts) {
+        self.localization += other.localization;
+        self.missed += other.missed;
+        self.false_ += other.false_;
+        self.switching += other.switching;
+        self.missed_count += other.missed_count;
+        self.false_count += other.false_count;
+        self.switch_count += other.switch_count;
+    }
+}
+
 impl Parts {
     /// d^p: the sum of the four parts.
     pub fn sum(&self) -> f64 {
