@@ -369,11 +369,7 @@ pub fn sum_scores(
         certificate.bounded += c.bounded;
         certificate.iterations = certificate.iterations.max(c.iterations);
     }
-    certificate.gap = if certificate.upper > 0.0 {
-        (certificate.upper - certificate.lower).max(0.0) / certificate.upper
-    } else {
-        0.0
-    };
+    certificate.gap = Certificate::relative_gap(certificate.lower, certificate.upper);
     let exact = match request.solve.exact {
         Some(budget) => {
             let mut sum = ExactSummary {

@@ -34,11 +34,7 @@ pub(super) fn certify(
         proven: bounded == 0,
         lower,
         upper,
-        gap: if upper > 0.0 {
-            (upper - lower) / upper
-        } else {
-            0.0
-        },
+        gap: Certificate::relative_gap(lower, upper),
         closed_form: count(Method::ClosedForm),
         lagrangian: count(Method::Lagrangian),
         simplex: count(Method::Simplex),

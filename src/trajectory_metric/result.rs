@@ -173,6 +173,17 @@ pub struct Certificate {
     pub iterations: usize,
 }
 
+impl Certificate {
+    /// The relative gap of two bounds: (upper - lower) / upper, 0 when upper is 0.
+    pub fn relative_gap(lower: f64, upper: f64) -> f64 {
+        if upper > 0.0 {
+            (upper - lower).max(0.0) / upper
+        } else {
+            0.0
+        }
+    }
+}
+
 /// The four parts of trajectory GOSPA's d^p and the counts behind them: one struct wherever a
 /// score is reported (a single case, or aggregated over cases; the aggregate's documentation
 /// says whether it holds means or sums).
