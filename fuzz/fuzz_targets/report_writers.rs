@@ -226,6 +226,7 @@ fn compare(
         cases: 1,
         distance: "euclidean".to_string(),
         engine: "microlp".to_string(),
+        time_step: if u.arbitrary()? { Some(0.1) } else { None },
     };
     let sections = Sections {
         per_sequence: true,
@@ -242,6 +243,9 @@ fn compare(
     check_csv(&written(|o| writers::write_csv(o, &comparison)));
     check_csv(&written(|o| writers::write_sequences_csv(o, &comparison)));
     check_csv(&written(|o| writers::write_steps_csv(o, &comparison)));
+    check_csv(&written(|o| {
+        writers::write_steps_csv_timed(o, &comparison, inputs.time_step)
+    }));
     check_csv(&written(|o| writers::write_cases_csv(o, &comparison)));
     Ok(())
 }

@@ -161,6 +161,9 @@ pub fn comparison_document(input: Scores) -> Result<String> {
         cases,
         distance: input.distance,
         engine: input.engine,
+        // The step size only labels the Monte Carlo per-step summaries, which scores computed
+        // elsewhere do not have.
+        time_step: None,
     };
     let sections = Sections {
         per_sequence: input.per_sequence,

@@ -106,7 +106,8 @@ pub struct CompareArgs {
     #[arg(long)]
     per_sequence: bool,
     /// Also summarise over the runs of each sequence: per-step GOSPA (mean, RMS and parts)
-    /// and the trajectory metric (mean and RMS).
+    /// and the trajectory metric (mean and RMS); with --time-step each step also shows its
+    /// time in the input's units.
     #[arg(long)]
     monte_carlo: bool,
     /// Bootstrap resamples.
@@ -167,6 +168,7 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
             cases: data.cases().len(),
             distance: String::new(),
             engine: String::new(),
+            time_step: args.csv.time_step,
         };
         return Ok((data, inputs));
     }
@@ -215,6 +217,7 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
         cases: data.cases().len(),
         distance: String::new(),
         engine: String::new(),
+        time_step: args.csv.time_step,
     };
     Ok((data, inputs))
 }
@@ -294,7 +297,9 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
             Format::Text => report::write_text(out, &comparison, &inputs, sections)?,
             Format::Json => report::write_json(out, &comparison, &inputs, sections)?,
             Format::Csv if args.per_sequence => report::write_sequences_csv(out, &comparison)?,
-            Format::Csv if args.monte_carlo => report::write_steps_csv(out, &comparison)?,
+            Format::Csv if args.monte_carlo => {
+                report::write_steps_csv_timed(out, &comparison, inputs.time_step)?
+            }
             Format::Csv if args.per_case => report::write_cases_csv(out, &comparison)?,
             Format::Csv => report::write_csv(out, &comparison)?,
         }

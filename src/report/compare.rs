@@ -7,8 +7,8 @@ use std::io::Write;
 use serde::Serialize;
 
 use super::steps::write_step;
-use super::{csv_number, fixed, param, plural, printable, write_table, TableLayout};
-use crate::compare::montecarlo::StepOverRuns;
+use super::{csv_number, fixed, input_time, param, plural, printable, write_table, TableLayout};
+use crate::compare::montecarlo::{OccupiedOverRuns, StepOverRuns, TimedStepOverRuns};
 use crate::compare::{
     CaseResult, Comparison, RankBy, ResampleBy, SettingResult, StepsOverRuns, Summary,
     TrackerResult, Verdict,
@@ -42,6 +42,10 @@ pub struct CompareInputs {
     pub distance: String,
     /// The LP engine.
     pub engine: String,
+    /// `--time-step`: the step size in the input's time units; with it, the Monte Carlo
+    /// per-step summaries give each step's time in those units (`input_time`) beside the step.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub time_step: Option<f64>,
 }
 
 /// Which parts a report holds besides the overall ranking.
@@ -395,7 +399,7 @@ pub fn write_text<W: Write>(
         }
     }
     if sections.monte_carlo {
-        write_monte_carlo_text(out, comparison)?;
+        write_monte_carlo_text(out, comparison, inputs.time_step)?;
     }
     if sections.per_case {
         write_cases_text(out, comparison)?;
@@ -451,7 +455,11 @@ fn shown(value: &str) -> String {
     }
 }
 
-fn write_monte_carlo_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+fn write_monte_carlo_text<W: Write>(
+    out: &mut W,
+    comparison: &Comparison,
+    time_step: Option<f64>,
+) -> std::io::Result<()> {
     writeln!(out)?;
     writeln!(
         out,
@@ -481,12 +489,18 @@ fn write_monte_carlo_text<W: Write>(out: &mut W, comparison: &Comparison) -> std
         )?;
     }
     for block in &comparison.monte_carlo {
-        write_steps_block(out, block)?;
+        write_steps_block(out, block, time_step)?;
     }
     Ok(())
 }
 
-fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::Result<()> {
+/// One block of per-step summaries; with a step size, a `time` column (the step in the input's
+/// time units) follows `step`, as in `switchyard steps`.
+fn write_steps_block<W: Write>(
+    out: &mut W,
+    block: &StepsOverRuns,
+    time_step: Option<f64>,
+) -> std::io::Result<()> {
     writeln!(out)?;
     writeln!(
         out,
@@ -498,8 +512,11 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
         plural(block.runs, "run", "runs")
     )?;
     let row = |s: &StepOverRuns| {
-        vec![
-            s.time.to_string(),
+        let mut cells = vec![s.time.to_string()];
+        if let Some(dt) = time_step {
+            cells.push(input_time(s.time, dt).to_string());
+        }
+        cells.extend([
             fixed(s.mean, 4),
             fixed(s.rms, 4),
             fixed(s.localization, 4),
@@ -507,10 +524,14 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
             fixed(s.false_, 4),
             fixed(s.missed_count, 3),
             fixed(s.false_count, 3),
-        ]
+        ]);
+        cells
     };
-    let header = [
-        "step",
+    let mut header = vec!["step"];
+    if time_step.is_some() {
+        header.push("time");
+    }
+    header.extend([
         "mean",
         "RMS",
         "localisation^p",
@@ -518,7 +539,7 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
         "false^p",
         "missed",
         "false",
-    ];
+    ]);
     // One row per step of the window, made as it is written: the rows of a run of empty steps
     // differ only in their time, whose widest text is at one end of the run.
     let steps = &block.steps;
@@ -540,6 +561,9 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
                 let mut cells = row(&steps.empty_step(first));
                 for time in first..=last {
                     cells[0] = time.to_string();
+                    if let Some(dt) = time_step {
+                        cells[1] = input_time(time, dt).to_string();
+                    }
                     layout.write_row(out, &cells)?;
                 }
             }
@@ -679,9 +703,24 @@ pub fn write_cases_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::i
 
 /// CSV: one row per (cut-off and order, sequence, tracker, step) of the Monte Carlo summaries.
 pub fn write_steps_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+    write_steps_csv_timed(out, comparison, None)
+}
+
+/// [`write_steps_csv`], with an `input_time` column after `time` (the step in the input's time
+/// units, as in `switchyard steps`) when a step size is given.
+pub fn write_steps_csv_timed<W: Write>(
+    out: &mut W,
+    comparison: &Comparison,
+    time_step: Option<f64>,
+) -> std::io::Result<()> {
+    let timed = if time_step.is_some() {
+        ",input_time"
+    } else {
+        ""
+    };
     writeln!(
         out,
-        "cutoff,order,sequence,tracker,time,runs,mean,rms,localisation,missed,false,missed_count,false_count"
+        "cutoff,order,sequence,tracker,time{timed},runs,mean,rms,localisation,missed,false,missed_count,false_count"
     )?;
     for block in &comparison.monte_carlo {
         let before_time = format!(
@@ -715,6 +754,9 @@ pub fn write_steps_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::i
             for time in first..=last {
                 out.write_all(before_time.as_bytes())?;
                 write_step(out, time)?;
+                if let Some(dt) = time_step {
+                    write!(out, ",{}", input_time(time, dt))?;
+                }
                 out.write_all(rest.as_bytes())?;
             }
         }
@@ -775,9 +817,36 @@ struct CompareDocument<'a> {
     settings: Vec<SettingDocument<'a>>,
     ranking_stable: bool,
     #[serde(skip_serializing_if = "Option::is_none")]
-    monte_carlo: Option<&'a [StepsOverRuns]>,
+    monte_carlo: Option<Vec<MonteCarloDocument<'a>>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     cases: Option<&'a [CaseResult]>,
+}
+
+/// A block of per-step summaries over runs as JSON: [`StepsOverRuns`]'s keys, each step with
+/// `input_time` after `time` when a step size was given.
+#[derive(Serialize)]
+struct MonteCarloDocument<'a> {
+    cutoff: f64,
+    order: f64,
+    sequence: &'a str,
+    tracker: &'a str,
+    runs: usize,
+    steps: TimedSteps<'a>,
+}
+
+/// Every step of a block, made as it is written.
+struct TimedSteps<'a> {
+    steps: &'a OccupiedOverRuns,
+    time_step: Option<f64>,
+}
+
+impl Serialize for TimedSteps<'_> {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.collect_seq(self.steps.iter().map(|step| TimedStepOverRuns {
+            input_time: self.time_step.map(|dt| input_time(step.time, dt)),
+            step,
+        }))
+    }
 }
 
 fn rows(trackers: &[TrackerResult]) -> Vec<RowDocument<'_>> {
@@ -838,9 +907,23 @@ pub fn write_json<W: Write>(
             })
             .collect(),
         ranking_stable: comparison.ranking_stable,
-        monte_carlo: sections
-            .monte_carlo
-            .then_some(comparison.monte_carlo.as_slice()),
+        monte_carlo: sections.monte_carlo.then(|| {
+            comparison
+                .monte_carlo
+                .iter()
+                .map(|block| MonteCarloDocument {
+                    cutoff: block.cutoff,
+                    order: block.order,
+                    sequence: &block.sequence,
+                    tracker: &block.tracker,
+                    runs: block.runs,
+                    steps: TimedSteps {
+                        steps: &block.steps,
+                        time_step: inputs.time_step,
+                    },
+                })
+                .collect()
+        }),
         cases: sections.per_case.then_some(comparison.cases.as_slice()),
     };
     serde_json::to_writer_pretty(&mut *out, &document)?;

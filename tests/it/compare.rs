@@ -938,3 +938,167 @@ fn a_huge_metric_has_a_finite_rms() {
     assert!((mean / 5e199 - 1.0).abs() < 1e-12, "{mean}");
     assert!((rms / 5e199 - 1.0).abs() < 1e-12, "{rms}");
 }
+
+/// With --time-step the Monte Carlo per-step summaries give each step's time in the input's
+/// units beside the step, as `switchyard steps` does: text column `time`, CSV column
+/// `input_time` and JSON key `input_time` after the step. The expected times are the ones the
+/// input file itself holds (0.3 and 0.6, read as steps 3 and 6 with DT = 0.1), and the empty
+/// steps between them read 0.4 and 0.5 (step x DT to DT's decimals, as `steps` gives them:
+/// checked against its CSV on the same files).
+#[test]
+fn monte_carlo_steps_carry_the_input_time() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = write(dir.path(), "t.csv", "time,id,x\n0.3,a,0\n0.6,a,0\n");
+    let estimate = write(
+        dir.path(),
+        "e.csv",
+        "run,time,id,x\n1,0.3,p,1\n2,0.3,p,0\n2,0.6,p,0\n",
+    );
+    let named = format!("T={estimate}");
+    let args = |format: &'static str| {
+        vec![
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &named,
+            "--state-columns",
+            "x",
+            "--cutoff",
+            "2",
+            "--monte-carlo",
+            "--time-step",
+            "0.1",
+            "--format",
+            format,
+        ]
+    };
+    let csv = String::from_utf8(run_ok(&args("csv"))).unwrap();
+    let mut lines = csv.lines();
+    assert_eq!(
+        lines.next().unwrap(),
+        "cutoff,order,sequence,tracker,time,input_time,runs,mean,rms,localisation,missed,false,missed_count,false_count"
+    );
+    let cells: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).collect();
+    let steps: Vec<&str> = cells.iter().map(|c| c[4]).collect();
+    let times: Vec<&str> = cells.iter().map(|c| c[5]).collect();
+    assert_eq!(steps, ["3", "4", "5", "6"]);
+    assert_eq!(times, ["0.3", "0.4", "0.5", "0.6"]);
+    // The same times as `switchyard steps` writes for run 2 on its own.
+    let run2 = write(dir.path(), "r2.csv", "time,id,x\n0.3,p,0\n0.6,p,0\n");
+    let steps_csv = String::from_utf8(run_ok(&[
+        "steps",
+        "--truth",
+        &truth,
+        "--estimate",
+        &run2,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--time-step",
+        "0.1",
+        "--format",
+        "csv",
+    ]))
+    .unwrap();
+    let steps_times: Vec<&str> = steps_csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').nth(1).unwrap())
+        .collect();
+    assert_eq!(steps_times, times);
+    // Step 3: GOSPA 1 (run 1, off by 1) and 0 (run 2): mean 1/2, the values unchanged by the
+    // extra column.
+    assert!((cells[0][7].parse::<f64>().unwrap() - 0.5).abs() < 1e-12);
+
+    let doc: Value = serde_json::from_slice(&run_ok(&args("json"))).unwrap();
+    assert_eq!(doc["inputs"]["time_step"], 0.1);
+    let entries = doc["monte_carlo"][0]["steps"].as_array().unwrap();
+    let json_times: Vec<f64> = entries
+        .iter()
+        .map(|e| e["input_time"].as_f64().unwrap())
+        .collect();
+    assert_eq!(json_times, [0.3, 0.4, 0.5, 0.6]);
+    // input_time follows time, as in `steps`.
+    let text = String::from_utf8(run_ok(&args("json"))).unwrap();
+    assert!(
+        text.contains("\"time\": 4,\n          \"input_time\": 0.4,"),
+        "{text}"
+    );
+    close(&entries[0]["mean"], 0.5);
+
+    let text = String::from_utf8(run_ok(&args("text"))).unwrap();
+    let at = text.find("Per-step GOSPA over runs").unwrap();
+    let mut table = text[at..].lines().skip(1);
+    let header: Vec<&str> = table.next().unwrap().split_whitespace().collect();
+    assert_eq!(&header[..3], ["step", "time", "mean"]);
+    let rows: Vec<Vec<&str>> = table.map(|l| l.split_whitespace().collect()).collect();
+    let text_times: Vec<&str> = rows.iter().map(|r| r[1]).collect();
+    assert_eq!(text_times, ["0.3", "0.4", "0.5", "0.6"]);
+
+    // Without --time-step (integer steps in the files) the column is absent.
+    let truth = write(dir.path(), "ti.csv", "time,id,x\n3,a,0\n6,a,0\n");
+    let estimate = write(
+        dir.path(),
+        "ei.csv",
+        "run,time,id,x\n1,3,p,1\n2,3,p,0\n2,6,p,0\n",
+    );
+    let csv = String::from_utf8(run_ok(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &format!("T={estimate}"),
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--monte-carlo",
+        "--format",
+        "csv",
+    ]))
+    .unwrap();
+    assert!(
+        csv.starts_with("cutoff,order,sequence,tracker,time,runs,"),
+        "{csv}"
+    );
+}
+
+/// The per-step RMS over runs of a huge but finite GOSPA is finite: with c = 1e200 and p = 1 a
+/// missed object costs GOSPA (c^p / 2)^(1/p) = 5e199 (alpha = 2, GOSPA definition). Run 1
+/// misses the truth at step 2, run 2 follows it: the values 5e199 and 0 have mean 2.5e199 and
+/// RMS 5e199 / sqrt(2) (definitions of mean and RMS), where squaring 5e199 overflows a double
+/// (IEEE 754: above about 1.34e154).
+#[test]
+fn a_huge_per_step_gospa_has_a_finite_rms_over_runs() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = write(dir.path(), "t.csv", "time,id,x\n1,a,0\n2,a,0\n");
+    let estimate = write(
+        dir.path(),
+        "e.csv",
+        "run,time,id,x\n1,1,p,0\n2,1,p,0\n2,2,p,0\n",
+    );
+    let doc = json(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &format!("A={estimate}"),
+        "--state-columns",
+        "x",
+        "-c",
+        "1e200",
+        "--monte-carlo",
+        "-f",
+        "json",
+    ]);
+    let step = &doc["monte_carlo"][0]["steps"][1];
+    assert_eq!(step["time"], 2);
+    let (mean, rms) = (
+        step["mean"].as_f64().unwrap(),
+        step["rms"].as_f64().unwrap(),
+    );
+    assert!((mean / 2.5e199 - 1.0).abs() < 1e-12, "{mean}");
+    assert!((rms / (5e199 / 2f64.sqrt()) - 1.0).abs() < 1e-12, "{rms}");
+}
