@@ -227,6 +227,7 @@ fn compare(
         distance: "euclidean".to_string(),
         engine: "microlp".to_string(),
         time_step: if u.arbitrary()? { Some(0.1) } else { None },
+        classes: None,
     };
     let sections = Sections {
         per_sequence: true,

@@ -164,6 +164,7 @@ pub fn comparison_document(input: Scores) -> Result<String> {
         // The step size only labels the Monte Carlo per-step summaries, which scores computed
         // elsewhere do not have.
         time_step: None,
+        classes: None,
     };
     let sections = Sections {
         per_sequence: input.per_sequence,

@@ -9,9 +9,11 @@ use serde::Serialize;
 
 use super::dataset::{self, CaseKey, Dataset};
 use super::{CompareOptions, RankBy};
-use crate::distance::Distance;
+use crate::classes::sum_steps;
+use crate::distance::{root, Distance};
 use crate::error::{Error, Result};
 use crate::per_step::{occupied_steps, GospaParams, OccupiedSteps};
+use crate::trajectory::Window;
 use crate::trajectory_metric::{score_with, Parts, TrajectoryParams, TrajectoryScore};
 
 /// The settings of a sweep: every order, then every cut-off, then every switching penalty
@@ -95,6 +97,28 @@ impl CaseScore {
     }
 }
 
+impl CaseScore {
+    /// The score of several classes together, as `specs/classes.md` adds them up (and
+    /// [`crate::classes::sum_scores`] does for whole scores): d^p, the parts and the counts
+    /// are sums in the order given, d = (sum of d^p)^(1/p) at order `order`; integral and
+    /// proven when every class's is; `steps` the steps of the window of all classes together.
+    pub fn over_classes(scores: &[&CaseScore], order: f64, steps: usize) -> CaseScore {
+        let total = scores.iter().fold(0.0, |sum, s| sum + s.total);
+        let mut parts = Parts::default();
+        for score in scores {
+            parts += score.parts;
+        }
+        CaseScore {
+            metric: root(total, order),
+            total,
+            parts,
+            integral: scores.iter().all(|s| s.integral),
+            proven: scores.iter().all(|s| s.proven),
+            steps,
+        }
+    }
+}
+
 impl From<&TrajectoryScore> for CaseScore {
     fn from(s: &TrajectoryScore) -> Self {
         CaseScore {
@@ -167,6 +191,62 @@ impl Evaluation {
             cases: sorted_cases,
             scores: sorted_scores,
             series: Vec::new(),
+        })
+    }
+
+    /// All classes together from the evaluations of each class (from [`evaluate`] on each
+    /// class's [`Dataset`], all with the same settings, trackers and cases): every score is
+    /// [`CaseScore::over_classes`] of the classes' scores, in the order given, and every
+    /// per-step series the classes' series added up ([`sum_steps`]). `windows[tracker x cases
+    /// + case]` is the window of all classes together of that tracker and case.
+    ///
+    /// # Errors
+    /// No class; classes evaluated on other settings, trackers or cases; windows not covering
+    /// every (tracker, case); per-step sums that overflow.
+    pub fn over_classes(classes: &[Evaluation], windows: &[Option<Window>]) -> Result<Self> {
+        let Some(first) = classes.first() else {
+            return Err(Error::Mismatch("there is no class to add up".into()));
+        };
+        let (trackers, cases) = (first.trackers.len(), first.cases.len());
+        if classes.iter().any(|c| {
+            c.settings != first.settings
+                || c.step_params != first.step_params
+                || c.trackers != first.trackers
+                || c.cases != first.cases
+        }) || windows.len() != trackers * cases
+        {
+            return Err(Error::Mismatch(
+                "the classes were evaluated on other settings, trackers or cases".into(),
+            ));
+        }
+        let steps_of = |t: usize, c: usize| windows[t * cases + c].map_or(0, |w| w.len());
+        let mut scores = Vec::with_capacity(first.scores.len());
+        for (setting, params) in first.settings.iter().enumerate() {
+            for t in 0..trackers {
+                for c in 0..cases {
+                    let each: Vec<&CaseScore> =
+                        classes.iter().map(|k| k.score(setting, t, c)).collect();
+                    scores.push(CaseScore::over_classes(&each, params.order, steps_of(t, c)));
+                }
+            }
+        }
+        let mut series = Vec::with_capacity(first.series.len());
+        for (index, params) in first.step_params.iter().enumerate() {
+            for t in 0..trackers {
+                for c in 0..cases {
+                    let each: Vec<&OccupiedSteps> =
+                        classes.iter().map(|k| k.series(index, t, c)).collect();
+                    series.push(sum_steps(&each, windows[t * cases + c], params)?);
+                }
+            }
+        }
+        Ok(Evaluation {
+            settings: first.settings.clone(),
+            step_params: first.step_params.clone(),
+            trackers: first.trackers.clone(),
+            cases: first.cases.clone(),
+            scores,
+            series,
         })
     }
 

@@ -123,6 +123,20 @@ pub struct SettingResult {
     pub trackers: Vec<TrackerResult>,
     /// The same per sequence (without differences), in sequence order.
     pub sequences: Vec<SequenceResult>,
+    /// With classes, the ranking within each class (without differences), in byte order of the
+    /// names; empty without classes.
+    pub classes: Vec<ClassRanking>,
+}
+
+/// One class's ranking: each tracker over the cases where the class occurs.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct ClassRanking {
+    /// The class.
+    pub class: String,
+    /// The cases where the class occurs: in the truth or in some tracker's estimate.
+    pub cases: usize,
+    /// The trackers over those cases, best first.
+    pub trackers: Vec<TrackerResult>,
 }
 
 impl SettingResult {
@@ -145,7 +159,7 @@ impl SettingResult {
 pub(super) fn rank_trackers(
     evaluation: &Evaluation,
     setting: usize,
-    cases: Range<usize>,
+    cases: impl Iterator<Item = usize> + Clone,
     rank_by: RankBy,
     bootstrap: Option<(&BootstrapOptions, &[Range<usize>])>,
 ) -> Result<Vec<TrackerResult>> {

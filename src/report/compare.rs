@@ -46,6 +46,9 @@ pub struct CompareInputs {
     /// per-step summaries give each step's time in those units (`input_time`) beside the step.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub time_step: Option<f64>,
+    /// `--class-column`: the classes found, in byte order of the names; `None` without it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub classes: Option<Vec<String>>,
 }
 
 /// Which parts a report holds besides the overall ranking.
@@ -190,6 +193,38 @@ fn summary_tables<W: Write>(
     write_table(out, &header, &rows)
 }
 
+/// The two summary tables of rankings within groups (sequences, classes): each row led by the
+/// group's name, the rank, the tracker and the number of cases; `names` holds the headers of
+/// the group's column and of the cases' column.
+fn grouped_tables<'a, W: Write>(
+    out: &mut W,
+    order: f64,
+    names: [&str; 2],
+    groups: impl Iterator<Item = (String, &'a Vec<TrackerResult>)>,
+) -> std::io::Result<()> {
+    let rows: Vec<(Vec<String>, &Summary)> = groups
+        .flat_map(|(name, trackers)| {
+            trackers.iter().map(move |t| {
+                let lead = vec![
+                    name.clone(),
+                    t.rank.to_string(),
+                    t.tracker.clone(),
+                    t.summary.cases.to_string(),
+                ];
+                (lead, &t.summary)
+            })
+        })
+        .collect();
+    let (leads, summaries): (Vec<_>, Vec<_>) = rows.into_iter().unzip();
+    summary_tables(
+        out,
+        order,
+        &[names[0], "rank", "tracker", names[1]],
+        &leads,
+        &summaries,
+    )
+}
+
 /// Below this many resampling units the text warns that the intervals are rough.
 const FEW_UNITS: usize = 10;
 
@@ -243,6 +278,16 @@ pub fn write_text<W: Write>(
         })
         .collect();
     writeln!(out, "trackers  {}", trackers.join("; "))?;
+    if let Some(classes) = &inputs.classes {
+        let names: Vec<String> = classes.iter().map(|c| printable(c).into_owned()).collect();
+        writeln!(out, "classes   {}", names.join(", "))?;
+        writeln!(
+            out,
+            "Objects are matched within their class; d is the total over the classes,\n\
+             (sum of each class's d^p)^(1/p). Each class is also ranked on its own, over the cases\n\
+             where it occurs."
+        )?;
+    }
     writeln!(
         out,
         "d^p/step is the mean over the cases of d^p / steps, each case's cost per step (sequences\n\
@@ -348,32 +393,23 @@ pub fn write_text<W: Write>(
                 )?;
             }
         }
+        if !setting.classes.is_empty() {
+            writeln!(out)?;
+            writeln!(out, "Per class (over the cases where it occurs):")?;
+            let groups = setting
+                .classes
+                .iter()
+                .map(|k| (k.class.clone(), &k.trackers));
+            grouped_tables(out, setting.params.order, ["class", "cases"], groups)?;
+        }
         if sections.per_sequence {
             writeln!(out)?;
             writeln!(out, "Per sequence (over its runs):")?;
-            let rows: Vec<(Vec<String>, &Summary)> = setting
+            let groups = setting
                 .sequences
                 .iter()
-                .flat_map(|s| {
-                    s.trackers.iter().map(move |t| {
-                        let lead = vec![
-                            shown(&s.sequence),
-                            t.rank.to_string(),
-                            t.tracker.clone(),
-                            t.summary.cases.to_string(),
-                        ];
-                        (lead, &t.summary)
-                    })
-                })
-                .collect();
-            let (leads, summaries): (Vec<_>, Vec<_>) = rows.into_iter().unzip();
-            summary_tables(
-                out,
-                setting.params.order,
-                &["sequence", "rank", "tracker", "runs"],
-                &leads,
-                &summaries,
-            )?;
+                .map(|s| (shown(&s.sequence), &s.trackers));
+            grouped_tables(out, setting.params.order, ["sequence", "runs"], groups)?;
         }
     }
     if total > 1 {
@@ -419,20 +455,27 @@ fn write_cases_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::
         let p = &setting.params;
         let cases = comparison.cases.iter().filter(|c| c.params == *p);
         let show_total = p.order != 1.0;
-        let mut header = vec!["sequence", "run", "tracker", "steps", "d"];
+        let with_classes = comparison.cases.iter().any(|c| c.class.is_some());
+        let mut header = vec!["sequence", "run"];
+        if with_classes {
+            header.push("class");
+        }
+        header.extend(["tracker", "steps", "d"]);
         if show_total {
             header.push("d^p");
         }
         header.push("d^p/step");
         let rows: Vec<Vec<String>> = cases
             .map(|c| {
-                let mut row = vec![
-                    shown(&c.sequence),
-                    shown(&c.run),
+                let mut row = vec![shown(&c.sequence), shown(&c.run)];
+                if let Some(class) = &c.class {
+                    row.push(class.name().unwrap_or(ALL_CLASSES_TEXT).to_string());
+                }
+                row.extend([
                     c.tracker.clone(),
                     c.score.steps.to_string(),
                     fixed(c.score.metric, 4),
-                ];
+                ]);
                 if show_total {
                     row.push(fixed(c.score.total, 4));
                 }
@@ -445,6 +488,10 @@ fn write_cases_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::
     }
     Ok(())
 }
+
+/// The class of the case rows for all classes together, in text (CSV leaves it empty, JSON
+/// writes null).
+const ALL_CLASSES_TEXT: &str = "(all)";
 
 /// A group value for text: `-` when empty.
 fn shown(value: &str) -> String {
@@ -667,17 +714,24 @@ pub fn write_sequences_csv<W: Write>(out: &mut W, comparison: &Comparison) -> st
     Ok(())
 }
 
-/// CSV: one row per (setting, tracker, sequence, run): the case's score and d^p per step.
+/// CSV: one row per (setting, tracker, sequence, run): the case's score and d^p per step; with
+/// classes, a `class` column after `run` (empty on the rows for all classes).
 pub fn write_cases_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+    let with_classes = comparison.cases.iter().any(|c| c.class.is_some());
     writeln!(
         out,
-        "cutoff,order,switch_penalty,tracker,sequence,run,metric,total,localisation,missed,false,switching,missed_count,false_count,switch_count,integral,steps,per_step"
+        "cutoff,order,switch_penalty,tracker,sequence,run,{}metric,total,localisation,missed,false,switching,missed_count,false_count,switch_count,integral,steps,per_step",
+        if with_classes { "class," } else { "" }
     )?;
     for c in &comparison.cases {
         let (p, s) = (&c.params, &c.score);
+        let class = match &c.class {
+            Some(class) => format!("{},", csv_text(class.name().unwrap_or(""))),
+            None => String::new(),
+        };
         writeln!(
             out,
-            "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}",
+            "{},{},{},{},{},{},{class}{},{},{},{},{},{},{},{},{},{},{},{}",
             p.cutoff,
             p.order,
             p.switch_penalty,
@@ -799,6 +853,13 @@ struct SequenceDocument<'a> {
 }
 
 #[derive(Serialize)]
+struct ClassDocument<'a> {
+    class: &'a str,
+    cases: usize,
+    trackers: Vec<RowDocument<'a>>,
+}
+
+#[derive(Serialize)]
 struct SettingDocument<'a> {
     cutoff: f64,
     order: f64,
@@ -807,6 +868,8 @@ struct SettingDocument<'a> {
     trackers: Vec<RowDocument<'a>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     sequences: Option<Vec<SequenceDocument<'a>>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    classes: Option<Vec<ClassDocument<'a>>>,
 }
 
 #[derive(Serialize)]
@@ -901,6 +964,16 @@ pub fn write_json<W: Write>(
                         .map(|q| SequenceDocument {
                             sequence: &q.sequence,
                             trackers: rows(&q.trackers),
+                        })
+                        .collect()
+                }),
+                classes: (!s.classes.is_empty()).then(|| {
+                    s.classes
+                        .iter()
+                        .map(|k| ClassDocument {
+                            class: &k.class,
+                            cases: k.cases,
+                            trackers: rows(&k.trackers),
                         })
                         .collect()
                 }),

@@ -1102,3 +1102,311 @@ fn a_huge_per_step_gospa_has_a_finite_rms_over_runs() {
     assert!((mean / 2.5e199 - 1.0).abs() < 1e-12, "{mean}");
     assert!((rms / (5e199 / 2f64.sqrt()) - 1.0).abs() < 1e-12, "{rms}");
 }
+
+/// The scene of the class checks, c = 2 (a missed or false object-step costs c^p / 2), with a
+/// class column `kind`.
+///
+/// Sequence s1: a car at x = 0 and a pedestrian at x = 10, steps 0 and 1. Tracker A follows the
+/// car at x = 0.5 (localisation 0.5 a step) and the pedestrian exactly. Tracker B reports a
+/// track at the car's place but labelled pedestrian: within classes the car is missed at both
+/// steps, and in the pedestrian class that track is 10 from the pedestrian, beyond c, so the
+/// pedestrian is missed and the track false at both steps.
+/// Sequence s2: a car at x = 0 at step 0 only (no pedestrian in any file): A reports x = 1, B
+/// x = 0.5.
+fn class_scene(dir: &Path) -> (String, String, String) {
+    let truth = write(
+        dir,
+        "truth.csv",
+        "sequence,time,id,x,kind\ns1,0,a,0,car\ns1,1,a,0,car\ns1,0,b,10,ped\ns1,1,b,10,ped\n\
+         s2,0,a,0,car\n",
+    );
+    let a = write(
+        dir,
+        "a.csv",
+        "sequence,time,id,x,kind\ns1,0,p,0.5,car\ns1,1,p,0.5,car\ns1,0,q,10,ped\ns1,1,q,10,ped\n\
+         s2,0,p,1,car\n",
+    );
+    let b = write(
+        dir,
+        "b.csv",
+        "sequence,time,id,x,kind\ns1,0,r,0,ped\ns1,1,r,0,ped\ns2,0,r,0.5,car\n",
+    );
+    (truth, a, b)
+}
+
+/// With --class-column the trackers are ranked by the total over the classes,
+/// d = (sum of each class's d^p)^(1/p) (`specs/classes.md`: trajectory GOSPA with an infinite
+/// distance between classes adds up over classes in d^p), and each class is ranked over the
+/// cases where it occurs. Hand values from the GOSPA costs (`class_scene`), and each case's
+/// total checked against `switchyard score --class-column` on that case alone.
+#[test]
+fn classes_rank_by_the_total_and_within_each_class() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, a, b) = class_scene(dir.path());
+    let (named_a, named_b) = (format!("A={a}"), format!("B={b}"));
+    let args = [
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &named_a,
+        "--estimate",
+        &named_b,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--order",
+        "1,2",
+        "--class-column",
+        "kind",
+        "--per-case",
+        "--format",
+        "json",
+    ];
+    let doc = json(&args);
+    assert_eq!(doc["inputs"]["classes"], serde_json::json!(["car", "ped"]));
+    // p = 1. A: car d 0.5 + 0.5 = 1 in s1 and 1 in s2, pedestrian 0: totals 1 and 1, mean 1.
+    // B: s1 car 2 missed steps (2), pedestrian 2 missed and 2 false (4): total 6; s2 car 0.5:
+    // total 0.5; mean (6 + 0.5) / 2 = 3.25.
+    let p1 = &doc["settings"][0];
+    assert_eq!(p1["ranking"], "A < B");
+    close(&p1["trackers"][0]["metric_mean"], 1.0);
+    close(&p1["trackers"][1]["metric_mean"], 3.25);
+    // The bootstrap on the total: differences B - A per sequence 6 - 1 = 5 and 0.5 - 1 = -0.5.
+    close(&p1["trackers"][1]["difference"]["mean"], 2.25);
+    // Per class: car over both sequences, A (1 + 1) / 2 = 1, B (2 + 0.5) / 2 = 1.25; the
+    // pedestrian class occurs in s1 only: A 0, B 4 over one case.
+    let classes = p1["classes"].as_array().unwrap();
+    assert_eq!(classes.len(), 2);
+    assert_eq!(
+        (&classes[0]["class"], &classes[0]["cases"]),
+        (&"car".into(), &2.into())
+    );
+    close(&classes[0]["trackers"][0]["metric_mean"], 1.0);
+    close(&classes[0]["trackers"][1]["metric_mean"], 1.25);
+    assert_eq!(classes[0]["trackers"][1]["tracker"], "B");
+    assert_eq!(
+        (&classes[1]["class"], &classes[1]["cases"]),
+        (&"ped".into(), &1.into())
+    );
+    close(&classes[1]["trackers"][0]["metric_mean"], 0.0);
+    close(&classes[1]["trackers"][1]["metric_mean"], 4.0);
+    close(&classes[1]["trackers"][1]["missed_count"], 2.0);
+    // p = 2: a missed or false step costs c^2 / 2 = 2. B on s1: car 2 x 2 = 4, pedestrian 4 x 2
+    // = 8, d = sqrt(12); on s2 car 0.5^2 = 0.25, d = 0.5. A on s1: car 2 x 0.25 = 0.5, d =
+    // sqrt(0.5); on s2 d = 1.
+    let p2 = &doc["settings"][1];
+    let b2 = p2["trackers"].as_array().unwrap();
+    let b2 = b2.iter().find(|t| t["tracker"] == "B").unwrap();
+    close(&b2["metric_mean"], (12f64.sqrt() + 0.5) / 2.0);
+    close(&b2["total_mean"], (12.0 + 0.25) / 2.0);
+    let a2 = &p2["trackers"][0];
+    close(&a2["metric_mean"], (0.5f64.sqrt() + 1.0) / 2.0);
+
+    // Rows: per setting, tracker and case, one row per class occurring in the case, then one
+    // for all classes (class null). s2 has no pedestrian row.
+    let rows = doc["cases"].as_array().unwrap();
+    let p1_a: Vec<(&str, Value)> = rows
+        .iter()
+        .filter(|r| r["order"] == 1.0 && r["tracker"] == "A")
+        .map(|r| (r["sequence"].as_str().unwrap(), r["class"].clone()))
+        .collect();
+    assert_eq!(
+        p1_a,
+        [
+            ("s1", "car".into()),
+            ("s1", "ped".into()),
+            ("s1", Value::Null),
+            ("s2", "car".into()),
+            ("s2", Value::Null)
+        ]
+    );
+    // Each case's rows against `switchyard score --class-column` on that case's rows alone.
+    let cases = [
+        (
+            "s1",
+            "time,id,x,kind\n0,a,0,car\n1,a,0,car\n0,b,10,ped\n1,b,10,ped\n",
+            "time,id,x,kind\n0,r,0,ped\n1,r,0,ped\n",
+        ),
+        (
+            "s2",
+            "time,id,x,kind\n0,a,0,car\n",
+            "time,id,x,kind\n0,r,0.5,car\n",
+        ),
+    ];
+    for order in ["1", "2"] {
+        for (sequence, truth_rows, b_rows) in cases {
+            let t = write(dir.path(), "case-truth.csv", truth_rows);
+            let e = write(dir.path(), "case-b.csv", b_rows);
+            let score = json(&[
+                "score",
+                "--truth",
+                &t,
+                "--estimate",
+                &e,
+                "--state-columns",
+                "x",
+                "--cutoff",
+                "2",
+                "--order",
+                order,
+                "--class-column",
+                "kind",
+                "--format",
+                "json",
+            ]);
+            let p: f64 = order.parse().unwrap();
+            let mine: Vec<&Value> = rows
+                .iter()
+                .filter(|r| r["order"] == p && r["tracker"] == "B" && r["sequence"] == sequence)
+                .collect();
+            let all = mine.iter().find(|r| r["class"].is_null()).unwrap();
+            close(&all["metric"], score["metric"].as_f64().unwrap());
+            close(&all["total"], score["total"].as_f64().unwrap());
+            close(
+                &all["missed_count"],
+                score["missed_count"].as_f64().unwrap(),
+            );
+            for row in mine.iter().filter(|r| !r["class"].is_null()) {
+                let class = row["class"].as_str().unwrap();
+                close(
+                    &row["metric"],
+                    score["classes"][class]["metric"].as_f64().unwrap(),
+                );
+            }
+        }
+    }
+
+    // CSV: the class column after run, empty on the rows for all classes.
+    let mut csv_args = args.to_vec();
+    let at = csv_args.iter().position(|&a| a == "1,2").unwrap();
+    csv_args[at] = "1";
+    *csv_args.last_mut().unwrap() = "csv";
+    let csv = String::from_utf8(run_ok(&csv_args)).unwrap();
+    let lines: Vec<&str> = csv.lines().collect();
+    assert!(lines[0].starts_with("cutoff,order,switch_penalty,tracker,sequence,run,class,metric,"));
+    assert!(lines[3].starts_with("2,1,2,A,s1,,,1,1,"), "{csv}");
+    assert!(lines[7].starts_with("2,1,2,B,s1,,ped,4,4,"), "{csv}");
+    assert_eq!(lines.len(), 11);
+}
+
+/// With classes, the Monte Carlo per-step values are those of all classes together: each step's
+/// GOSPA^p is the sum over the classes (alpha = 2, `specs/classes.md`), so with one run the
+/// per-step mean is `switchyard steps --class-column`'s value for all classes. s1 of
+/// `class_scene`, tracker B: car missed (1) plus pedestrian missed and false (1 + 1) = 3 at p = 1.
+#[test]
+fn classes_monte_carlo_steps_equal_the_steps_of_all_classes() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, _, b) = class_scene(dir.path());
+    let doc = json(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &format!("B={b}"),
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--class-column",
+        "kind",
+        "--monte-carlo",
+        "--format",
+        "json",
+    ]);
+    let block = &doc["monte_carlo"][0];
+    assert_eq!(block["sequence"], "s1");
+    let t = write(
+        dir.path(),
+        "s1.csv",
+        "time,id,x,kind\n0,a,0,car\n1,a,0,car\n0,b,10,ped\n1,b,10,ped\n",
+    );
+    let e = write(
+        dir.path(),
+        "s1b.csv",
+        "time,id,x,kind\n0,r,0,ped\n1,r,0,ped\n",
+    );
+    let steps = String::from_utf8(run_ok(&[
+        "steps",
+        "--truth",
+        &t,
+        "--estimate",
+        &e,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--class-column",
+        "kind",
+        "--format",
+        "csv",
+    ]))
+    .unwrap();
+    let all: Vec<f64> = steps
+        .lines()
+        .filter(|l| l.starts_with(','))
+        .map(|l| l.split(',').nth(2).unwrap().parse().unwrap())
+        .collect();
+    assert_eq!(all.len(), 2);
+    for (k, expected) in all.iter().enumerate() {
+        close(&block["steps"][k]["mean"], *expected);
+        close(&block["steps"][k]["mean"], 3.0);
+    }
+}
+
+/// The same classed data given by group columns or by a manifest gives the same bytes.
+#[test]
+fn classes_read_by_manifest_and_by_group_columns_agree() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, a, b) = class_scene(dir.path());
+    let split = |file: &str, sequence: &str| -> String {
+        let text = std::fs::read_to_string(file).unwrap();
+        let mut out = String::from("time,id,x,kind\n");
+        for line in text.lines().skip(1) {
+            if let Some(rest) = line.strip_prefix(&format!("{sequence},")) {
+                writeln!(out, "{rest}").unwrap();
+            }
+        }
+        out
+    };
+    let mut manifest = String::from("tracker,sequence,truth,estimate\n");
+    for sequence in ["s1", "s2"] {
+        let t = write(
+            dir.path(),
+            &format!("t-{sequence}.csv"),
+            &split(&truth, sequence),
+        );
+        for (name, file) in [("A", &a), ("B", &b)] {
+            let e = write(
+                dir.path(),
+                &format!("{name}-{sequence}.csv"),
+                &split(file, sequence),
+            );
+            writeln!(manifest, "{name},{sequence},{t},{e}").unwrap();
+        }
+    }
+    let manifest = write(dir.path(), "m.csv", &manifest);
+    let common = [
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--class-column",
+        "kind",
+        "--per-case",
+        "--format",
+        "csv",
+    ];
+    let mut by_columns = vec!["compare", "--truth", &truth];
+    let (named_a, named_b) = (format!("A={a}"), format!("B={b}"));
+    by_columns.extend(["--estimate", &named_a, "--estimate", &named_b]);
+    by_columns.extend(common);
+    let mut by_manifest = vec!["compare", "--manifest", &manifest];
+    by_manifest.extend(common);
+    let from_columns = run_ok(&by_columns);
+    assert_eq!(from_columns, run_ok(&by_manifest));
+    assert!(String::from_utf8(from_columns)
+        .unwrap()
+        .contains(",B,s1,,ped,4,4,"));
+}
