@@ -208,6 +208,7 @@ fn compare(
             rank_by: RankBy::default(),
         },
         monte_carlo: true,
+        ospa2: u.arbitrary()?,
     };
     let Ok(comparison) = run_comparison(&dataset, &Distance::default(), &options, &|| {}) else {
         return Ok(());

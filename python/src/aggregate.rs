@@ -75,6 +75,7 @@ fn case_score(s: &ScoreTuple) -> CaseScore {
         integral: s.9,
         proven: s.10,
         steps: s.11,
+        ospa2: None,
     }
 }
 

@@ -132,6 +132,12 @@ pub struct CompareArgs {
     /// d^p / steps of each case (long and short sequences then weigh alike).
     #[arg(long, value_enum, default_value_t = RankKind::Metric)]
     rank_by: RankKind,
+    /// Also give OSPA(2) (Beard, Vo, Vo, IEEE TSP 2020): the OSPA metric on trajectories with a
+    /// time-averaged distance, normalised to [0, c], over each case's whole window at each
+    /// setting's cut-off and order; its mean over the cases beside each ranking, and each
+    /// case's value with --per-case (specs/ospa2.md). The ranking stays by d.
+    #[arg(long)]
+    ospa2: bool,
     /// Also list every (setting, tracker, sequence, run) score: d, d^p, its parts, the
     /// counts, the steps and d^p / steps.
     #[arg(long)]
@@ -282,6 +288,14 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
         )
         .into());
     }
+    if args.ospa2 && args.class_column.is_some() {
+        return Err(Error::Parameter(
+            "--ospa2 is not given with --class-column: OSPA(2) is normalised, so classes do not \
+             add up"
+                .into(),
+        )
+        .into());
+    }
     let settings = settings_grid(&args.cutoff, &args.order, args.switch_penalty.as_deref())?;
     let bootstrap = BootstrapOptions {
         resamples: args.bootstrap_resamples,
@@ -320,6 +334,7 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
             },
         },
         monte_carlo: args.monte_carlo,
+        ospa2: args.ospa2,
     };
     let result = match &data {
         Data::Whole(data) => {

@@ -24,7 +24,7 @@ use serde::Serialize;
 pub use self::bootstrap::{BootstrapOptions, Interval};
 pub use self::dataset::{Case, CaseKey, Dataset, TrackerData};
 pub use self::montecarlo::StepsOverRuns;
-pub use self::plan::{evaluate, job_count, settings_grid, CaseScore, Evaluation};
+pub use self::plan::{evaluate, job_count, settings_grid, CaseScore, Evaluation, Ospa2Parts};
 use self::ranking::rank_trackers;
 pub use self::ranking::{
     rank, summarize, ClassRanking, SequenceResult, SettingResult, Summary, TrackerResult,
@@ -58,6 +58,8 @@ pub struct CompareOptions {
     pub aggregate: AggregateOptions,
     /// Also compute per-step GOSPA over runs.
     pub monte_carlo: bool,
+    /// Also compute OSPA(2) over each case's whole window, at each setting's cut-off and order.
+    pub ospa2: bool,
 }
 
 /// What ranks the trackers and what the bootstrap compares.

@@ -12,6 +12,7 @@ use super::{CompareOptions, RankBy};
 use crate::classes::sum_steps;
 use crate::distance::{root, Distance};
 use crate::error::{Error, Result};
+use crate::ospa2::{Ospa2, Ospa2Params, Ospa2Score};
 use crate::per_step::{occupied_steps, GospaParams, OccupiedSteps};
 use crate::trajectory::Window;
 use crate::trajectory_metric::{score_with, Parts, TrajectoryParams, TrajectoryScore};
@@ -58,6 +59,30 @@ pub fn settings_grid(
     Ok(settings)
 }
 
+/// OSPA(2) over a case's whole window (M. Beard, B.-T. Vo, B.-N. Vo, "A solution for
+/// large-scale multi-object tracking", IEEE Trans. Signal Processing 68:2754-2769, 2020;
+/// [`crate::ospa2`]), at the setting's cut-off and order: the value and its two parts in p-th
+/// power units, as `score --ospa2` gives them; or their means over cases in a summary.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
+pub struct Ospa2Parts {
+    /// OSPA(2), between 0 and c.
+    pub value: f64,
+    /// The part of OSPA(2)^p from the pairs closer than c.
+    pub paired_power: f64,
+    /// The part of OSPA(2)^p from the trajectories left without a partner closer than c.
+    pub unpaired_power: f64,
+}
+
+impl From<&Ospa2Score> for Ospa2Parts {
+    fn from(s: &Ospa2Score) -> Self {
+        Ospa2Parts {
+            value: s.value,
+            paired_power: s.paired_power,
+            unpaired_power: s.unpaired_power,
+        }
+    }
+}
+
 /// The trajectory metric of one (tracker, case, setting), without the LP's weights.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize)]
 pub struct CaseScore {
@@ -75,6 +100,9 @@ pub struct CaseScore {
     pub proven: bool,
     /// Steps in the window.
     pub steps: usize,
+    /// OSPA(2) over the window, when asked for (`--ospa2`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub ospa2: Option<Ospa2Parts>,
 }
 
 impl CaseScore {
@@ -115,6 +143,8 @@ impl CaseScore {
             integral: scores.iter().all(|s| s.integral),
             proven: scores.iter().all(|s| s.proven),
             steps,
+            // Normalised: OSPA(2) does not add up over classes.
+            ospa2: None,
         }
     }
 }
@@ -128,6 +158,7 @@ impl From<&TrajectoryScore> for CaseScore {
             integral: s.integral,
             proven: s.certificate.proven,
             steps: s.steps,
+            ospa2: None,
         }
     }
 }
@@ -406,15 +437,19 @@ pub fn evaluate(
                     case,
                 } => {
                     let t = &dataset.trackers()[tracker];
-                    score_with(
-                        dataset.truth_of(case),
-                        &t.estimates[case],
-                        &options.settings[setting],
-                        distance,
-                        &options.solve,
-                    )
-                    .map(|s| Outcome::Trajectory(CaseScore::from(&s)))
-                    .map_err(|e| in_case(e, &t.name, &dataset.cases()[case].key))
+                    let (truth, estimate) = (dataset.truth_of(case), &t.estimates[case]);
+                    let params = &options.settings[setting];
+                    score_with(truth, estimate, params, distance, &options.solve)
+                        .and_then(|s| {
+                            let mut score = CaseScore::from(&s);
+                            if options.ospa2 {
+                                let second = Ospa2Params::new(params.cutoff, params.order)?;
+                                let metric = Ospa2::new(truth, estimate, second, distance)?;
+                                score.ospa2 = Some(Ospa2Parts::from(&metric.whole()));
+                            }
+                            Ok(Outcome::Trajectory(score))
+                        })
+                        .map_err(|e| in_case(e, &t.name, &dataset.cases()[case].key))
                 }
                 Job::Steps {
                     params,
@@ -492,6 +527,7 @@ mod tests {
             integral: true,
             proven: true,
             steps: 1,
+            ospa2: None,
         };
         let settings = vec![TrajectoryParams::new(2.0, 1.0, 2.0).unwrap()];
         // Runs "10" and "9" of one sequence: as integers 9 comes first (the order `Dataset`

@@ -10,7 +10,7 @@ use super::steps::write_step;
 use super::{csv_number, fixed, input_time, param, plural, printable, write_table, TableLayout};
 use crate::compare::montecarlo::{OccupiedOverRuns, StepOverRuns, TimedStepOverRuns};
 use crate::compare::{
-    CaseResult, Comparison, RankBy, ResampleBy, SettingResult, StepsOverRuns, Summary,
+    CaseResult, Comparison, Ospa2Parts, RankBy, ResampleBy, SettingResult, StepsOverRuns, Summary,
     TrackerResult, Verdict,
 };
 use crate::per_step::Stretch;
@@ -137,6 +137,10 @@ fn summary_tables<W: Write>(
         header.push("mean d^p");
     }
     header.extend(["d^p/step", "fractional"]);
+    let show_ospa2 = summaries.iter().any(|s| s.ospa2.is_some());
+    if show_ospa2 {
+        header.push("OSPA(2)");
+    }
     let rows: Vec<Vec<String>> = leads
         .iter()
         .zip(summaries)
@@ -147,6 +151,9 @@ fn summary_tables<W: Write>(
                 row.push(fixed(s.total_mean, 4));
             }
             row.extend([fixed(s.per_step_mean, 4), s.fractional_cases.to_string()]);
+            if show_ospa2 {
+                row.push(ospa2_text(s.ospa2));
+            }
             row
         })
         .collect();
@@ -223,6 +230,30 @@ fn grouped_tables<'a, W: Write>(
         &leads,
         &summaries,
     )
+}
+
+/// OSPA(2) for text (`-` when absent).
+fn ospa2_text(value: Option<Ospa2Parts>) -> String {
+    value.map_or_else(|| "-".into(), |o| fixed(o.value, 4))
+}
+
+/// The CSV columns of OSPA(2), after the others, when it was computed.
+const OSPA2_CSV: &str = ",ospa2,ospa2_paired_power,ospa2_unpaired_power";
+
+/// The OSPA(2) header columns when `present`.
+fn ospa2_csv_header(present: bool) -> &'static str {
+    if present {
+        OSPA2_CSV
+    } else {
+        ""
+    }
+}
+
+/// OSPA(2) and its parts as CSV cells after the others (nothing when absent).
+fn ospa2_csv(value: Option<Ospa2Parts>) -> String {
+    value.map_or_else(String::new, |o| {
+        format!(",{},{},{}", o.value, o.paired_power, o.unpaired_power)
+    })
 }
 
 /// Below this many resampling units the text warns that the intervals are rough.
@@ -302,6 +333,13 @@ pub fn write_text<W: Write>(
             RankBy::PerStep => "d^p/step (--rank-by per-step)",
         }
     )?;
+    if has_ospa2(comparison) {
+        writeln!(
+            out,
+            "OSPA(2) is the mean over the cases of OSPA(2) (Beard, Vo, Vo, IEEE TSP 2020; normalised,\n\
+             0 to c) at the setting's c and p, over each case's whole window; it does not rank."
+        )?;
+    }
     let total = comparison.settings.len();
     let b = &comparison.bootstrap;
     for (index, setting) in comparison.settings.iter().enumerate() {
@@ -465,6 +503,10 @@ fn write_cases_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::
             header.push("d^p");
         }
         header.push("d^p/step");
+        let show_ospa2 = has_ospa2(comparison);
+        if show_ospa2 {
+            header.push("OSPA(2)");
+        }
         let rows: Vec<Vec<String>> = cases
             .map(|c| {
                 let mut row = vec![shown(&c.sequence), shown(&c.run)];
@@ -480,6 +522,9 @@ fn write_cases_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::
                     row.push(fixed(c.score.total, 4));
                 }
                 row.push(fixed(c.per_step, 4));
+                if show_ospa2 {
+                    row.push(ospa2_text(c.score.ospa2));
+                }
                 row
             })
             .collect();
@@ -651,11 +696,17 @@ fn csv_text(value: &str) -> String {
     }
 }
 
+/// True when the comparison computed OSPA(2).
+fn has_ospa2(comparison: &Comparison) -> bool {
+    comparison.cases.iter().any(|c| c.score.ospa2.is_some())
+}
+
 /// CSV: one row per (setting, tracker), best first within a setting.
 pub fn write_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
     writeln!(
         out,
-        "cutoff,order,switch_penalty,rank,tracker,cases,{SUMMARY_CSV},against,difference,lower,upper,verdict"
+        "cutoff,order,switch_penalty,rank,tracker,cases,{SUMMARY_CSV},against,difference,lower,upper,verdict{}",
+        ospa2_csv_header(has_ospa2(comparison))
     )?;
     for setting in &comparison.settings {
         let p = &setting.params;
@@ -672,14 +723,15 @@ pub fn write_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Res
             };
             writeln!(
                 out,
-                "{},{},{},{},{},{},{},{against},{difference},{lower},{upper},{verdict}",
+                "{},{},{},{},{},{},{},{against},{difference},{lower},{upper},{verdict}{}",
                 p.cutoff,
                 p.order,
                 p.switch_penalty,
                 t.rank,
                 csv_text(&t.tracker),
                 t.summary.cases,
-                summary_csv(&t.summary)
+                summary_csv(&t.summary),
+                ospa2_csv(t.summary.ospa2)
             )?;
         }
     }
@@ -690,7 +742,8 @@ pub fn write_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Res
 pub fn write_sequences_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
     writeln!(
         out,
-        "cutoff,order,switch_penalty,sequence,rank,tracker,runs,{SUMMARY_CSV}"
+        "cutoff,order,switch_penalty,sequence,rank,tracker,runs,{SUMMARY_CSV}{}",
+        ospa2_csv_header(has_ospa2(comparison))
     )?;
     for setting in &comparison.settings {
         let p = &setting.params;
@@ -698,7 +751,7 @@ pub fn write_sequences_csv<W: Write>(out: &mut W, comparison: &Comparison) -> st
             for t in &s.trackers {
                 writeln!(
                     out,
-                    "{},{},{},{},{},{},{},{}",
+                    "{},{},{},{},{},{},{},{}{}",
                     p.cutoff,
                     p.order,
                     p.switch_penalty,
@@ -706,7 +759,8 @@ pub fn write_sequences_csv<W: Write>(out: &mut W, comparison: &Comparison) -> st
                     t.rank,
                     csv_text(&t.tracker),
                     t.summary.cases,
-                    summary_csv(&t.summary)
+                    summary_csv(&t.summary),
+                    ospa2_csv(t.summary.ospa2)
                 )?;
             }
         }
@@ -720,8 +774,9 @@ pub fn write_cases_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::i
     let with_classes = comparison.cases.iter().any(|c| c.class.is_some());
     writeln!(
         out,
-        "cutoff,order,switch_penalty,tracker,sequence,run,{}metric,total,localisation,missed,false,switching,missed_count,false_count,switch_count,integral,steps,per_step",
-        if with_classes { "class," } else { "" }
+        "cutoff,order,switch_penalty,tracker,sequence,run,{}metric,total,localisation,missed,false,switching,missed_count,false_count,switch_count,integral,steps,per_step{}",
+        if with_classes { "class," } else { "" },
+        ospa2_csv_header(has_ospa2(comparison))
     )?;
     for c in &comparison.cases {
         let (p, s) = (&c.params, &c.score);
@@ -731,7 +786,7 @@ pub fn write_cases_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::i
         };
         writeln!(
             out,
-            "{},{},{},{},{},{},{class}{},{},{},{},{},{},{},{},{},{},{},{}",
+            "{},{},{},{},{},{},{class}{},{},{},{},{},{},{},{},{},{},{},{}{}",
             p.cutoff,
             p.order,
             p.switch_penalty,
@@ -749,7 +804,8 @@ pub fn write_cases_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::i
             s.parts.switch_count,
             s.integral,
             s.steps,
-            c.per_step
+            c.per_step,
+            ospa2_csv(s.ospa2)
         )?;
     }
     Ok(())

@@ -1103,6 +1103,21 @@ fn a_huge_per_step_gospa_has_a_finite_rms_over_runs() {
     assert!((rms / (5e199 / 2f64.sqrt()) - 1.0).abs() < 1e-12, "{rms}");
 }
 
+/// The rows of one sequence of a file whose first column is the sequence, as a file without
+/// that column (header included).
+fn sequence_rows(path: &str, sequence: &str) -> String {
+    let text = std::fs::read_to_string(path).unwrap();
+    let mut lines = text.lines();
+    let header = lines.next().unwrap();
+    let mut out = format!("{}\n", header.split_once(',').unwrap().1);
+    for line in lines {
+        if let Some(rest) = line.strip_prefix(&format!("{sequence},")) {
+            writeln!(out, "{rest}").unwrap();
+        }
+    }
+    out
+}
+
 /// The scene of the class checks, c = 2 (a missed or false object-step costs c^p / 2), with a
 /// class column `kind`.
 ///
@@ -1360,16 +1375,7 @@ fn classes_monte_carlo_steps_equal_the_steps_of_all_classes() {
 fn classes_read_by_manifest_and_by_group_columns_agree() {
     let dir = tempfile::tempdir().unwrap();
     let (truth, a, b) = class_scene(dir.path());
-    let split = |file: &str, sequence: &str| -> String {
-        let text = std::fs::read_to_string(file).unwrap();
-        let mut out = String::from("time,id,x,kind\n");
-        for line in text.lines().skip(1) {
-            if let Some(rest) = line.strip_prefix(&format!("{sequence},")) {
-                writeln!(out, "{rest}").unwrap();
-            }
-        }
-        out
-    };
+    let split = |file: &str, sequence: &str| sequence_rows(file, sequence);
     let mut manifest = String::from("tracker,sequence,truth,estimate\n");
     for sequence in ["s1", "s2"] {
         let t = write(
@@ -1409,4 +1415,177 @@ fn classes_read_by_manifest_and_by_group_columns_agree() {
     assert!(String::from_utf8(from_columns)
         .unwrap()
         .contains(",B,s1,,ped,4,4,"));
+}
+
+/// `compare --ospa2`: each case's OSPA(2) (M. Beard, B.-T. Vo, B.-N. Vo, "A solution for
+/// large-scale multi-object tracking", IEEE Trans. Signal Processing 68, 2020) is the one
+/// `switchyard score --ospa2` gives on that case at the setting's cut-off and order, and each
+/// tracker's summary holds the mean of those over the cases. Checked at four settings of a sweep,
+/// on `hand_scene`, plus hand values at c = 2, p = 1: A on s1 follows the truth at 0.5 (mean
+/// distance 0.5, one truth, one track: OSPA(2) 0.5), on s2 at 1 (1); B reports nothing on s1
+/// (one truth unpaired: c = 2) and x = 5, beyond c, on s2 (2). Means: A 0.75, B 2.
+#[test]
+fn ospa2_per_case_equals_score_and_the_summary_is_its_mean() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, a, b) = hand_scene(dir.path());
+    let (named_a, named_b) = (format!("A={a}"), format!("B={b}"));
+    let doc = json(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &named_a,
+        "--estimate",
+        &named_b,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2,3",
+        "--order",
+        "1,2",
+        "--ospa2",
+        "--per-case",
+        "--format",
+        "json",
+    ]);
+    let first = &doc["settings"][0];
+    assert_eq!(
+        (first["cutoff"].as_f64(), first["order"].as_f64()),
+        (Some(2.0), Some(1.0))
+    );
+    close(&first["trackers"][0]["ospa2"]["value"], 0.75);
+    close(&first["trackers"][1]["ospa2"]["value"], 2.0);
+    close(&first["trackers"][1]["ospa2"]["unpaired_power"], 2.0);
+    close(&first["trackers"][0]["ospa2"]["paired_power"], 0.75);
+    // The ranking stays by d (A 1 < B 2 here).
+    assert_eq!(first["ranking"], "A < B");
+    let rows = doc["cases"].as_array().unwrap();
+    assert_eq!(rows.len(), 4 * 2 * 2);
+    for setting in doc["settings"].as_array().unwrap() {
+        let (c, p) = (
+            setting["cutoff"].as_f64().unwrap(),
+            setting["order"].as_f64().unwrap(),
+        );
+        for tracker in setting["trackers"].as_array().unwrap() {
+            let name = tracker["tracker"].as_str().unwrap();
+            let file = if name == "A" { &a } else { &b };
+            let mine: Vec<&Value> = rows
+                .iter()
+                .filter(|r| r["cutoff"] == c && r["order"] == p && r["tracker"] == name)
+                .collect();
+            assert_eq!(mine.len(), 2);
+            let mut sums = [0.0; 3];
+            for row in &mine {
+                let sequence = row["sequence"].as_str().unwrap();
+                let one =
+                    |path: &str, out: &str| write(dir.path(), out, &sequence_rows(path, sequence));
+                let (t, e) = (one(&truth, "one-truth.csv"), one(file, "one-estimate.csv"));
+                let score = json(&[
+                    "score",
+                    "--truth",
+                    &t,
+                    "--estimate",
+                    &e,
+                    "--state-columns",
+                    "x",
+                    "--cutoff",
+                    &c.to_string(),
+                    "--order",
+                    &p.to_string(),
+                    "--ospa2",
+                    "--format",
+                    "json",
+                ]);
+                for (k, key) in ["value", "paired_power", "unpaired_power"]
+                    .iter()
+                    .enumerate()
+                {
+                    let expected = score["ospa2"][key].as_f64().unwrap();
+                    close(&row["ospa2"][key], expected);
+                    sums[k] += expected;
+                }
+            }
+            for (k, key) in ["value", "paired_power", "unpaired_power"]
+                .iter()
+                .enumerate()
+            {
+                close(&tracker["ospa2"][key], sums[k] / 2.0);
+            }
+        }
+    }
+    // Refused with classes: OSPA(2) does not add up over classes.
+    let output = switchyard()
+        .args([
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &named_a,
+            "--state-columns",
+            "x",
+            "--cutoff",
+            "2",
+            "--ospa2",
+            "--class-column",
+            "x",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&output.stderr).contains("OSPA(2) is normalised"));
+}
+
+/// With --ospa2 the CSV tables end with the columns ospa2, ospa2_paired_power and
+/// ospa2_unpaired_power and the text tables with OSPA(2); the values are those of the JSON
+/// (`hand_scene`, c = 2: A's mean 0.75, B's 2, as derived above).
+#[test]
+fn ospa2_columns_in_csv_and_text() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, a, b) = hand_scene(dir.path());
+    let (named_a, named_b) = (format!("A={a}"), format!("B={b}"));
+    let run = |extra: &[&str]| {
+        let mut args = vec![
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &named_a,
+            "--estimate",
+            &named_b,
+            "--state-columns",
+            "x",
+            "--cutoff",
+            "2",
+            "--ospa2",
+        ];
+        args.extend(extra);
+        String::from_utf8(run_ok(&args)).unwrap()
+    };
+    let csv = run(&["--format", "csv"]);
+    let lines: Vec<&str> = csv.lines().collect();
+    assert!(lines[0].ends_with(",verdict,ospa2,ospa2_paired_power,ospa2_unpaired_power"));
+    assert!(lines[1].ends_with(",0.75,0.75,0"), "{csv}");
+    assert!(lines[2].ends_with(",2,0,2"), "{csv}");
+    let cases = run(&["--format", "csv", "--per-case"]);
+    assert!(cases
+        .lines()
+        .next()
+        .unwrap()
+        .ends_with(",per_step,ospa2,ospa2_paired_power,ospa2_unpaired_power"));
+    // A on s1: 0.5, all of it paired.
+    assert!(
+        cases.lines().nth(1).unwrap().ends_with(",0.5,0.5,0"),
+        "{cases}"
+    );
+    let text = run(&[]);
+    let header = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("rank"))
+        .unwrap();
+    assert!(header.ends_with("OSPA(2)"), "{header}");
+    let a_row = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("1 "))
+        .unwrap();
+    assert!(a_row.ends_with("0.7500"), "{a_row}");
 }
