@@ -8,12 +8,13 @@ use rayon::prelude::*;
 
 use switchyard::compare::{
     job_count, run as run_comparison, run_by_class, settings_grid, AggregateOptions,
-    BootstrapOptions, CompareOptions, Dataset, RankBy, ResampleBy,
+    BootstrapOptions, ClassDatasets, CompareOptions, Dataset, RankBy, ResampleBy,
 };
 use switchyard::distance::Distance;
 use switchyard::input::grouped::{read_grouped_classed_csv_path, GroupColumns, GroupedFile};
 use switchyard::input::manifest::read_manifest_path;
 use switchyard::report::compare::{self as report, CompareInputs, Sections, TrackerSource};
+use switchyard::report::{plural, printable};
 use switchyard::trajectory_metric::{Engine, SolveOptions};
 
 use switchyard::Error;
@@ -175,6 +176,19 @@ impl Data {
     }
 }
 
+/// The data by class, after a note on standard error for each file with trajectories cut into
+/// pieces by class.
+fn by_class(datasets: ClassDatasets) -> Data {
+    for (file, count) in &datasets.mixed {
+        eprintln!(
+            "switchyard: note: {}: {} more than one class; each is scored as one piece per class",
+            printable(file),
+            plural(*count, "trajectory carries", "trajectories carry")
+        );
+    }
+    Data::ByClass(datasets.classes)
+}
+
 /// Reads the data by group columns or through a manifest, each state checked for `distance`;
 /// returns it with the input description (without the distance and engine).
 fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Data, CompareInputs)> {
@@ -199,9 +213,7 @@ fn read_sources(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Data
         args.output
             .check(named.map(|p| p.as_path()).chain([Path::new(manifest_path)]))?;
         let data = match class_column {
-            Some(column) => {
-                Data::ByClass(Dataset::from_manifest_by_class(&manifest, &layout, column)?)
-            }
+            Some(column) => by_class(Dataset::from_manifest_by_class(&manifest, &layout, column)?),
             None => Data::Whole(Dataset::from_manifest(&manifest, &layout)?),
         };
         let trackers = data
@@ -256,7 +268,7 @@ fn read_sources(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Data
         .collect();
     let truth_file = files.pop().expect("the truth was read");
     let data = match class_column {
-        Some(_) => Data::ByClass(Dataset::from_columns_by_class(truth_file, estimates)?),
+        Some(_) => by_class(Dataset::from_columns_by_class(truth_file, estimates)?),
         None => Data::Whole(Dataset::from_columns(truth_file, estimates)?),
     };
     let inputs = CompareInputs {

@@ -79,6 +79,16 @@ pub struct TrackerData {
     pub estimates: Vec<TrajectorySet>,
 }
 
+/// One dataset per class (in byte order of the names, all with the same cases), and the files
+/// with trajectories whose rows carry more than one class (each cut into one piece per class).
+#[derive(Clone, Debug, PartialEq)]
+pub struct ClassDatasets {
+    /// Each class and its dataset.
+    pub classes: Vec<(String, Dataset)>,
+    /// Each file (as named, in the order read) with such trajectories, and how many it has.
+    pub mixed: Vec<(String, usize)>,
+}
+
 /// Cases sorted by key, their truths, and the trackers' estimates.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Dataset {
@@ -352,7 +362,15 @@ impl Dataset {
     pub fn from_columns_by_class(
         truth: GroupedFile,
         estimates: Vec<(String, GroupedFile)>,
-    ) -> Result<Vec<(String, Dataset)>> {
+    ) -> Result<ClassDatasets> {
+        let mixed = std::iter::once(&truth)
+            .chain(estimates.iter().map(|(_, file)| file))
+            .map(|file| {
+                let count = file.groups.iter().filter_map(|g| g.classes.as_ref());
+                (file.source.clone(), count.map(PointClasses::mixed).sum())
+            })
+            .filter(|&(_, count)| count > 0)
+            .collect();
         let mut truth_pieces = class_pieces(&truth)?;
         let mut estimate_pieces = estimates
             .iter()
@@ -378,7 +396,10 @@ impl Dataset {
                 .collect();
             datasets.push((name.clone(), Dataset::from_columns(truth, estimates)?));
         }
-        Ok(datasets)
+        Ok(ClassDatasets {
+            classes: datasets,
+            mixed,
+        })
     }
 
     /// Reads every file a manifest names (in parallel) and builds the dataset.
@@ -388,7 +409,7 @@ impl Dataset {
     /// truth files; a tracker without an entry for every case; files of different state
     /// dimensions. Each names the manifest's line or entry.
     pub fn from_manifest(manifest: &Manifest, layout: &CsvLayout) -> Result<Self> {
-        let mut datasets = Self::read_manifest(manifest, layout, None)?;
+        let mut datasets = Self::read_manifest(manifest, layout, None)?.classes;
         Ok(datasets.pop().expect("one dataset without classes").1)
     }
 
@@ -401,7 +422,7 @@ impl Dataset {
         manifest: &Manifest,
         layout: &CsvLayout,
         class_column: &str,
-    ) -> Result<Vec<(String, Dataset)>> {
+    ) -> Result<ClassDatasets> {
         Self::read_manifest(manifest, layout, Some(class_column))
     }
 
@@ -410,7 +431,7 @@ impl Dataset {
         manifest: &Manifest,
         layout: &CsvLayout,
         class_column: Option<&str>,
-    ) -> Result<Vec<(String, Dataset)>> {
+    ) -> Result<ClassDatasets> {
         if manifest.entries.is_empty() {
             return Err(Error::input(
                 Location::file(&manifest.source),
@@ -529,7 +550,10 @@ impl Dataset {
             Dataset::new(truths, cases.clone(), trackers)
         };
         if class_column.is_none() {
-            return Ok(vec![(String::new(), build(&|p| file_of[p].set.clone())?)]);
+            return Ok(ClassDatasets {
+                classes: vec![(String::new(), build(&|p| file_of[p].set.clone())?)],
+                mixed: Vec::new(),
+            });
         }
         let dim = first.set.dim();
         let mut pieces: HashMap<&PathBuf, HashMap<String, TrajectorySet>> = HashMap::new();
@@ -538,14 +562,28 @@ impl Dataset {
             pieces.insert(path, classes.split(&file.set)?.into_iter().collect());
         }
         let names: BTreeSet<&String> = pieces.values().flat_map(|p| p.keys()).collect();
+        if names.is_empty() {
+            return Err(Error::input(
+                Location::file(&manifest.source),
+                "no file the manifest lists has a row: there is no class to evaluate",
+            ));
+        }
         let empty = TrajectorySet::empty(dim);
-        names
+        let classes = names
             .into_iter()
             .map(|name| {
                 let set_of = |path: &PathBuf| pieces[path].get(name).unwrap_or(&empty).clone();
                 Ok((name.clone(), build(&set_of)?))
             })
-            .collect()
+            .collect::<Result<_>>()?;
+        let mixed = files
+            .iter()
+            .filter_map(|(file, classes)| {
+                let count = classes.as_ref().map_or(0, PointClasses::mixed);
+                (count > 0).then(|| (file.source.clone(), count))
+            })
+            .collect();
+        Ok(ClassDatasets { classes, mixed })
     }
 }
 

@@ -22,7 +22,7 @@ pub mod verdict;
 use serde::Serialize;
 
 pub use self::bootstrap::{BootstrapOptions, Interval};
-pub use self::dataset::{Case, CaseKey, Dataset, TrackerData};
+pub use self::dataset::{Case, CaseKey, ClassDatasets, Dataset, TrackerData};
 pub use self::montecarlo::StepsOverRuns;
 pub use self::plan::{evaluate, job_count, settings_grid, CaseScore, Evaluation, Ospa2Parts};
 use self::ranking::rank_trackers;

@@ -1589,3 +1589,125 @@ fn ospa2_columns_in_csv_and_text() {
         .unwrap();
     assert!(a_row.ends_with("0.7500"), "{a_row}");
 }
+
+/// Bad class input names the file, the line and the column, exits 1 and never panics: an empty
+/// class, a file without the class column, a class column that is also the sequence column, and
+/// a manifest whose files have no row (no class at all).
+#[test]
+fn bad_class_input_names_file_line_and_column() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, _, _) = class_scene(dir.path());
+    let fails = |args: &[&str]| -> String {
+        let output = switchyard().args(args).output().unwrap();
+        assert_eq!(output.status.code(), Some(1), "{args:?}");
+        String::from_utf8(output.stderr).unwrap()
+    };
+    let compare = |estimate: &str, column: &str| -> String {
+        let named = format!("B={estimate}");
+        fails(&[
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &named,
+            "--state-columns",
+            "x",
+            "--cutoff",
+            "2",
+            "--class-column",
+            column,
+        ])
+    };
+    let empty = write(
+        dir.path(),
+        "empty-class.csv",
+        "sequence,time,id,x,kind\ns1,0,r,0,ped\ns1,1,r,0,\n",
+    );
+    let message = compare(&empty, "kind");
+    assert!(
+        message.contains("empty-class.csv, line 3, column 5 (\"kind\"): the class is empty"),
+        "{message}"
+    );
+    let without = write(dir.path(), "no-class.csv", "sequence,time,id,x\ns1,0,r,0\n");
+    let message = compare(&without, "kind");
+    assert!(
+        message.contains("no-class.csv, line 1: the header has no class column \"kind\""),
+        "{message}"
+    );
+    let message = compare(&without, "sequence");
+    assert!(
+        message.contains("also a sequence or run column"),
+        "{message}"
+    );
+    let header_only = write(dir.path(), "h.csv", "time,id,x,kind\n");
+    let manifest = write(
+        dir.path(),
+        "m.csv",
+        &format!("tracker,sequence,truth,estimate\nA,s,{header_only},{header_only}\n"),
+    );
+    let message = fails(&[
+        "compare",
+        "--manifest",
+        &manifest,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--class-column",
+        "kind",
+    ]);
+    assert!(
+        message.contains("m.csv: no file the manifest lists has a row"),
+        "{message}"
+    );
+}
+
+/// A track whose label flips is cut into one piece per class (`specs/classes.md`): a car truth
+/// at x = 0 at steps 0 and 1, a track on it labelled car at step 0 and pedestrian at step 1.
+/// At c = 2, p = 1 the car piece matches at step 0 (0), the car is missed at step 1 (c/2 = 1)
+/// and the pedestrian piece is false there (1): d = 2, where without classes it is 0. The
+/// command notes the cut track on standard error.
+#[test]
+fn a_track_whose_label_flips_is_cut_by_class() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = write(
+        dir.path(),
+        "t.csv",
+        "time,id,x,kind\n0,a,0,car\n1,a,0,car\n",
+    );
+    let estimate = write(
+        dir.path(),
+        "e.csv",
+        "time,id,x,kind\n0,r,0,car\n1,r,0,ped\n",
+    );
+    let named = format!("A={estimate}");
+    let args = [
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &named,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--format",
+        "json",
+    ];
+    let plain = json(&args);
+    close(&plain["settings"][0]["trackers"][0]["metric_mean"], 0.0);
+    let mut classed = args.to_vec();
+    classed.extend(["--class-column", "kind"]);
+    let output = switchyard().args(&classed).output().unwrap();
+    assert!(output.status.success());
+    let doc: Value = serde_json::from_slice(&output.stdout).unwrap();
+    let a = &doc["settings"][0]["trackers"][0];
+    close(&a["metric_mean"], 2.0);
+    close(&a["missed_count"], 1.0);
+    close(&a["false_count"], 1.0);
+    let note = String::from_utf8(output.stderr).unwrap();
+    assert!(
+        note.contains("e.csv: 1 trajectory carries more than one class"),
+        "{note}"
+    );
+}
