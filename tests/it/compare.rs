@@ -628,22 +628,51 @@ fn output_does_not_depend_on_the_thread_count() {
         "--format",
         "json",
     ];
+    // The output of `args` with each number of threads.
+    let with_threads = |args: &[&str], counts: &[&str]| -> Vec<Vec<u8>> {
+        counts
+            .iter()
+            .map(|threads| {
+                let output = switchyard()
+                    .env("RAYON_NUM_THREADS", threads)
+                    .args(args)
+                    .output()
+                    .unwrap();
+                assert!(output.status.success());
+                output.stdout
+            })
+            .collect()
+    };
     let args = compare_args(&truth, &estimates, &rest);
-    let outputs: Vec<Vec<u8>> = ["1", "2", "3"]
-        .iter()
-        .map(|threads| {
-            let output = switchyard()
-                .env("RAYON_NUM_THREADS", threads)
-                .args(&args)
-                .output()
-                .unwrap();
-            assert!(output.status.success());
-            output.stdout
-        })
-        .collect();
+    let outputs = with_threads(&args, &["1", "2", "3"]);
     assert!(!outputs[0].is_empty());
     assert_eq!(outputs[0], outputs[1], "1 thread vs 2");
     assert_eq!(outputs[0], outputs[2], "1 thread vs 3");
+
+    // With classes (a class column whose label depends on the step, so tracks are cut too).
+    let classed = |path: &str| {
+        let text = std::fs::read_to_string(path).unwrap();
+        let mut lines = text.lines();
+        let header = lines.next().unwrap();
+        let time = header.split(',').position(|c| c == "time").unwrap();
+        let mut out = format!("{header},kind\n");
+        for line in lines {
+            let step: i64 = line.split(',').nth(time).unwrap().parse().unwrap();
+            let kind = if step % 3 == 0 { "b" } else { "a" };
+            writeln!(out, "{line},{kind}").unwrap();
+        }
+        std::fs::write(path, out).unwrap();
+    };
+    classed(&truth);
+    for estimate in &estimates {
+        classed(estimate.split_once('=').unwrap().1);
+    }
+    let mut rest = rest.to_vec();
+    rest.extend(["--class-column", "kind", "--per-case"]);
+    let args = compare_args(&truth, &estimates, &rest);
+    let outputs = with_threads(&args, &["1", "3"]);
+    assert!(String::from_utf8_lossy(&outputs[0]).contains("\"classes\""));
+    assert_eq!(outputs[0], outputs[1], "with classes, 1 thread vs 3");
 }
 
 #[test]
