@@ -325,6 +325,54 @@ mod tests {
     }
 
     #[test]
+    fn classes_are_read_per_group_and_split_by_class() {
+        let text = "sequence,time,id,x,y,kind\n\
+                    a,0,p,0,0,car\n\
+                    b,0,p,1,0,van\n\
+                    a,1,p,0,1,van\n";
+        let file = read_grouped(
+            text.as_bytes(),
+            "g.csv",
+            &CsvLayout::default(),
+            &GroupColumns::default(),
+            Some("kind"),
+        )
+        .unwrap();
+        assert_eq!(file.groups.len(), 2);
+        // Group a: p is a car at step 0 and a van at step 1, cut into two pieces.
+        let a = file.groups[0].classes.as_ref().unwrap();
+        assert_eq!(a.mixed(), 1);
+        let pieces = a.split(&file.groups[0].set).unwrap();
+        let steps: Vec<(&str, &[i64])> = pieces
+            .iter()
+            .map(|(class, set)| (class.as_str(), set.get(0).steps()))
+            .collect();
+        assert_eq!(steps, [("car", &[0][..]), ("van", &[1][..])]);
+        // Group b: one van only.
+        let b = file.groups[1].classes.as_ref().unwrap();
+        let pieces = b.split(&file.groups[1].set).unwrap();
+        assert_eq!(pieces.len(), 1);
+        assert_eq!(pieces[0].0, "van");
+        // Without the option no classes are read.
+        assert!(read(text).unwrap().groups[0].classes.is_none());
+        // An empty class names the line and column.
+        let error = read_grouped(
+            &b"sequence,time,id,x,y,kind\na,0,p,0,0,\n"[..],
+            "g.csv",
+            &CsvLayout::default(),
+            &GroupColumns::default(),
+            Some("kind"),
+        )
+        .unwrap_err();
+        assert!(
+            error
+                .to_string()
+                .starts_with("g.csv, line 2, column 6 (\"kind\")"),
+            "{error}"
+        );
+    }
+
+    #[test]
     fn a_file_without_group_columns_is_one_group() {
         let file = read("time,id,x,y\n0,p,0,0\n1,p,0,1\n").unwrap();
         assert!(!file.has_sequence && !file.has_run);
