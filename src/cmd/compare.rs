@@ -18,6 +18,7 @@ use switchyard::trajectory_metric::{Engine, SolveOptions};
 
 use switchyard::Error;
 
+use super::compare_page::PageArgs;
 use super::config::check_trackers;
 use super::options::{parse_size, CsvOptions, DistanceOptions, EngineKind, NamedFile};
 use super::output::{Format, OutputArgs};
@@ -136,6 +137,8 @@ pub struct CompareArgs {
     format: Format,
     #[command(flatten)]
     output: OutputArgs,
+    #[command(flatten)]
+    page: PageArgs,
 }
 
 /// Reads the data by group columns or through a manifest, each state checked for `distance`;
@@ -148,8 +151,12 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
             .entries
             .iter()
             .flat_map(|e| [&e.truth, &e.estimate]);
-        args.output
-            .check(named.map(|p| p.as_path()).chain([Path::new(manifest_path)]))?;
+        let named: Vec<&Path> = named
+            .map(|p| p.as_path())
+            .chain([Path::new(manifest_path)])
+            .collect();
+        args.output.check(&named)?;
+        args.page.check(&args.output, &named)?;
         let data = Dataset::from_manifest(&manifest, &layout)?;
         let trackers = data
             .trackers()
@@ -186,6 +193,7 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
         .chain(args.estimate.iter().map(|named| named.file.as_str()))
         .collect();
     args.output.check(&paths)?;
+    args.page.check(&args.output, &paths)?;
     let mut files: Vec<GroupedFile> = paths
         .par_iter()
         .map(|path| read_grouped_csv_path(path, &layout, &columns))
@@ -299,5 +307,6 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
             Format::Csv => report::write_csv(out, &comparison)?,
         }
         Ok(())
-    })
+    })?;
+    args.page.write(&comparison, &inputs, args.csv.time_step)
 }

@@ -4,6 +4,7 @@ mod bad_input;
 mod classes;
 mod cli;
 mod compare;
+mod compare_page;
 mod distances;
 mod evaluate;
 mod exact;

@@ -16,6 +16,7 @@
 //! checked with an XML parser; the same result structs give the same bytes.
 
 mod all_trackers;
+mod comparison;
 mod identity;
 mod over_time;
 mod style;
@@ -34,6 +35,7 @@ use crate::per_step::OccupiedSteps;
 use crate::trajectory::{TrajectorySet, Window};
 use crate::trajectory_metric::TrajectoryScore;
 
+pub use self::comparison::{render_comparison, ComparisonPage};
 use self::style::Style;
 use self::svg::esc;
 pub use self::time_axis::TimeScale;
@@ -223,18 +225,7 @@ impl Context<'_> {
 
 /// Renders the page. Deterministic: the same report and limits give the same string.
 pub fn render(report: &Report, limits: &Limits) -> String {
-    let mut out = String::with_capacity(1 << 16);
-    out.push_str("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
-    out.push_str(
-        "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n\
-         <meta name=\"generator\" content=\"switchyard ",
-    );
-    out.push_str(env!("CARGO_PKG_VERSION"));
-    out.push_str("\"/>\n");
-    let _ = writeln!(out, "<title>{}</title>", esc(&report.title));
-    out.push_str("<style>\n");
-    out.push_str(CSS);
-    out.push_str("</style>\n</head>\n<body>\n");
+    let mut out = page_head(&report.title, "");
     header(&mut out, report);
     out.push_str("<main>\n");
     summary::section(&mut out, report);
@@ -285,6 +276,24 @@ pub fn render(report: &Report, limits: &Limits) -> String {
     out.push_str("</main>\n");
     footer(&mut out);
     out.push_str("</body>\n</html>\n");
+    out
+}
+
+/// The page up to the opening of its body: the title, and the stylesheet with `extra_css`.
+pub(crate) fn page_head(title: &str, extra_css: &str) -> String {
+    let mut out = String::with_capacity(1 << 16);
+    out.push_str("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
+    out.push_str(
+        "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n\
+         <meta name=\"generator\" content=\"switchyard ",
+    );
+    out.push_str(env!("CARGO_PKG_VERSION"));
+    out.push_str("\"/>\n");
+    let _ = writeln!(out, "<title>{}</title>", esc(title));
+    out.push_str("<style>\n");
+    out.push_str(CSS);
+    out.push_str(extra_css);
+    out.push_str("</style>\n</head>\n<body>\n");
     out
 }
 

@@ -464,26 +464,8 @@ pub(super) fn chart(context: &Context) -> Figure {
 /// Draws the y axis of per-step GOSPA on scale `y` (0 to `y_top`, ticks every `y_step`): grid
 /// lines across the plot, tick labels and the title.
 pub(super) fn y_axis(out: &mut String, context: &Context, y: &Scale, y_top: f64, y_step: f64) {
-    let left = context.left;
     out.push_str("<g class=\"axis y\">");
-    for value in svg::ticks(0.0, y_top, y_step) {
-        let py = y.at(value);
-        let _ = write!(
-            out,
-            "<line x1=\"{}\" x2=\"{}\" y1=\"{p}\" y2=\"{p}\" stroke=\"#e4e7eb\"/>",
-            n(left),
-            n(WIDTH - RIGHT),
-            p = n(py)
-        );
-        svg::text(
-            out,
-            left - 6.0,
-            py + 4.0,
-            "end",
-            "tick",
-            &svg::value(value, svg::tick_decimals(y_step)),
-        );
-    }
+    svg::y_grid(out, y, (y_top, y_step), context.left, WIDTH - RIGHT);
     let _ = write!(
         out,
         "<text class=\"axis-label\" transform=\"rotate(-90)\" x=\"{}\" y=\"13\" text-anchor=\"middle\">{}</text></g>",
