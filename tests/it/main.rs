@@ -17,6 +17,7 @@ mod output_safety;
 mod reductions;
 mod references;
 mod report;
+mod report_classes;
 mod snapshots;
 mod sparse_windows;
 mod support;

@@ -427,6 +427,7 @@ pub(super) fn section(out: &mut String, report: &Report) {
         table_note.push_str(" In each row that compares, the lowest value is in bold.");
     }
     let _ = writeln!(out, "<p class=\"table-note\">{table_note}</p>");
+    super::by_class::table(out, report, (dec, dec_p), (&u, &power_unit));
     parts_chart(out, report, &unit, p1);
     out.push_str("</section>\n");
 }

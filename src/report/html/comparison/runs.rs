@@ -12,7 +12,7 @@
 use std::fmt::Write;
 
 use super::super::all_trackers::tracker_style;
-use super::super::over_time::{step_line, Bin};
+use super::super::over_time::{mean_per_step, step_line, Bin};
 use super::super::style::INK;
 use super::super::svg::{self, esc, n, Scale};
 use super::super::time_axis::{axis_title, draw_axis, span_words};
@@ -235,19 +235,8 @@ fn figure(
     }
     for (block, (bins, mean, rms)) in blocks.iter().zip(&series).rev() {
         let style = tracker_style(page.style_index(&names, &block.tracker));
-        let steps = window.len() as f64;
-        let whole_mean = mean
-            .iter()
-            .zip(bins)
-            .map(|(v, b)| v * (b.last - b.first + 1) as f64)
-            .sum::<f64>()
-            / steps;
-        let whole_rms = rms
-            .iter()
-            .zip(bins)
-            .map(|(v, b)| v * (b.last - b.first + 1) as f64)
-            .sum::<f64>()
-            / steps;
+        let whole_mean = mean_per_step(bins, mean, window.len());
+        let whole_rms = mean_per_step(bins, rms, window.len());
         let list = |values: &[f64]| {
             values
                 .iter()
