@@ -120,7 +120,7 @@ pub fn render_comparison(page: &ComparisonPage, limits: &Limits) -> String {
 
 /// Styles only this page uses.
 const EXTRA_CSS: &str = "table.ranking td.verdict-worse { color: #a33b00; }
-table.ranking td.name { text-align: left; }
+table.ranking td.name, table.ranking th.name, table.ranking th.setting { text-align: left; }
 .panels { display: grid; gap: 6px 14px; }
 ";
 
@@ -202,7 +202,7 @@ fn ranking_section(out: &mut String, page: &ComparisonPage) {
     let _ = writeln!(
         out,
         "<table class=\"summary ranking\">\n<thead><tr><th scope=\"col\">Rank</th>\
-         <th scope=\"col\">Tracker</th><th scope=\"col\">Mean d</th><th scope=\"col\">RMS d</th>\
+         <th scope=\"col\" class=\"name\">Tracker</th><th scope=\"col\">Mean d</th><th scope=\"col\">RMS d</th>\
          <th scope=\"col\">Mean d<sup>p</sup> per step</th>\
          <th scope=\"col\">Difference in {} to the best</th><th scope=\"col\">Interval</th>\
          <th scope=\"col\">Verdict</th></tr></thead>\n<tbody>",

@@ -103,21 +103,42 @@ fn penalty_follows(comparison: &Comparison) -> bool {
         .all(|s| s.params.switch_penalty == s.params.cutoff)
 }
 
-/// The parameters that take more than one value, each with the other parameters that are
-/// parameters of their own.
-fn swept(comparison: &Comparison) -> Vec<(Parameter, Vec<Parameter>)> {
+/// The parameters of their own (the penalty is none when it follows the cut-off), split into
+/// those that take more than one value and those that keep one.
+fn own_parameters(comparison: &Comparison) -> (Vec<Parameter>, Vec<Parameter>) {
     let follows = penalty_follows(comparison);
-    let own: Vec<Parameter> = [Parameter::Cutoff, Parameter::Order, Parameter::Penalty]
+    [Parameter::Cutoff, Parameter::Order, Parameter::Penalty]
         .into_iter()
         .filter(|p| !(follows && *p == Parameter::Penalty))
-        .collect();
-    own.iter()
-        .filter(|p| {
+        .partition(|p| {
             let first = p.of(&comparison.settings[0].params);
             comparison.settings.iter().any(|s| p.of(&s.params) != first)
         })
-        .map(|&p| (p, own.iter().copied().filter(|&o| o != p).collect()))
+}
+
+/// The parameters that take more than one value, each with the others that do.
+fn swept(comparison: &Comparison) -> Vec<(Parameter, Vec<Parameter>)> {
+    let (varying, _) = own_parameters(comparison);
+    varying
+        .iter()
+        .map(|&p| (p, varying.iter().copied().filter(|&o| o != p).collect()))
         .collect()
+}
+
+/// The parameters that keep one value, in words (`p = 1, γ = 10`); "" when none does.
+fn fixed_words(comparison: &Comparison) -> String {
+    let (_, fixed) = own_parameters(comparison);
+    fixed
+        .iter()
+        .map(|p| {
+            format!(
+                "{} = {}",
+                p.symbol(),
+                exact(p.of(&comparison.settings[0].params))
+            )
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 /// One panel: the settings that share the values of the other parameters, sorted along x.
@@ -187,9 +208,11 @@ pub(super) fn section(out: &mut String, page: &ComparisonPage) {
         "<p class=\"table-note\">Each tracker's mean over the cases at each setting, one line per \
          tracker, lower is better. Where several parameters are swept, each chart puts one of \
          them along x and draws a panel for each combination of the others, all on one scale. \
-         Hover over a point for its rank and its difference to the best with the bootstrap \
-         interval (also in the ranking table).</p>"
+         The larger point marks the best tracker of its setting; hover over a point for its rank \
+         and its difference to the best with the bootstrap interval (also in the ranking \
+         table).</p>"
     );
+    let fixed = fixed_words(comparison);
     for (parameter, others) in swept(comparison) {
         let panels = panels(comparison, parameter, &others);
         if panels.is_empty() {
@@ -199,11 +222,15 @@ pub(super) fn section(out: &mut String, page: &ComparisonPage) {
             let _ = writeln!(
                 out,
                 "<figure class=\"chart sweep\" data-parameter=\"{}\" data-quantity=\"{}\">\
-                 <figcaption><h3>{} against {}</h3></figcaption>",
+                 <figcaption><h3>{} against {}{}</h3></figcaption>",
                 parameter.name(),
                 quantity.name(),
                 capitalised(quantity.words()),
-                parameter.words(follows)
+                parameter.words(follows),
+                match fixed.as_str() {
+                    "" => String::new(),
+                    words => format!(", at {words}"),
+                }
             );
             if others.contains(&Parameter::Order) && panels.len() > 1 {
                 out.push_str(
