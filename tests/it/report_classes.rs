@@ -136,6 +136,20 @@ fn classes_by_hand() {
         close(walker[k], 1.3, "pedestrian per step");
     }
     assert_eq!(with_class(root, "class-chart").len(), 2);
+    // The identity chart has a row per class piece, naming its class: the missed car ranks
+    // first (2 missed steps; the pedestrian is covered throughout).
+    let rows: Vec<(Option<&str>, Option<&str>)> = with_class(root, "identity-row")
+        .iter()
+        .map(|r| (r.attribute("data-truth"), r.attribute("data-class")))
+        .collect();
+    assert_eq!(
+        rows,
+        [
+            (Some("car"), Some("car")),
+            (Some("walker"), Some("pedestrian"))
+        ]
+    );
+    assert!(page.contains(">walker (pedestrian)</text>"));
 }
 
 /// The demo data with a class per row: `north` above y = 300 m, `south` below, so that labels

@@ -283,13 +283,20 @@ pub fn render(report: &Report, limits: &Limits) -> String {
     out.push_str("<main>\n");
     summary::section(&mut out, report);
     let window = shown_window(report);
-    let max_id = report
+    // With classes, identity rows read "id (class)".
+    let class_label = by_class::classes(report)
+        .iter()
+        .map(|c| c.chars().count() + 6)
+        .max()
+        .unwrap_or(0);
+    let max_id = (report
         .truth
         .trajectories()
         .iter()
         .map(|t| t.id().chars().count())
         .max()
         .unwrap_or(1)
+        + class_label)
         .max(
             report
                 .trackers
