@@ -150,6 +150,7 @@ fn classes_by_hand() {
         ]
     );
     assert!(page.contains(">walker (pedestrian)</text>"));
+    assert!(page.contains("<dt>classes</dt><dd>car, pedestrian — "));
 }
 
 /// The demo data with a class per row: `north` above y = 300 m, `south` below, so that labels

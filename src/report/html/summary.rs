@@ -154,6 +154,17 @@ pub(super) fn section(out: &mut String, report: &Report) {
         };
         item("shown", shown);
     }
+    let classes = super::by_class::classes(report);
+    if !classes.is_empty() {
+        item(
+            "classes",
+            format!(
+                "{} — objects matched only within their class (<a href=\"#by-class\">by \
+                 class</a>)",
+                esc(&classes.join(", "))
+            ),
+        );
+    }
     item(
         "LP engine",
         format!(

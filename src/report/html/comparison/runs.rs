@@ -306,3 +306,44 @@ fn figure(
     }
     out.push_str("</figure>\n");
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::compare::montecarlo::StepOverRuns;
+
+    fn step(time: Step, mean: f64, rms: f64) -> StepOverRuns {
+        StepOverRuns {
+            time,
+            runs: 2,
+            mean,
+            rms,
+            localization: 0.0,
+            missed: 0.0,
+            false_: 0.0,
+            missed_count: 0.0,
+            false_count: 0.0,
+        }
+    }
+
+    #[test]
+    fn bins_hold_the_mean_per_step_of_their_steps() {
+        // Window 1..=6 in bins of 4 steps: 1..=4 and 5..=6. Occupied: step 1 (mean 2, RMS 3)
+        // and step 4 (mean 6, RMS 7); every other step counts 0. By hand: bin 1 has mean
+        // (2 + 6) / 4 = 2 and RMS (3 + 7) / 4 = 2.5; bin 2 has 0 and 0.
+        let steps = OccupiedOverRuns {
+            window: Some(Window { first: 1, last: 6 }),
+            runs: 2,
+            occupied: vec![step(1, 2.0, 3.0), step(4, 6.0, 7.0)],
+        };
+        let (bins, mean, rms) = binned(&steps, Window { first: 1, last: 6 }, 4);
+        let spans: Vec<(Step, Step)> = bins.iter().map(|b| (b.first, b.last)).collect();
+        assert_eq!(spans, [(1, 4), (5, 6)]);
+        assert!((mean[0] - 2.0).abs() < 1e-12 && (rms[0] - 2.5).abs() < 1e-12);
+        assert_eq!((mean[1], rms[1]), (0.0, 0.0));
+        // A window wider than the series' own (another tracker's): the bins cover it all.
+        let (bins, mean, _) = binned(&steps, Window { first: -1, last: 6 }, 4);
+        assert_eq!(bins.len(), 2);
+        assert!((mean[0] - 0.5).abs() < 1e-12 && (mean[1] - 1.5).abs() < 1e-12);
+    }
+}
