@@ -327,6 +327,9 @@ fn a_long_sparse_scene_is_binned_from_its_occupied_steps() {
     assert!((rms[0] - 0.5f64.sqrt() / 3751.0).abs() < 1e-15);
     assert!(mean[1..].iter().chain(&rms[1..]).all(|&v| v == 0.0));
     assert!(html.contains("bins of 3751 steps"));
+    // The table under the chart: the highest mean over the runs, 1/2 at step 0 (by hand above),
+    // and the mean per step of the mean over the whole window, (1/2) / 3,000,001 = 0.000.
+    assert!(html.contains("<td>0.500 at step 0</td>"), "no highest mean");
 }
 
 #[test]

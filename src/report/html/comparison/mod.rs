@@ -120,7 +120,7 @@ pub fn render_comparison(page: &ComparisonPage, limits: &Limits) -> String {
 
 /// Styles only this page uses.
 const EXTRA_CSS: &str = "table.ranking td.verdict-worse { color: #a33b00; }
-table.ranking td.name, table.ranking th.name, table.ranking th.setting { text-align: left; }
+table.summary td.name, table.summary th.name, table.ranking th.setting { text-align: left; }
 .panels { display: grid; gap: 6px 14px; }
 ";
 

@@ -15,10 +15,10 @@ use super::super::all_trackers::tracker_style;
 use super::super::over_time::{mean_per_step, step_line, Bin};
 use super::super::style::INK;
 use super::super::svg::{self, esc, n, Scale};
-use super::super::time_axis::{axis_title, draw_axis, span_words};
+use super::super::time_axis::{axis_title, draw_axis, span_words, TimeScale};
 use super::super::{Limits, RIGHT, WIDTH};
 use super::{exact, ComparisonPage};
-use crate::compare::montecarlo::OccupiedOverRuns;
+use crate::compare::montecarlo::{OccupiedOverRuns, StepOverRuns};
 use crate::compare::StepsOverRuns;
 use crate::per_step::Stretch;
 use crate::trajectory::{Step, Window};
@@ -157,7 +157,7 @@ fn figure(
         let style = tracker_style(index);
         let _ = write!(
             legend,
-            "<rect x=\"{}\" y=\"{}\" width=\"32\" height=\"10\" fill=\"{}\" fill-opacity=\"0.22\"/>\
+            "<rect x=\"{}\" y=\"{}\" width=\"32\" height=\"10\" fill=\"{}\" fill-opacity=\"0.3\"/>\
              <line x1=\"{}\" x2=\"{}\" y1=\"{y}\" y2=\"{y}\" {}/>",
             n(lx),
             n(ly - 5.0),
@@ -228,7 +228,7 @@ fn figure(
         let _ = write!(
             out,
             "<path class=\"runs-band\" data-tracker=\"{}\" d=\"{d}\" fill=\"{}\" \
-             fill-opacity=\"0.2\" stroke=\"none\"/>",
+             fill-opacity=\"0.3\" stroke=\"none\"/>",
             esc(&block.tracker),
             style.hex()
         );
@@ -296,6 +296,7 @@ fn figure(
         axis_title(time)
     );
     out.push_str("</g></svg>\n");
+    summary_table(out, blocks, &series, window, time);
     if size > 1 {
         let _ = writeln!(
             out,
@@ -307,10 +308,51 @@ fn figure(
     out.push_str("</figure>\n");
 }
 
+/// Under a chart, per tracker: the mean per step over the window of the mean and of the RMS
+/// over the runs, and the step with the highest mean (the first, on a tie).
+fn summary_table(
+    out: &mut String,
+    blocks: &[StepsOverRuns],
+    series: &[(Vec<Bin>, Vec<f64>, Vec<f64>)],
+    window: Window,
+    time: Option<&TimeScale>,
+) {
+    out.push_str(
+        "<table class=\"summary runs-summary\"><thead><tr><th scope=\"col\" class=\"name\">\
+         Tracker</th><th scope=\"col\">Mean per step of the mean</th><th scope=\"col\">Mean per \
+         step of the RMS</th><th scope=\"col\">Highest mean</th></tr></thead><tbody>",
+    );
+    for (block, (bins, mean, rms)) in blocks.iter().zip(series) {
+        let peak = block
+            .steps
+            .occupied
+            .iter()
+            .fold(None::<&StepOverRuns>, |best, s| match best {
+                Some(b) if b.mean >= s.mean => Some(b),
+                _ => Some(s),
+            });
+        let peak = peak.map_or("–".to_string(), |s| {
+            format!(
+                "{} at {}",
+                svg::short(s.mean),
+                span_words(s.time, s.time, time)
+            )
+        });
+        let _ = write!(
+            out,
+            "<tr><td class=\"name\">{}</td><td>{}</td><td>{}</td><td>{}</td></tr>",
+            esc(&block.tracker),
+            svg::short(mean_per_step(bins, mean, window.len())),
+            svg::short(mean_per_step(bins, rms, window.len())),
+            esc(&peak)
+        );
+    }
+    out.push_str("</tbody></table>\n");
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::compare::montecarlo::StepOverRuns;
 
     fn step(time: Step, mean: f64, rms: f64) -> StepOverRuns {
         StepOverRuns {
