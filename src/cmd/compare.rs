@@ -19,6 +19,7 @@ use switchyard::trajectory_metric::{Engine, SolveOptions};
 
 use switchyard::Error;
 
+use super::compare_page::PageArgs;
 use super::config::check_trackers;
 use super::options::{parse_size, CsvOptions, DistanceOptions, EngineKind, NamedFile};
 use super::output::{Format, OutputArgs};
@@ -150,6 +151,8 @@ pub struct CompareArgs {
     format: Format,
     #[command(flatten)]
     output: OutputArgs,
+    #[command(flatten)]
+    page: PageArgs,
 }
 
 /// The data of a comparison: whole, or one dataset per class.
@@ -210,8 +213,12 @@ fn read_sources(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Data
             .entries
             .iter()
             .flat_map(|e| [&e.truth, &e.estimate]);
-        args.output
-            .check(named.map(|p| p.as_path()).chain([Path::new(manifest_path)]))?;
+        let named: Vec<&Path> = named
+            .map(|p| p.as_path())
+            .chain([Path::new(manifest_path)])
+            .collect();
+        args.output.check(&named)?;
+        args.page.check(&args.output, &named)?;
         let data = match class_column {
             Some(column) => by_class(Dataset::from_manifest_by_class(&manifest, &layout, column)?),
             None => Data::Whole(Dataset::from_manifest(&manifest, &layout)?),
@@ -254,6 +261,7 @@ fn read_sources(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Data
         .chain(args.estimate.iter().map(|named| named.file.as_str()))
         .collect();
     args.output.check(&paths)?;
+    args.page.check(&args.output, &paths)?;
     let mut files: Vec<GroupedFile> = paths
         .par_iter()
         .map(|path| read_grouped_classed_csv_path(path, &layout, &columns, class_column))
@@ -395,5 +403,6 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
             Format::Csv => report::write_csv(out, &comparison)?,
         }
         Ok(())
-    })
+    })?;
+    args.page.write(&comparison, &inputs, args.csv.time_step)
 }

@@ -145,25 +145,21 @@ impl InputArgs {
                 classes: None,
             });
         };
-        let (mut truth, mut estimates, distance) = read_with(
+        let (truth, mut estimates, distance) = read_classed_files(
             &self.truth,
             &[&self.estimate],
             &self.csv,
             &self.distance,
             cutoff,
-            |path, layout| {
-                let classed = read_classed_csv_path(path, layout, class_column)?;
-                Ok((classed.file, Some(classed.classes)))
-            },
+            class_column,
         )?;
         let (estimate, estimate_classes) = estimates.pop().expect("one estimate was read");
-        let truth_classes = truth.1.take().unwrap_or_default();
         Ok(Inputs {
             truth: truth.0,
             estimate,
             distance,
             time_step: self.csv.time_step,
-            classes: Some((truth_classes, estimate_classes.unwrap_or_default())),
+            classes: Some((truth.1, estimate_classes)),
         })
     }
 }
@@ -185,6 +181,44 @@ pub fn read_files(
         })?;
     let estimates = estimates.into_iter().map(|(file, _)| file).collect();
     Ok((truth.0, estimates, distance))
+}
+
+/// [`read_files`] that also reads each point's class from the column `class_column`.
+pub fn read_classed_files(
+    truth: &str,
+    estimates: &[&str],
+    csv: &CsvOptions,
+    distance: &DistanceOptions,
+    cutoff: f64,
+    class_column: &str,
+) -> Result<(ClassedFile, Vec<ClassedFile>, Distance)> {
+    let (truth, estimates, distance) =
+        read_with(truth, estimates, csv, distance, cutoff, |path, layout| {
+            let classed = read_classed_csv_path(path, layout, class_column)?;
+            Ok((classed.file, Some(classed.classes)))
+        })?;
+    let classed = |(file, classes): ReadFile| (file, classes.unwrap_or_default());
+    Ok((
+        classed(truth),
+        estimates.into_iter().map(classed).collect(),
+        distance,
+    ))
+}
+
+/// A file read with the class of each point.
+pub type ClassedFile = (TrajectoryFile, PointClasses);
+
+/// Says on standard error how many trajectories of `file` carry more than one class (each is
+/// then scored as one piece per class); `one` and `many` name them (`"track carries"`).
+pub fn note_mixed(file: &TrajectoryFile, classes: &PointClasses, one: &str, many: &str) {
+    let mixed = classes.mixed();
+    if mixed > 0 {
+        eprintln!(
+            "switchyard: note: {}: {} more than one class; each is scored as one piece per class",
+            file.source,
+            switchyard::report::plural(mixed, one, many)
+        );
+    }
 }
 
 /// A file read, with the classes of its points when they were read.
@@ -337,15 +371,7 @@ pub fn evaluate_inputs(
             "tracks carry",
         ),
     ] {
-        let mixed = classes.mixed();
-        if mixed > 0 {
-            eprintln!(
-                "switchyard: note: {}: {} more than one class; each is scored as one piece per \
-                 class",
-                file.source,
-                switchyard::report::plural(mixed, one, many)
-            );
-        }
+        note_mixed(file, classes, one, many);
     }
     let by_class = evaluate_by_class(
         (&inputs.truth.set, truth_classes),

@@ -18,6 +18,7 @@ use switchyard::Error;
 mod audit;
 mod by_class;
 mod compare;
+mod compare_page;
 mod config;
 mod options;
 mod output;

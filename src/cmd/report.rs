@@ -5,12 +5,13 @@ use std::io::Write;
 
 use clap::Args;
 
+use switchyard::classes::evaluate_by_class;
 use switchyard::evaluate::{evaluate, Request};
 use switchyard::ospa2::Ospa2Params;
 use switchyard::report::html::{render, Limits, Report, TimeScale, TrackerResults};
 use switchyard::trajectory::{Step, Window};
 
-use super::config::{check_trackers, read_files};
+use super::config::{check_trackers, note_mixed, read_classed_files, read_files};
 use super::options::{CsvOptions, DistanceOptions, MetricArgs, NamedFile};
 use super::output::OutputArgs;
 
@@ -50,6 +51,12 @@ pub struct ReportArgs {
     /// OSPA metric on trajectories, normalised to [0, c], as a second opinion (specs/ospa2.md).
     #[arg(long)]
     ospa2: bool,
+    /// Name of a column giving each row's class (car, pedestrian ...): objects are matched
+    /// only within their class; the summary adds each class's d and parts beside all classes
+    /// together, and a chart per class shows each tracker's per-step GOSPA in it. A track whose
+    /// rows carry several classes is cut into one piece per class. Not with --ospa2.
+    #[arg(long, value_name = "NAME", conflicts_with = "ospa2")]
+    class_column: Option<String>,
     /// Title of the page.
     #[arg(long, value_name = "TEXT", default_value = "Tracker report")]
     title: String,
@@ -107,13 +114,39 @@ pub fn run(args: &ReportArgs) -> anyhow::Result<()> {
         .collect();
     args.output
         .check(std::iter::once(args.truth.as_str()).chain(files.iter().copied()))?;
-    let (truth, estimates, distance) = read_files(
-        &args.truth,
-        &files,
-        &args.csv,
-        &args.distance,
-        params.cutoff,
-    )?;
+    let (truth, estimates, distance, classes) = match &args.class_column {
+        None => {
+            let (truth, estimates, distance) = read_files(
+                &args.truth,
+                &files,
+                &args.csv,
+                &args.distance,
+                params.cutoff,
+            )?;
+            (truth, estimates, distance, None)
+        }
+        Some(column) => {
+            let (truth, estimates, distance) = read_classed_files(
+                &args.truth,
+                &files,
+                &args.csv,
+                &args.distance,
+                params.cutoff,
+                column,
+            )?;
+            note_mixed(&truth.0, &truth.1, "truth carries", "truths carry");
+            let (estimates, estimate_classes): (Vec<_>, Vec<_>) = estimates.into_iter().unzip();
+            for (estimate, classes) in estimates.iter().zip(&estimate_classes) {
+                note_mixed(estimate, classes, "track carries", "tracks carry");
+            }
+            (
+                truth.0,
+                estimates,
+                distance,
+                Some((truth.1, estimate_classes)),
+            )
+        }
+    };
     if let Some(view) = view {
         let whole = estimates
             .iter()
@@ -143,22 +176,46 @@ pub fn run(args: &ReportArgs) -> anyhow::Result<()> {
         },
         ..Request::everything(params, args.metric.solve_options())?
     };
-    let sets: Vec<_> = estimates.iter().map(|estimate| &estimate.set).collect();
-    let evaluations = evaluate(&truth.set, &sets, &distance, &request, &|_| {})?;
-    let trackers = args
-        .estimate
-        .iter()
-        .zip(estimates)
-        .zip(evaluations)
-        .map(|((named, estimate), evaluation)| {
-            TrackerResults::new(
-                named.name.clone(),
-                estimate.source,
-                estimate.set,
-                evaluation,
-            )
-        })
-        .collect::<switchyard::Result<Vec<_>>>()?;
+    let trackers = match &classes {
+        None => {
+            let sets: Vec<_> = estimates.iter().map(|estimate| &estimate.set).collect();
+            let evaluations = evaluate(&truth.set, &sets, &distance, &request, &|_| {})?;
+            args.estimate
+                .iter()
+                .zip(estimates)
+                .zip(evaluations)
+                .map(|((named, estimate), evaluation)| {
+                    TrackerResults::new(
+                        named.name.clone(),
+                        estimate.source,
+                        estimate.set,
+                        evaluation,
+                    )
+                })
+                .collect::<switchyard::Result<Vec<_>>>()?
+        }
+        Some((truth_classes, estimate_classes)) => args
+            .estimate
+            .iter()
+            .zip(estimates)
+            .zip(estimate_classes)
+            .map(|((named, estimate), classes)| {
+                let by_class = evaluate_by_class(
+                    (&truth.set, truth_classes),
+                    (&estimate.set, classes),
+                    &distance,
+                    &request,
+                    &|_| {},
+                )?;
+                TrackerResults::with_classes(
+                    named.name.clone(),
+                    estimate.source,
+                    estimate.set,
+                    by_class,
+                )
+            })
+            .collect::<switchyard::Result<Vec<_>>>()?,
+    };
     let report = Report {
         title: args.title.clone(),
         truth: truth.set,

@@ -109,7 +109,7 @@ fn report_of(trackers: Vec<(&str, TrajectorySet)>, truth: TrajectorySet) -> Repo
 }
 
 /// Parses the page as XML; the `<!DOCTYPE html>` line is a DTD to roxmltree, so allow it.
-fn parse(html: &str) -> Document<'_> {
+pub(crate) fn parse(html: &str) -> Document<'_> {
     let options = ParsingOptions {
         allow_dtd: true,
         ..ParsingOptions::default()
@@ -122,7 +122,7 @@ fn has_class(node: &Node, class: &str) -> bool {
         .is_some_and(|c| c.split_whitespace().any(|word| word == class))
 }
 
-fn with_class<'a, 'input>(root: Node<'a, 'input>, class: &str) -> Vec<Node<'a, 'input>> {
+pub(crate) fn with_class<'a, 'input>(root: Node<'a, 'input>, class: &str) -> Vec<Node<'a, 'input>> {
     root.descendants().filter(|n| has_class(n, class)).collect()
 }
 
@@ -488,7 +488,7 @@ fn large_scenes_are_thinned_and_the_page_says_so() {
     assert_eq!(total.matches('H').count(), 4);
 }
 
-fn demo(name: &str) -> String {
+pub(crate) fn demo(name: &str) -> String {
     format!("{}/demo-data/{name}", env!("CARGO_MANIFEST_DIR"))
 }
 
@@ -603,7 +603,7 @@ fn report_command_writes_the_page_and_refuses_bad_input() {
 }
 
 /// Debian's Chromium, if installed.
-fn chromium() -> Option<PathBuf> {
+pub(crate) fn chromium() -> Option<PathBuf> {
     let paths = std::env::var_os("PATH")?;
     std::env::split_paths(&paths)
         .map(|dir| dir.join("chromium"))
@@ -613,7 +613,7 @@ fn chromium() -> Option<PathBuf> {
 /// Runs Chromium headless with networking features off; returns its standard output. A run
 /// that has not ended after a generous while is stopped so that a broken browser cannot hang
 /// the suite (nothing here measures speed).
-fn run_chromium(binary: &Path, profile: &Path, args: &[String]) -> Vec<u8> {
+pub(crate) fn run_chromium(binary: &Path, profile: &Path, args: &[String]) -> Vec<u8> {
     let mut child = Process::new(binary)
         .args([
             "--headless",
@@ -656,6 +656,39 @@ fn run_chromium(binary: &Path, profile: &Path, args: &[String]) -> Vec<u8> {
     reader.join().unwrap()
 }
 
+/// Chromium's screenshot of the page at `url` in a window of `size`, as (red, green, blue) per
+/// pixel, decoded by the png crate; checks that it has the window's size.
+pub(crate) fn screenshot(
+    binary: &Path,
+    dir: &Path,
+    url: &str,
+    size: (u32, u32),
+) -> Vec<(u8, u8, u8)> {
+    let png_path = dir.join("screenshot.png");
+    run_chromium(
+        binary,
+        &dir.join("profile-shot"),
+        &[
+            format!("--screenshot={}", png_path.display()),
+            format!("--window-size={},{}", size.0, size.1),
+            url.to_string(),
+        ],
+    );
+    let decoder = png::Decoder::new(std::io::BufReader::new(
+        std::fs::File::open(&png_path).unwrap(),
+    ));
+    let mut reader = decoder.read_info().unwrap();
+    let mut pixels = vec![0; reader.output_buffer_size().unwrap()];
+    let info = reader.next_frame(&mut pixels).unwrap();
+    assert_eq!((info.width, info.height), size);
+    let channels = info.color_type.samples();
+    assert!(channels >= 3, "{:?}", info.color_type);
+    pixels[..info.buffer_size()]
+        .chunks(channels)
+        .map(|p| (p[0], p[1], p[2]))
+        .collect()
+}
+
 #[test]
 fn demo_report_renders_in_headless_chromium() {
     let Some(binary) = chromium() else {
@@ -669,30 +702,11 @@ fn demo_report_renders_in_headless_chromium() {
     let page = dir.path().join("report.html");
     demo_report(&page);
     let url = format!("file://{}", page.display());
-    let png_path = dir.path().join("report.png");
-    run_chromium(
-        &binary,
-        &dir.path().join("profile-shot"),
-        &[
-            format!("--screenshot={}", png_path.display()),
-            "--window-size=1280,2000".to_string(),
-            url.clone(),
-        ],
-    );
     // The screenshot has the window's size and is not blank (decoded by the png crate).
-    let decoder = png::Decoder::new(std::io::BufReader::new(
-        std::fs::File::open(&png_path).unwrap(),
-    ));
-    let mut reader = decoder.read_info().unwrap();
-    let mut pixels = vec![0; reader.output_buffer_size().unwrap()];
-    let info = reader.next_frame(&mut pixels).unwrap();
-    assert_eq!((info.width, info.height), (1280, 2000));
-    let channels = info.color_type.samples();
-    assert!(channels >= 3, "{:?}", info.color_type);
+    let pixels = screenshot(&binary, dir.path(), &url, (1280, 2000));
     let mut colours = std::collections::HashSet::new();
     let (mut ink, mut blue) = (0usize, 0usize);
-    for pixel in pixels[..info.buffer_size()].chunks(channels) {
-        let (r, g, b) = (pixel[0], pixel[1], pixel[2]);
+    for &(r, g, b) in &pixels {
         colours.insert((r, g, b));
         if (r, g, b) != (255, 255, 255) {
             ink += 1;
@@ -702,7 +716,7 @@ fn demo_report_renders_in_headless_chromium() {
             blue += 1;
         }
     }
-    let total = (info.width * info.height) as usize;
+    let total = pixels.len();
     assert!(
         ink * 20 > total,
         "only {ink} of {total} pixels are not white"

@@ -1,6 +1,6 @@
 //! Byte-for-byte snapshots of every command's output on the demonstration data: text, CSV and
 //! JSON of `score`, `steps`, `switches`, `audit` and `compare` (runs, sweeps, per sequence,
-//! Monte Carlo), the HTML report and a `synth` scene.
+//! Monte Carlo, and its page), the HTML report and a `synth` scene.
 //!
 //! The expected files under `tests/snapshots/` are what the tool printed when they were written
 //! (their numbers are checked independently by `references.rs`, `metric_cases.rs` and the
@@ -423,6 +423,27 @@ const CASES: &[(&str, &[&str])] = &[
             "--monte-carlo",
             "--format",
             "json",
+        ],
+    ),
+    (
+        "compare-page.html",
+        &[
+            "compare",
+            "--truth",
+            "demo-data/truth.csv",
+            "--estimate",
+            "swaps=demo-data/runs/tracker-swaps.csv",
+            "--estimate",
+            "fragments=demo-data/runs/tracker-fragments.csv",
+            "--cutoff",
+            "10,20",
+            "--monte-carlo",
+            "--bootstrap-resamples",
+            "1000",
+            "--output",
+            "/dev/null",
+            "--page",
+            "/dev/stdout",
         ],
     ),
     (

@@ -10,7 +10,7 @@ use super::style::{Style, INK};
 use super::svg::{self, esc, n, Scale};
 use super::{Context, RIGHT, WIDTH};
 
-const LEGEND_ROW_H: f64 = 18.0;
+pub(super) const LEGEND_ROW_H: f64 = 18.0;
 const PLOT_H: f64 = 210.0;
 const STRIP_H: f64 = 16.0;
 
@@ -60,6 +60,33 @@ pub(super) fn section(out: &mut String, context: &Context, has_window: bool) {
     out.push_str("</figure>\n</section>\n");
 }
 
+/// The legend of the tracker lines from the left margin, wrapping: one row holds as many names
+/// as fit. Returns it and the index of its last row.
+pub(super) fn legend(context: &Context) -> (String, usize) {
+    let left = context.left;
+    let mut legend = String::new();
+    let (mut lx, mut row) = (left, 0usize);
+    for (index, tracker) in context.report.trackers.iter().enumerate() {
+        let width = 30.0 + svg::text_width(tracker.name.chars().count()) + 22.0;
+        if lx + width > WIDTH - RIGHT && lx > left {
+            lx = left;
+            row += 1;
+        }
+        let ly = 10.0 + row as f64 * LEGEND_ROW_H;
+        let _ = write!(
+            legend,
+            "<line x1=\"{}\" x2=\"{}\" y1=\"{y}\" y2=\"{y}\" {}/>",
+            n(lx),
+            n(lx + 24.0),
+            tracker_style(index).stroke(2.2),
+            y = n(ly)
+        );
+        svg::text(&mut legend, lx + 30.0, ly + 4.0, "start", "", &tracker.name);
+        lx += width;
+    }
+    (legend, row)
+}
+
 fn chart(context: &Context) -> (String, Vec<String>) {
     let report = context.report;
     let window = context.window;
@@ -88,27 +115,7 @@ fn chart(context: &Context) -> (String, Vec<String>) {
 
     let left = context.left;
     let x = context.time_scale();
-    // The legend wraps: one row holds as many names as fit.
-    let mut legend = String::new();
-    let (mut lx, mut row) = (left, 0usize);
-    for (index, tracker) in report.trackers.iter().enumerate() {
-        let width = 30.0 + svg::text_width(tracker.name.chars().count()) + 22.0;
-        if lx + width > WIDTH - RIGHT && lx > left {
-            lx = left;
-            row += 1;
-        }
-        let ly = 10.0 + row as f64 * LEGEND_ROW_H;
-        let _ = write!(
-            legend,
-            "<line x1=\"{}\" x2=\"{}\" y1=\"{y}\" y2=\"{y}\" {}/>",
-            n(lx),
-            n(lx + 24.0),
-            tracker_style(index).stroke(2.2),
-            y = n(ly)
-        );
-        svg::text(&mut legend, lx + 30.0, ly + 4.0, "start", "", &tracker.name);
-        lx += width;
-    }
+    let (legend, row) = legend(context);
     let plot_top = 8.0 + (row + 1) as f64 * LEGEND_ROW_H;
     let plot_bottom = plot_top + PLOT_H;
     let y = Scale::new(0.0, y_top, plot_bottom, plot_top);
@@ -131,11 +138,7 @@ fn chart(context: &Context) -> (String, Vec<String>) {
     // One line per tracker, the first drawn last so that it stays on top.
     out.push_str("<g class=\"lines\" fill=\"none\" stroke-linejoin=\"round\">");
     for (index, tracker) in report.trackers.iter().enumerate().rev() {
-        let mean = totals[index]
-            .iter()
-            .zip(&columns[index])
-            .fold(0.0, |acc, (v, b)| acc + v * (b.last - b.first + 1) as f64)
-            / window.len() as f64;
+        let mean = over_time::mean_per_step(&columns[index], &totals[index], window.len());
         let _ = write!(
             out,
             "<path class=\"tracker-line\" data-tracker=\"{}\" d=\"{}\" {} stroke-opacity=\"0.9\"><title>{}</title></path>",

@@ -90,10 +90,15 @@ pub(super) fn chart(context: &Context) -> Figure {
             truths.len() - shown
         ));
     }
-    let mut events: HashMap<&str, Vec<&SwitchEvent>> = HashMap::new();
+    // With classes, one true object may have a row per class: events go to the row of their
+    // class.
+    let mut events: HashMap<(&str, Option<&str>), Vec<&SwitchEvent>> = HashMap::new();
     for event in &tracker.switches {
         if event.time >= window.first && event.time <= window.last {
-            events.entry(event.truth.as_str()).or_default().push(event);
+            events
+                .entry((event.truth.as_str(), event.class.as_deref()))
+                .or_default()
+                .push(event);
         }
     }
 
@@ -184,10 +189,18 @@ pub(super) fn chart(context: &Context) -> Figure {
         let mid = top + ROW_H / 2.0;
         let _ = write!(
             out,
-            "<g class=\"identity-row\" data-truth=\"{}\" data-rank=\"{}\">",
+            "<g class=\"identity-row\" data-truth=\"{}\" data-rank=\"{}\"{}>",
             esc(&truth.truth),
-            truth.rank
+            truth.rank,
+            truth
+                .class
+                .as_ref()
+                .map_or(String::new(), |c| format!(" data-class=\"{}\"", esc(c)))
         );
+        let label = match &truth.class {
+            Some(class) => format!("{} ({class})", truth.truth),
+            None => truth.truth.clone(),
+        };
         if r % 2 == 0 {
             super::over_time::row_band(&mut out, context, top, ROW_H);
         }
@@ -195,7 +208,7 @@ pub(super) fn chart(context: &Context) -> Figure {
         let row_title = format!(
             "{} — rank {}: {} switch{} (full = 1, half = 0.5); {} of {} present steps missed \
              (longest run {}); covered by {} track{}",
-            truth.truth,
+            label,
             truth.rank,
             switches_text,
             if truth.switches == 1.0 { "" } else { "es" },
@@ -211,13 +224,28 @@ pub(super) fn chart(context: &Context) -> Figure {
             n(left - 6.0),
             n(mid + 4.0),
             esc(&row_title),
-            esc(&truth.truth)
+            esc(&label)
         );
         // Presence.
-        if let Some(&index) = truth_index.get(truth.truth.as_str()) {
-            let trajectory = context.report.truth.get(index);
+        // With classes a row is one class's piece of the object: its presence is the span of
+        // its covered and missed runs (the whole object's would show the other class's steps).
+        let presence = match (&truth.class, truth_index.get(truth.truth.as_str())) {
+            (Some(_), _) => {
+                let mut spans: Vec<(Step, Step)> = truth
+                    .covered
+                    .iter()
+                    .map(|s| (s.first, s.last))
+                    .chain(truth.missed.iter().map(|s| (s.first, s.last)))
+                    .collect();
+                spans.sort_unstable();
+                Some(spans)
+            }
+            (None, Some(&index)) => Some(runs(context.report.truth.get(index).steps())),
+            (None, None) => None,
+        };
+        if let Some(presence) = presence {
             let mut d = String::new();
-            for (first, last) in runs(trajectory.steps()) {
+            for (first, last) in presence {
                 let Some((first, last)) = clip(first, last, window) else {
                     continue;
                 };
@@ -305,7 +333,7 @@ pub(super) fn chart(context: &Context) -> Figure {
         }
         // Switch ticks: one per event, or one per pixel where they crowd.
         let mine: &[&SwitchEvent] = events
-            .get(truth.truth.as_str())
+            .get(&(truth.truth.as_str(), truth.class.as_deref()))
             .map_or(&[], |v| v.as_slice());
         let mut k = 0;
         while k < mine.len() {

@@ -16,6 +16,8 @@
 //! checked with an XML parser; the same result structs give the same bytes.
 
 mod all_trackers;
+mod by_class;
+mod comparison;
 mod identity;
 mod over_time;
 mod style;
@@ -34,6 +36,7 @@ use crate::per_step::OccupiedSteps;
 use crate::trajectory::{TrajectorySet, Window};
 use crate::trajectory_metric::TrajectoryScore;
 
+pub use self::comparison::{render_comparison, ComparisonPage};
 use self::style::Style;
 use self::svg::esc;
 pub use self::time_axis::TimeScale;
@@ -58,6 +61,21 @@ pub struct TrackerResults {
     pub audit: Audit,
     /// OSPA(2) with the same cut-off and order, when it was evaluated: a second opinion.
     pub ospa2: Option<crate::ospa2::Ospa2Score>,
+    /// With classes, each class's results (in byte order of the class names); the fields
+    /// above are then those of all classes together. Empty without classes.
+    pub classes: Vec<ClassResults>,
+}
+
+/// One class's results for one tracker, from
+/// [`evaluate_by_class`](crate::classes::evaluate_by_class).
+#[derive(Clone, Debug)]
+pub struct ClassResults {
+    /// The class.
+    pub class: String,
+    /// Trajectory GOSPA of the class's scene.
+    pub score: TrajectoryScore,
+    /// Per-step GOSPA of the class's scene (alpha = 2), at its occupied steps.
+    pub steps: OccupiedSteps,
 }
 
 impl TrackerResults {
@@ -97,6 +115,43 @@ impl TrackerResults {
             switches,
             audit,
             ospa2,
+            classes: Vec::new(),
+        })
+    }
+
+    /// One tracker's results with classes, from
+    /// [`evaluate_by_class`](crate::classes::evaluate_by_class): all classes together as in
+    /// [`TrackerResults::new`], and each class's score and per-step values.
+    ///
+    /// # Errors
+    /// As [`TrackerResults::new`], for all classes together or for a class.
+    pub fn with_classes(
+        name: impl Into<String>,
+        source: impl Into<String>,
+        estimate: TrajectorySet,
+        by_class: crate::classes::ByClass,
+    ) -> Result<Self> {
+        let classes = by_class
+            .classes
+            .into_iter()
+            .map(|c| {
+                let (Some(score), Some(steps)) = (c.evaluation.score, c.evaluation.steps) else {
+                    return Err(Error::Parameter(
+                        "the report shows each class's trajectory GOSPA and per-step GOSPA: \
+                         evaluate them"
+                            .into(),
+                    ));
+                };
+                Ok(ClassResults {
+                    class: c.scene.class,
+                    score,
+                    steps,
+                })
+            })
+            .collect::<Result<Vec<_>>>()?;
+        Ok(TrackerResults {
+            classes,
+            ..TrackerResults::new(name, source, estimate, by_class.overall)?
         })
     }
 }
@@ -223,29 +278,25 @@ impl Context<'_> {
 
 /// Renders the page. Deterministic: the same report and limits give the same string.
 pub fn render(report: &Report, limits: &Limits) -> String {
-    let mut out = String::with_capacity(1 << 16);
-    out.push_str("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
-    out.push_str(
-        "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n\
-         <meta name=\"generator\" content=\"switchyard ",
-    );
-    out.push_str(env!("CARGO_PKG_VERSION"));
-    out.push_str("\"/>\n");
-    let _ = writeln!(out, "<title>{}</title>", esc(&report.title));
-    out.push_str("<style>\n");
-    out.push_str(CSS);
-    out.push_str("</style>\n</head>\n<body>\n");
+    let mut out = page_head(&report.title, "");
     header(&mut out, report);
     out.push_str("<main>\n");
     summary::section(&mut out, report);
     let window = shown_window(report);
-    let max_id = report
+    // With classes, identity rows read "id (class)".
+    let class_label = by_class::classes(report)
+        .iter()
+        .map(|c| c.chars().count() + 6)
+        .max()
+        .unwrap_or(0);
+    let max_id = (report
         .truth
         .trajectories()
         .iter()
         .map(|t| t.id().chars().count())
         .max()
         .unwrap_or(1)
+        + class_label)
         .max(
             report
                 .trackers
@@ -278,6 +329,7 @@ pub fn render(report: &Report, limits: &Limits) -> String {
         .collect();
     if let Some(first) = contexts.first() {
         all_trackers::section(&mut out, first, window.is_some());
+        by_class::section(&mut out, first, window.is_some());
     }
     for context in &contexts {
         tracker_section(&mut out, context, window.is_some());
@@ -285,6 +337,24 @@ pub fn render(report: &Report, limits: &Limits) -> String {
     out.push_str("</main>\n");
     footer(&mut out);
     out.push_str("</body>\n</html>\n");
+    out
+}
+
+/// The page up to the opening of its body: the title, and the stylesheet with `extra_css`.
+pub(crate) fn page_head(title: &str, extra_css: &str) -> String {
+    let mut out = String::with_capacity(1 << 16);
+    out.push_str("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
+    out.push_str(
+        "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n\
+         <meta name=\"generator\" content=\"switchyard ",
+    );
+    out.push_str(env!("CARGO_PKG_VERSION"));
+    out.push_str("\"/>\n");
+    let _ = writeln!(out, "<title>{}</title>", esc(title));
+    out.push_str("<style>\n");
+    out.push_str(CSS);
+    out.push_str(extra_css);
+    out.push_str("</style>\n</head>\n<body>\n");
     out
 }
 
@@ -356,6 +426,9 @@ fn header(out: &mut String, report: &Report) {
         "<nav aria-label=\"Contents\"><ol>\n<li><a href=\"#summary\">Summary</a></li>\n\
          <li><a href=\"#all\">All trackers over time</a></li>\n",
     );
+    if !by_class::classes(report).is_empty() {
+        out.push_str("<li><a href=\"#classes\">Each class over time</a></li>\n");
+    }
     for (index, tracker) in report.trackers.iter().enumerate() {
         let id = format!("k{}", index + 1);
         let _ = writeln!(

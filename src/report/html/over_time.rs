@@ -12,6 +12,7 @@ use super::svg::{self, esc, n, Scale};
 use super::TrackerResults;
 use super::{Context, Figure, RIGHT, WIDTH};
 use crate::assignment::switches::SwitchEvent;
+use crate::per_step::StepScore;
 use crate::trajectory::{Step, Window};
 
 const LEGEND_H: f64 = 26.0;
@@ -62,6 +63,11 @@ pub(super) fn bin_size(context: &Context) -> usize {
 
 /// One tracker's per-step parts over `window`, in columns of `size` steps.
 pub(super) fn bins(tracker: &TrackerResults, window: Window, size: usize) -> Vec<Bin> {
+    bins_of(&tracker.steps.occupied, window, size)
+}
+
+/// Per-step parts of one series over `window` (its occupied steps), in columns of `size` steps.
+pub(super) fn bins_of(occupied: &[StepScore], window: Window, size: usize) -> Vec<Bin> {
     let mut out: Vec<Bin> = Vec::new();
     let mut first = window.first;
     while first <= window.last {
@@ -74,7 +80,7 @@ pub(super) fn bins(tracker: &TrackerResults, window: Window, size: usize) -> Vec
         first = last + 1;
     }
     // Steps with no object add 0 to every part: only the occupied ones are visited.
-    for step in &tracker.steps.occupied {
+    for step in occupied {
         if step.time < window.first || step.time > window.last {
             continue;
         }
@@ -464,26 +470,8 @@ pub(super) fn chart(context: &Context) -> Figure {
 /// Draws the y axis of per-step GOSPA on scale `y` (0 to `y_top`, ticks every `y_step`): grid
 /// lines across the plot, tick labels and the title.
 pub(super) fn y_axis(out: &mut String, context: &Context, y: &Scale, y_top: f64, y_step: f64) {
-    let left = context.left;
     out.push_str("<g class=\"axis y\">");
-    for value in svg::ticks(0.0, y_top, y_step) {
-        let py = y.at(value);
-        let _ = write!(
-            out,
-            "<line x1=\"{}\" x2=\"{}\" y1=\"{p}\" y2=\"{p}\" stroke=\"#e4e7eb\"/>",
-            n(left),
-            n(WIDTH - RIGHT),
-            p = n(py)
-        );
-        svg::text(
-            out,
-            left - 6.0,
-            py + 4.0,
-            "end",
-            "tick",
-            &svg::value(value, svg::tick_decimals(y_step)),
-        );
-    }
+    svg::y_grid(out, y, (y_top, y_step), context.left, WIDTH - RIGHT);
     let _ = write!(
         out,
         "<text class=\"axis-label\" transform=\"rotate(-90)\" x=\"{}\" y=\"13\" text-anchor=\"middle\">{}</text></g>",
@@ -515,6 +503,16 @@ pub(super) fn y_title(context: &Context) -> String {
              ({unit}<tspan baseline-shift=\"super\" font-size=\"8\">p</tspan>)"
         )
     }
+}
+
+/// The mean per step over the columns' steps of values given per column (each a mean per step
+/// of its column): sum of value x steps of the column, over `steps`.
+pub(super) fn mean_per_step(bins: &[Bin], values: &[f64], steps: usize) -> f64 {
+    values
+        .iter()
+        .zip(bins)
+        .fold(0.0, |acc, (v, b)| acc + v * (b.last - b.first + 1) as f64)
+        / steps as f64
 }
 
 /// An outline that steps from column to column at the height of `values`.

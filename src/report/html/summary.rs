@@ -154,6 +154,17 @@ pub(super) fn section(out: &mut String, report: &Report) {
         };
         item("shown", shown);
     }
+    let classes = super::by_class::classes(report);
+    if !classes.is_empty() {
+        item(
+            "classes",
+            format!(
+                "{} — objects matched only within their class (<a href=\"#by-class\">by \
+                 class</a>)",
+                esc(&classes.join(", "))
+            ),
+        );
+    }
     item(
         "LP engine",
         format!(
@@ -427,6 +438,7 @@ pub(super) fn section(out: &mut String, report: &Report) {
         table_note.push_str(" In each row that compares, the lowest value is in bold.");
     }
     let _ = writeln!(out, "<p class=\"table-note\">{table_note}</p>");
+    super::by_class::table(out, report, (dec, dec_p), (&u, &power_unit));
     parts_chart(out, report, &unit, p1);
     out.push_str("</section>\n");
 }

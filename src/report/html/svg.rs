@@ -146,6 +146,29 @@ pub fn text(out: &mut String, x: f64, y: f64, anchor: &str, class: &str, body: &
     );
 }
 
+/// Grid lines of a value axis on scale `y`, from 0 to `top` every `step`, across `left..right`,
+/// each labelled at its left end.
+pub fn y_grid(out: &mut String, y: &Scale, (top, step): (f64, f64), left: f64, right: f64) {
+    for value in ticks(0.0, top, step) {
+        let py = y.at(value);
+        let _ = write!(
+            out,
+            "<line x1=\"{}\" x2=\"{}\" y1=\"{p}\" y2=\"{p}\" stroke=\"#e4e7eb\"/>",
+            n(left),
+            n(right),
+            p = n(py)
+        );
+        text(
+            out,
+            left - 6.0,
+            py + 4.0,
+            "end",
+            "tick",
+            &self::value(value, tick_decimals(step)),
+        );
+    }
+}
+
 /// Approximate width in pixels of `chars` characters of the 11 px chart font.
 pub fn text_width(chars: usize) -> f64 {
     chars as f64 * 6.4

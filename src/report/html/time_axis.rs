@@ -7,7 +7,7 @@ use std::fmt::Write;
 use super::style::INK;
 use super::svg::{self, esc, n};
 use super::{Context, RIGHT, WIDTH};
-use crate::trajectory::Step;
+use crate::trajectory::{Step, Window};
 
 /// How steps read as time on the page.
 #[derive(Clone, Debug, PartialEq)]
@@ -41,92 +41,122 @@ impl TimeScale {
     }
 }
 
+/// A span of steps in words: `"steps 3–7"`, or `"steps 3–7 (t = 0.3–0.7 s)"`; one step reads
+/// `"step 5"` or `"step 5 (t = 0.5 s)"`.
+pub(crate) fn span_words(first: Step, last: Step, time: Option<&TimeScale>) -> String {
+    match time {
+        Some(time) if first == last => format!("step {first} (t = {})", time.time_text(first)),
+        None if first == last => format!("step {first}"),
+        Some(time) => {
+            let start = svg::value(first as f64 * time.step, time.decimals());
+            format!(
+                "steps {first}–{last} (t = {start}–{})",
+                time.time_text(last)
+            )
+        }
+        None => format!("steps {first}–{last}"),
+    }
+}
+
+/// The title of a time axis: `"step"`, `"time"` or `"time (s)"`.
+pub(crate) fn axis_title(time: Option<&TimeScale>) -> String {
+    match time {
+        Some(TimeScale {
+            unit: Some(unit), ..
+        }) => format!("time ({})", esc(unit)),
+        Some(_) => "time".to_string(),
+        None => "step".to_string(),
+    }
+}
+
+/// The tick positions (steps, possibly fractional) and labels of a time axis over `window`:
+/// about ten nice values of the step index, or with a time scale of the time.
+pub(crate) fn axis_ticks(window: Window, time: Option<&TimeScale>) -> Vec<(f64, String)> {
+    match time {
+        Some(time) if time.step > 0.0 => {
+            let (t0, t1) = (
+                window.first as f64 * time.step,
+                window.last as f64 * time.step,
+            );
+            let tick = svg::tick_step((t1 - t0).max(time.step), 10);
+            let decimals = svg::tick_decimals(tick);
+            svg::ticks(t0, t1, tick)
+                .into_iter()
+                .map(|t| (t / time.step, svg::value(t, decimals)))
+                .collect()
+        }
+        _ => {
+            let tick = svg::step_tick(window.len() as f64, 10) as f64;
+            svg::ticks(window.first as f64, window.last as f64, tick)
+                .into_iter()
+                .map(|s| (s, svg::value(s, 0)))
+                .collect()
+        }
+    }
+}
+
+/// Draws a time axis over `window` mapped by `x` from pixel `left` to `right`: a line at
+/// `y_line`, ticks pointing `tick_dir` (1 down, -1 up) and their labels at `y_text`.
+#[allow(clippy::too_many_arguments)]
+pub(crate) fn draw_axis(
+    out: &mut String,
+    window: Window,
+    time: Option<&TimeScale>,
+    x: &svg::Scale,
+    (left, right): (f64, f64),
+    y_line: f64,
+    y_text: f64,
+    tick_dir: f64,
+) {
+    let _ = write!(
+        out,
+        "<line x1=\"{}\" x2=\"{}\" y1=\"{y}\" y2=\"{y}\" stroke=\"{INK}\"/>",
+        n(left),
+        n(right),
+        y = n(y_line)
+    );
+    for (at, label) in axis_ticks(window, time) {
+        let px = x.at(at);
+        let _ = write!(
+            out,
+            "<line x1=\"{p}\" x2=\"{p}\" y1=\"{}\" y2=\"{}\" stroke=\"{INK}\"/>",
+            n(y_line),
+            n(y_line + 3.0 * tick_dir),
+            p = n(px)
+        );
+        svg::text(out, px, y_text, "middle", "tick", &label);
+    }
+}
+
 impl Context<'_> {
     /// One step in words: `"step 5"`, or with a time scale `"step 5 (t = 0.5 s)"`.
     pub fn step_text(&self, step: Step) -> String {
-        match &self.report.time {
-            Some(time) => format!("step {step} (t = {})", time.time_text(step)),
-            None => format!("step {step}"),
-        }
+        span_words(step, step, self.report.time.as_ref())
     }
 
     /// A span of steps in words: `"steps 3–7"`, or `"steps 3–7 (t = 0.3–0.7 s)"`.
     pub fn span_text(&self, first: Step, last: Step) -> String {
-        if first == last {
-            return self.step_text(first);
-        }
-        match &self.report.time {
-            Some(time) => {
-                let start = svg::value(first as f64 * time.step, time.decimals());
-                format!(
-                    "steps {first}–{last} (t = {start}–{})",
-                    time.time_text(last)
-                )
-            }
-            None => format!("steps {first}–{last}"),
-        }
+        span_words(first, last, self.report.time.as_ref())
     }
 
     /// The title of a time axis: `"step"`, `"time"` or `"time (s)"`.
     pub fn time_title(&self) -> String {
-        match &self.report.time {
-            Some(TimeScale {
-                unit: Some(unit), ..
-            }) => format!("time ({})", esc(unit)),
-            Some(_) => "time".to_string(),
-            None => "step".to_string(),
-        }
-    }
-
-    /// The tick positions (steps, possibly fractional) and labels of the time axis: about ten
-    /// nice values of the step index, or with a time scale of the time.
-    pub fn time_ticks(&self) -> Vec<(f64, String)> {
-        let window = self.window;
-        match &self.report.time {
-            Some(time) if time.step > 0.0 => {
-                let (t0, t1) = (
-                    window.first as f64 * time.step,
-                    window.last as f64 * time.step,
-                );
-                let tick = svg::tick_step((t1 - t0).max(time.step), 10);
-                let decimals = svg::tick_decimals(tick);
-                svg::ticks(t0, t1, tick)
-                    .into_iter()
-                    .map(|t| (t / time.step, svg::value(t, decimals)))
-                    .collect()
-            }
-            _ => {
-                let tick = svg::step_tick(window.len() as f64, 10) as f64;
-                svg::ticks(window.first as f64, window.last as f64, tick)
-                    .into_iter()
-                    .map(|s| (s, svg::value(s, 0)))
-                    .collect()
-            }
-        }
+        axis_title(self.report.time.as_ref())
     }
 
     /// Draws a time axis: a line at `y_line` across the plot, ticks pointing `tick_dir` (1
     /// down, -1 up) and their labels at `y_text`.
     pub fn time_axis(&self, out: &mut String, y_line: f64, y_text: f64, tick_dir: f64) {
-        let x = self.time_scale();
-        let _ = write!(
+        draw_axis(
             out,
-            "<line x1=\"{}\" x2=\"{}\" y1=\"{y}\" y2=\"{y}\" stroke=\"{INK}\"/>",
-            n(self.left),
-            n(WIDTH - RIGHT),
-            y = n(y_line)
+            self.window,
+            self.report.time.as_ref(),
+            &self.time_scale(),
+            (self.left, WIDTH - RIGHT),
+            y_line,
+            y_text,
+            tick_dir,
         );
-        for (at, label) in self.time_ticks() {
-            let px = x.at(at);
-            let _ = write!(
-                out,
-                "<line x1=\"{p}\" x2=\"{p}\" y1=\"{}\" y2=\"{}\" stroke=\"{INK}\"/>",
-                n(y_line),
-                n(y_line + 3.0 * tick_dir),
-                p = n(px)
-            );
-            svg::text(out, px, y_text, "middle", "tick", &label);
-        }
     }
 
     /// Writes the time axis title centred under the plot at `y`.
