@@ -19,9 +19,12 @@ use switchyard::assignment::switches::switch_kinds;
 use switchyard::distance::{BoxLayout, Distance};
 use switchyard::evaluate::{evaluate, Request};
 use switchyard::input::{read_csv_path, CsvLayout, TrajectoryFile};
-use switchyard::per_step::{occupied_steps, GospaParams};
+use switchyard::ospa2::Ospa2Params;
+use switchyard::per_step::GospaParams;
 use switchyard::report::audit::AuditDocument;
+use switchyard::report::ospa2::Ospa2Document;
 use switchyard::report::score::ScoreDocument;
+use switchyard::report::steps::Ospa2Steps;
 use switchyard::report::switches::SwitchesDocument;
 use switchyard::report::{steps, Exactness, InputInfo, TimedEvents};
 use switchyard::trajectory::{Step, Trajectory, TrajectorySet};
@@ -138,6 +141,8 @@ struct Options {
     state_columns: Option<Vec<String>>,
     time_step: Option<f64>,
     delimiter: String,
+    ospa2: bool,
+    ospa2_window: Option<usize>,
 }
 
 /// An error about one cell of a table: its source, row (counting from 0) and column.
@@ -387,6 +392,32 @@ fn solve_options(options: &Options) -> switchyard::Result<SolveOptions> {
     })
 }
 
+/// OSPA(2) with the metric's cut-off and order when `ospa2` is asked for, and the width of its
+/// sliding window (`steps` only; 1 unless given), refusing a window without `ospa2=True`, as the
+/// command line does.
+fn ospa2_options(options: &Options) -> switchyard::Result<(Option<Ospa2Params>, usize)> {
+    let width = match options.ospa2_window {
+        Some(_) if !options.ospa2 => {
+            return Err(Error::Parameter(
+                "ospa2_window applies only with ospa2=True".into(),
+            ))
+        }
+        Some(0) => {
+            return Err(Error::Parameter(
+                "ospa2_window must be a whole number of steps >= 1, got 0".into(),
+            ))
+        }
+        Some(width) => width,
+        None => 1,
+    };
+    let params = if options.ospa2 {
+        Some(Ospa2Params::new(options.cutoff, options.order)?)
+    } else {
+        None
+    };
+    Ok((params, width))
+}
+
 /// Runs a command; returns its JSON document and the notes the command line would print on
 /// standard error.
 fn run_command(
@@ -400,17 +431,33 @@ fn run_command(
     };
     if command == "steps" {
         let params = GospaParams::new(options.cutoff, options.order, options.alpha)?;
+        let (ospa2, width) = ospa2_options(options)?;
         let (truth, estimate, distance) = read_inputs(truth, estimate, options)?;
-        let series = occupied_steps(&truth.set, &estimate.set, &params, &distance)?;
+        let request = Request {
+            ospa2,
+            ospa2_window: ospa2.map(|_| width),
+            ..Request::steps(params)
+        };
+        let mut evaluation = evaluate(&truth.set, &[&estimate.set], &distance, &request, &|_| {})?
+            .pop()
+            .expect("one estimate was evaluated");
+        let series = evaluation.steps.take().expect("the steps were asked for");
+        let sliding = Ospa2Steps::of(&request, &evaluation);
         let info = InputInfo::new(&truth, &estimate, &distance).with_time_step(options.time_step);
         let mut text = Vec::new();
-        steps::write_json(&mut text, &series, &params, &info)
+        steps::write_json_with(&mut text, &series, &params, &info, sliding.as_ref())
             .map_err(|error| Error::Solver(format!("the steps document: {error}")))?;
         let text = String::from_utf8(text).expect("serde_json writes UTF-8");
         return Ok((text, Vec::new()));
     }
     if !matches!(command, "score" | "switches" | "audit") {
         return Err(Error::Parameter(format!("unknown command {command:?}")));
+    }
+    let (ospa2, _) = ospa2_options(options)?;
+    if ospa2.is_some() && command != "score" {
+        return Err(Error::Parameter(format!(
+            "ospa2 applies to score and steps, not to {command}"
+        )));
     }
     let solve_options = solve_options(options)?;
     let (truth, estimate, distance) = read_inputs(truth, estimate, options)?;
@@ -426,6 +473,7 @@ fn run_command(
         switches: true,
         jumps: command != "audit",
         audit: command == "audit",
+        ospa2,
         ..Request::default()
     };
     let mut evaluation = evaluate(&truth.set, &[&estimate.set], &distance, &request, &|_| {})?
@@ -438,7 +486,11 @@ fn run_command(
     let text = match command {
         "score" => {
             let engine = solve_options.engine.name();
-            let document = ScoreDocument::new(&result, &info, engine, &switches, &jumps);
+            let mut document = ScoreDocument::new(&result, &info, engine, &switches, &jumps);
+            if let (Some(value), Some(params)) = (&evaluation.ospa2, &ospa2) {
+                let second = Ospa2Document::new(value, params, &truth.set, &estimate.set);
+                document = document.with_ospa2(second);
+            }
             json(serde_json::to_string(&document))?
         }
         "switches" => json(serde_json::to_string(&SwitchesDocument {

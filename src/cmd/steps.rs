@@ -68,14 +68,7 @@ pub fn run(args: &StepsArgs) -> anyhow::Result<()> {
         ..Request::steps(params)
     };
     let (evaluation, classes) = evaluate_inputs(&inputs, &request, &|_| {})?;
-    let sliding = match (ospa2, &evaluation.ospa2_sliding) {
-        (Some(params), Some(windows)) => Some(Ospa2Steps {
-            params,
-            width,
-            windows,
-        }),
-        _ => None,
-    };
+    let sliding = Ospa2Steps::of(&request, &evaluation);
     let info = inputs.info();
     let classes = classes.as_deref();
     let render = |format: Format, mut out: &mut dyn Write, part: Part| -> anyhow::Result<()> {

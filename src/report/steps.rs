@@ -15,6 +15,7 @@ use std::io::Write;
 use serde::Serialize;
 
 use super::{csv_number, fixed, fixed_or_dash, param, write_table, InputInfo};
+use crate::evaluate::{Evaluation, Request};
 use crate::ospa2::{Ospa2Params, Ospa2Window};
 use crate::per_step::{GospaParams, OccupiedSteps, StepScore, StepSummary, Stretch};
 use crate::trajectory::Step;
@@ -53,7 +54,24 @@ pub struct Ospa2Steps<'a> {
     pub windows: &'a [Ospa2Window],
 }
 
-impl Ospa2Steps<'_> {
+impl<'a> Ospa2Steps<'a> {
+    /// The sliding windows of `evaluation`, when `request` asked for them (OSPA(2) and a
+    /// window width).
+    pub fn of(request: &Request, evaluation: &'a Evaluation) -> Option<Self> {
+        match (
+            request.ospa2,
+            request.ospa2_window,
+            &evaluation.ospa2_sliding,
+        ) {
+            (Some(params), Some(width), Some(windows)) => Some(Ospa2Steps {
+                params,
+                width,
+                windows,
+            }),
+            _ => None,
+        }
+    }
+
     /// The index of the run of windows holding `time`, if its window holds a state. Times must
     /// come in increasing order; `cursor` (0 at first) remembers where the last one was found.
     fn at(&self, cursor: &mut usize, time: Step) -> Option<usize> {

@@ -38,7 +38,7 @@ from typing import Any, Dict, List, Optional, Sequence, Tuple, Union
 
 from ._compare import Comparison, compare
 from ._inputs import to_input
-from ._results import Audit, Score, Steps, Switches
+from ._results import Audit, Ospa2, Score, Steps, Switches
 from ._switchyard import InternalError
 from ._switchyard import run as _run
 
@@ -46,6 +46,7 @@ __all__ = [
     "Audit",
     "Comparison",
     "InternalError",
+    "Ospa2",
     "Score",
     "SolveNote",
     "Steps",
@@ -86,7 +87,13 @@ def _options(
     state_columns: Optional[Sequence[str]] = None,
     time_step: Optional[float] = None,
     delimiter: str = ",",
+    ospa2: bool = False,
+    ospa2_window: Optional[int] = None,
 ) -> Dict[str, Any]:
+    if ospa2_window is not None and (
+        isinstance(ospa2_window, bool) or not isinstance(ospa2_window, int) or ospa2_window < 1
+    ):
+        raise ValueError(f"invalid parameter: ospa2_window must be a whole number of steps >= 1, got {ospa2_window!r}")
     if distance in ("iou", "geodesic") and state_columns is None:
         raise ValueError(
             f"invalid parameter: the {distance} distance needs state_columns naming "
@@ -111,6 +118,8 @@ def _options(
         "state_columns": None if state_columns is None else list(state_columns),
         "time_step": None if time_step is None else float(time_step),
         "delimiter": delimiter,
+        "ospa2": bool(ospa2),
+        "ospa2_window": ospa2_window,
     }
 
 
@@ -185,6 +194,7 @@ def score(
     columns: Optional[Sequence[str]] = None,
     truth_name: Optional[str] = None,
     estimate_name: Optional[str] = None,
+    ospa2: bool = False,
 ) -> Score:
     return Score(*_call("score", locals()))
 
@@ -264,6 +274,8 @@ def steps(
     columns: Optional[Sequence[str]] = None,
     truth_name: Optional[str] = None,
     estimate_name: Optional[str] = None,
+    ospa2: bool = False,
+    ospa2_window: Optional[int] = None,
 ) -> Steps:
     return Steps(*_call("steps", locals()))
 
@@ -274,6 +286,9 @@ score.__doc__ = (
     Returns a ``Score``: ``total`` (d^p) and its parts ``localisation``, ``missed``, ``false``,
     ``switching`` with their counts, the ``certificate``, the ``switches`` and ``jumps`` tables,
     and ``to_dict()``, the document of ``switchyard score --format json``.
+
+    ``ospa2=True`` (``score --ospa2``) also gives OSPA(2) (Beard, Vo, Vo, IEEE TSP 68, 2020)
+    with the same cut-off and order over the whole window, as ``Score.ospa2`` (an ``Ospa2``).
 """
     + _METRIC
     + _COMMON
@@ -305,6 +320,12 @@ steps.__doc__ = (
     Cut-off ``cutoff`` > 0, order ``order`` >= 1, ``alpha`` in (0, 2] (the parts are given only
     for 2). Returns a ``Steps``: ``table`` (one row per step of the window), ``summary``, and
     ``to_dict()``, the document of ``switchyard steps --format json``.
+
+    ``ospa2=True`` (``steps --ospa2``) adds to each step OSPA(2) (Beard, Vo, Vo, IEEE TSP 68,
+    2020) with the same cut-off and order over the sliding window of ``ospa2_window`` steps
+    (default 1, ``--ospa2-window``) ending there: the table's columns ``ospa2``,
+    ``ospa2_paired_power``, ``ospa2_unpaired_power`` and ``ospa2_pairs``, missing (None, NaN in
+    a DataFrame) where that window holds no object.
 """
     + _COMMON
 )
