@@ -64,7 +64,8 @@ Input = Union[str, "os.PathLike[str]", Any]
 
 class SolveNote(UserWarning):
     """A note about the solve (for example a group whose value could not be proven within the
-    memory budget): the command line prints these on standard error."""
+    memory budget, or with ``class_column`` an object whose class changes): the command line
+    prints these on standard error."""
 
 
 def _options(
@@ -89,6 +90,7 @@ def _options(
     delimiter: str = ",",
     ospa2: bool = False,
     ospa2_window: Optional[int] = None,
+    class_column: Optional[str] = None,
 ) -> Dict[str, Any]:
     if ospa2_window is not None and (
         isinstance(ospa2_window, bool) or not isinstance(ospa2_window, int) or ospa2_window < 1
@@ -120,6 +122,7 @@ def _options(
         "delimiter": delimiter,
         "ospa2": bool(ospa2),
         "ospa2_window": ospa2_window,
+        "class_column": class_column,
     }
 
 
@@ -138,6 +141,7 @@ def _call(command: str, arguments: Dict[str, Any]) -> Tuple[str, List[str]]:
             id_column=options["id_column"],
             state_columns=options["state_columns"],
             columns=columns,
+            class_column=options["class_column"],
         )
 
     text, notes = _run(command, prepare(truth, "truth"), prepare(estimate, "estimate"), options)
@@ -152,6 +156,11 @@ _COMMON = """
     with 5 columns z). ``time_column``, ``id_column``, ``state_columns`` (default x, y, plus z
     when present), ``time_step`` and ``delimiter`` (CSV files only) are the command line's CSV
     options; ``truth_name`` and ``estimate_name`` name a table in messages and in ``inputs``.
+
+    Classes: ``class_column`` names a column giving each row's class (``--class-column``): each
+    class is scored on its own and the document is that of all classes together with a
+    ``classes`` object holding each class's document (the result's ``classes``: a dict from
+    class name to a result of the same type).
 
     Distance: ``distance`` is ``"euclidean"`` (default), ``"manhattan"``, ``"chebyshev"`` (each
     with optional per-column ``weights``), ``"iou"`` (with ``box_layout`` ``"corner-size"``,
@@ -194,6 +203,7 @@ def score(
     columns: Optional[Sequence[str]] = None,
     truth_name: Optional[str] = None,
     estimate_name: Optional[str] = None,
+    class_column: Optional[str] = None,
     ospa2: bool = False,
 ) -> Score:
     return Score(*_call("score", locals()))
@@ -222,6 +232,7 @@ def switches(
     columns: Optional[Sequence[str]] = None,
     truth_name: Optional[str] = None,
     estimate_name: Optional[str] = None,
+    class_column: Optional[str] = None,
 ) -> Switches:
     return Switches(*_call("switches", locals()))
 
@@ -250,6 +261,7 @@ def audit(
     columns: Optional[Sequence[str]] = None,
     truth_name: Optional[str] = None,
     estimate_name: Optional[str] = None,
+    class_column: Optional[str] = None,
 ) -> Audit:
     if top is not None and (isinstance(top, bool) or not isinstance(top, int) or top < 0):
         raise ValueError(f"invalid parameter: top must be a count >= 0, got {top!r}")
@@ -274,6 +286,7 @@ def steps(
     columns: Optional[Sequence[str]] = None,
     truth_name: Optional[str] = None,
     estimate_name: Optional[str] = None,
+    class_column: Optional[str] = None,
     ospa2: bool = False,
     ospa2_window: Optional[int] = None,
 ) -> Steps:

@@ -60,6 +60,10 @@ class _Document:
         self.params: Dict[str, float] = self._document.get("params", {})
         #: The inputs: names (file, or the name given to a table), counts and the distance.
         self.inputs: Dict[str, Any] = self._document["inputs"]
+        #: With ``class_column``: each class's result (of this type) by class name, else None.
+        self.classes: Optional[Dict[str, Any]] = None
+        if "classes" in self._document:
+            self.classes = {name: type(self)(json.dumps(doc)) for name, doc in self._document["classes"].items()}
 
     def to_dict(self) -> Dict[str, Any]:
         """The document the command line writes with ``--format json``, as a new dict."""
