@@ -359,7 +359,8 @@ impl<'a> Ospa2<'a> {
         let Some(whole) = self.window else {
             return Vec::new();
         };
-        let width = width.max(1) as Step;
+        // A window wider than any step range holds the same as the widest a step can hold.
+        let width = width.clamp(1, Step::MAX as usize) as Step;
         let mut occupied: Vec<Step> = self
             .truth
             .trajectories()
@@ -460,6 +461,8 @@ mod tests {
         assert!((every[500].1.value - 1.0).abs() < 1e-12);
         // Width 3: ends 1 to 3 see step 1 (value 1); ends 4 to 997 see nothing (left out); ends
         // 1000 sees a alone (value c = 2).
+        // The widest window a width can give: the same two runs.
+        assert_eq!(metric.sliding_windows(usize::MAX), runs);
         let runs = metric.sliding_windows(3);
         let ends: Vec<(Step, Step)> = runs.iter().map(|r| (r.first_end, r.last_end)).collect();
         assert_eq!(ends, [(1, 3), (1000, 1000)]);

@@ -465,10 +465,10 @@ fn ospa2_options(options: &Options) -> switchyard::Result<(Option<Ospa2Params>, 
                 "ospa2_window applies only with ospa2=True".into(),
             ))
         }
-        Some(0) => {
-            return Err(Error::Parameter(
-                "ospa2_window must be a whole number of steps >= 1, got 0".into(),
-            ))
+        Some(width) if width == 0 || width > u32::MAX as usize => {
+            return Err(Error::Parameter(format!(
+                "ospa2_window must be a whole number of steps from 1 to 2^32 - 1, got {width}"
+            )))
         }
         Some(width) => width,
         None => 1,

@@ -105,6 +105,7 @@ def test_steps_ospa2_window_without_a_state_is_missing():
         (lambda: switchyard.steps(*DEMO, cutoff=20, ospa2=True, ospa2_window=0), "ospa2_window must be a whole number"),
         (lambda: switchyard.steps(*DEMO, cutoff=20, ospa2=True, ospa2_window=True), "ospa2_window must be a whole number"),
         (lambda: switchyard.steps(*DEMO, cutoff=20, ospa2=True, ospa2_window=2.5), "ospa2_window must be a whole number"),
+        (lambda: switchyard.steps(*DEMO, cutoff=20, ospa2=True, ospa2_window=2**32), "ospa2_window must be a whole number"),
     ],
 )
 def test_bad_ospa2_window_is_a_value_error(call, message):

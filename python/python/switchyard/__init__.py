@@ -92,10 +92,13 @@ def _options(
     ospa2_window: Optional[int] = None,
     class_column: Optional[str] = None,
 ) -> Dict[str, Any]:
+    # The command line's --ospa2-window takes 1 to 2^32 - 1 steps.
     if ospa2_window is not None and (
-        isinstance(ospa2_window, bool) or not isinstance(ospa2_window, int) or ospa2_window < 1
+        isinstance(ospa2_window, bool) or not isinstance(ospa2_window, int) or not 1 <= ospa2_window <= 2**32 - 1
     ):
-        raise ValueError(f"invalid parameter: ospa2_window must be a whole number of steps >= 1, got {ospa2_window!r}")
+        raise ValueError(
+            f"invalid parameter: ospa2_window must be a whole number of steps from 1 to 2^32 - 1, got {ospa2_window!r}"
+        )
     if distance in ("iou", "geodesic") and state_columns is None:
         raise ValueError(
             f"invalid parameter: the {distance} distance needs state_columns naming "
