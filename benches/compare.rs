@@ -70,6 +70,7 @@ fn bench(c: &mut Criterion) {
             rank_by: RankBy::Metric,
         },
         monte_carlo: false,
+        ospa2: false,
     };
     // The full data set, timed once: one pass takes about a minute, too long to sample.
     let evaluations = data.cases().len() * data.trackers().len();

@@ -231,6 +231,7 @@ fn compare(
             rank_by: RankBy::default(),
         },
         monte_carlo: true,
+        ospa2: u.arbitrary()?,
     };
     let Ok(comparison) = run_comparison(&dataset, &Distance::default(), &options, &|| {}) else {
         return Ok(());
@@ -249,6 +250,8 @@ fn compare(
         cases: 1,
         distance: "euclidean".to_string(),
         engine: "microlp".to_string(),
+        time_step: if u.arbitrary()? { Some(0.1) } else { None },
+        classes: None,
     };
     let sections = Sections {
         per_sequence: true,
@@ -265,6 +268,9 @@ fn compare(
     check_csv(&written(|o| writers::write_csv(o, &comparison)));
     check_csv(&written(|o| writers::write_sequences_csv(o, &comparison)));
     check_csv(&written(|o| writers::write_steps_csv(o, &comparison)));
+    check_csv(&written(|o| {
+        writers::write_steps_csv_timed(o, &comparison, inputs.time_step)
+    }));
     check_csv(&written(|o| writers::write_cases_csv(o, &comparison)));
     Ok(())
 }

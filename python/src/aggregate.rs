@@ -75,6 +75,7 @@ fn case_score(s: &ScoreTuple) -> CaseScore {
         integral: s.9,
         proven: s.10,
         steps: s.11,
+        ospa2: None,
     }
 }
 
@@ -161,6 +162,10 @@ pub fn comparison_document(input: Scores) -> Result<String> {
         cases,
         distance: input.distance,
         engine: input.engine,
+        // The step size only labels the Monte Carlo per-step summaries, which scores computed
+        // elsewhere do not have.
+        time_step: None,
+        classes: None,
     };
     let sections = Sections {
         per_sequence: input.per_sequence,

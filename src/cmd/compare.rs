@@ -7,13 +7,14 @@ use clap::{Args, ValueEnum};
 use rayon::prelude::*;
 
 use switchyard::compare::{
-    job_count, run as run_comparison, settings_grid, AggregateOptions, BootstrapOptions,
-    CompareOptions, Dataset, RankBy, ResampleBy,
+    job_count, run as run_comparison, run_by_class, settings_grid, AggregateOptions,
+    BootstrapOptions, ClassDatasets, CompareOptions, Dataset, RankBy, ResampleBy,
 };
 use switchyard::distance::Distance;
-use switchyard::input::grouped::{read_grouped_csv_path, GroupColumns, GroupedFile};
+use switchyard::input::grouped::{read_grouped_classed_csv_path, GroupColumns, GroupedFile};
 use switchyard::input::manifest::read_manifest_path;
 use switchyard::report::compare::{self as report, CompareInputs, Sections, TrackerSource};
+use switchyard::report::{plural, printable};
 use switchyard::trajectory_metric::{Engine, SolveOptions};
 
 use switchyard::Error;
@@ -69,6 +70,12 @@ pub struct CompareArgs {
     /// The column that names each row's Monte Carlo run, used when a file has it.
     #[arg(long, value_name = "NAME", default_value = "run")]
     run_column: String,
+    /// Name of a column giving each row's class (car, pedestrian ...): objects are matched
+    /// only within their class; the ranking is by the total over the classes, and each class
+    /// is also ranked on its own (over the cases where it occurs). A track whose rows carry
+    /// several classes is cut into one piece per class.
+    #[arg(long, value_name = "NAME")]
+    class_column: Option<String>,
     #[command(flatten)]
     csv: CsvOptions,
     #[command(flatten)]
@@ -106,7 +113,8 @@ pub struct CompareArgs {
     #[arg(long)]
     per_sequence: bool,
     /// Also summarise over the runs of each sequence: per-step GOSPA (mean, RMS and parts)
-    /// and the trajectory metric (mean and RMS).
+    /// and the trajectory metric (mean and RMS); with --time-step each step also shows its
+    /// time in the input's units.
     #[arg(long)]
     monte_carlo: bool,
     /// Bootstrap resamples.
@@ -125,6 +133,12 @@ pub struct CompareArgs {
     /// d^p / steps of each case (long and short sequences then weigh alike).
     #[arg(long, value_enum, default_value_t = RankKind::Metric)]
     rank_by: RankKind,
+    /// Also give OSPA(2) (Beard, Vo, Vo, IEEE TSP 2020): the OSPA metric on trajectories with a
+    /// time-averaged distance, normalised to [0, c], over each case's whole window at each
+    /// setting's cut-off and order; its mean over the cases beside each ranking, and each
+    /// case's value with --per-case (specs/ospa2.md). The ranking stays by d.
+    #[arg(long)]
+    ospa2: bool,
     /// Also list every (setting, tracker, sequence, run) score: d, d^p, its parts, the
     /// counts, the steps and d^p / steps.
     #[arg(long)]
@@ -138,10 +152,58 @@ pub struct CompareArgs {
     output: OutputArgs,
 }
 
+/// The data of a comparison: whole, or one dataset per class.
+enum Data {
+    Whole(Dataset),
+    ByClass(Vec<(String, Dataset)>),
+}
+
+impl Data {
+    /// A dataset (every class's has the same trackers and cases).
+    fn first(&self) -> &Dataset {
+        match self {
+            Data::Whole(data) => data,
+            Data::ByClass(classes) => &classes[0].1,
+        }
+    }
+
+    /// The class names, with classes.
+    fn classes(&self) -> Option<Vec<String>> {
+        match self {
+            Data::Whole(_) => None,
+            Data::ByClass(classes) => Some(classes.iter().map(|(name, _)| name.clone()).collect()),
+        }
+    }
+}
+
+/// The data by class, after a note on standard error for each file with trajectories cut into
+/// pieces by class.
+fn by_class(datasets: ClassDatasets) -> Data {
+    for (file, count) in &datasets.mixed {
+        eprintln!(
+            "switchyard: note: {}: {} more than one class; each is scored as one piece per class",
+            printable(file),
+            plural(*count, "trajectory carries", "trajectories carry")
+        );
+    }
+    Data::ByClass(datasets.classes)
+}
+
 /// Reads the data by group columns or through a manifest, each state checked for `distance`;
 /// returns it with the input description (without the distance and engine).
-fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset, CompareInputs)> {
+fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Data, CompareInputs)> {
+    let (data, mut inputs) = read_sources(args, distance)?;
+    let first = data.first();
+    inputs.sequences = first.sequences().len();
+    inputs.cases = first.cases().len();
+    inputs.classes = data.classes();
+    Ok((data, inputs))
+}
+
+/// [`read_data`] without the counts.
+fn read_sources(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Data, CompareInputs)> {
     let layout = args.csv.layout(distance);
+    let class_column = args.class_column.as_deref();
     if let Some(manifest_path) = &args.manifest {
         let manifest = read_manifest_path(manifest_path)?;
         let named = manifest
@@ -150,8 +212,12 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
             .flat_map(|e| [&e.truth, &e.estimate]);
         args.output
             .check(named.map(|p| p.as_path()).chain([Path::new(manifest_path)]))?;
-        let data = Dataset::from_manifest(&manifest, &layout)?;
+        let data = match class_column {
+            Some(column) => by_class(Dataset::from_manifest_by_class(&manifest, &layout, column)?),
+            None => Data::Whole(Dataset::from_manifest(&manifest, &layout)?),
+        };
         let trackers = data
+            .first()
             .trackers()
             .iter()
             .map(|t| TrackerSource {
@@ -163,10 +229,12 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
             truth: None,
             manifest: Some(manifest_path.clone()),
             trackers,
-            sequences: data.sequences().len(),
-            cases: data.cases().len(),
+            sequences: 0,
+            cases: 0,
             distance: String::new(),
             engine: String::new(),
+            time_step: args.csv.time_step,
+            classes: None,
         };
         return Ok((data, inputs));
     }
@@ -188,7 +256,7 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
     args.output.check(&paths)?;
     let mut files: Vec<GroupedFile> = paths
         .par_iter()
-        .map(|path| read_grouped_csv_path(path, &layout, &columns))
+        .map(|path| read_grouped_classed_csv_path(path, &layout, &columns, class_column))
         .collect::<Vec<_>>()
         .into_iter()
         .collect::<Result<_, _>>()?;
@@ -199,7 +267,10 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
         .zip(files.drain(1..))
         .collect();
     let truth_file = files.pop().expect("the truth was read");
-    let data = Dataset::from_columns(truth_file, estimates)?;
+    let data = match class_column {
+        Some(_) => by_class(Dataset::from_columns_by_class(truth_file, estimates)?),
+        None => Data::Whole(Dataset::from_columns(truth_file, estimates)?),
+    };
     let inputs = CompareInputs {
         truth: Some(truth),
         manifest: None,
@@ -211,10 +282,12 @@ fn read_data(args: &CompareArgs, distance: &Distance) -> anyhow::Result<(Dataset
                 estimate: Some(named.file.clone()),
             })
             .collect(),
-        sequences: data.sequences().len(),
-        cases: data.cases().len(),
+        sequences: 0,
+        cases: 0,
         distance: String::new(),
         engine: String::new(),
+        time_step: args.csv.time_step,
+        classes: None,
     };
     Ok((data, inputs))
 }
@@ -224,6 +297,14 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
     if args.format == Format::Csv && tables.iter().filter(|&&t| t).count() > 1 {
         return Err(Error::Parameter(
             "csv holds one table: give one of --per-sequence, --monte-carlo and --per-case".into(),
+        )
+        .into());
+    }
+    if args.ospa2 && args.class_column.is_some() {
+        return Err(Error::Parameter(
+            "--ospa2 is not given with --class-column: OSPA(2) is normalised, so classes do not \
+             add up"
+                .into(),
         )
         .into());
     }
@@ -240,7 +321,7 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
     }
     let (data, mut inputs) = read_data(args, &distance)?;
     for s in &settings {
-        distance.validate(data.dim(), s.cutoff)?;
+        distance.validate(data.first().dim(), s.cutoff)?;
     }
     let engine = Engine::from(args.engine);
     inputs.distance = distance.name().to_string();
@@ -265,10 +346,23 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
             },
         },
         monte_carlo: args.monte_carlo,
+        ospa2: args.ospa2,
     };
-    let bar = evaluations_bar(job_count(&data, &options));
-    let result = run_comparison(&data, &distance, &options, &|| bar.inc(1));
-    bar.finish_and_clear();
+    let result = match &data {
+        Data::Whole(data) => {
+            let bar = evaluations_bar(job_count(data, &options));
+            let result = run_comparison(data, &distance, &options, &|| bar.inc(1));
+            bar.finish_and_clear();
+            result
+        }
+        Data::ByClass(classes) => {
+            let jobs = classes.iter().map(|(_, d)| job_count(d, &options)).sum();
+            let bar = evaluations_bar(jobs);
+            let result = run_by_class(classes, &distance, &options, &|| bar.inc(1));
+            bar.finish_and_clear();
+            result
+        }
+    };
     let comparison = result?;
     let unproven: usize = comparison
         .settings
@@ -294,7 +388,9 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
             Format::Text => report::write_text(out, &comparison, &inputs, sections)?,
             Format::Json => report::write_json(out, &comparison, &inputs, sections)?,
             Format::Csv if args.per_sequence => report::write_sequences_csv(out, &comparison)?,
-            Format::Csv if args.monte_carlo => report::write_steps_csv(out, &comparison)?,
+            Format::Csv if args.monte_carlo => {
+                report::write_steps_csv_timed(out, &comparison, inputs.time_step)?
+            }
             Format::Csv if args.per_case => report::write_cases_csv(out, &comparison)?,
             Format::Csv => report::write_csv(out, &comparison)?,
         }

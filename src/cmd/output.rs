@@ -31,7 +31,8 @@ pub enum Format {
 /// Where the output goes.
 #[derive(Args, Debug, Clone)]
 pub struct OutputArgs {
-    /// Write to FILE instead of standard output; the file appears only when complete.
+    /// Write to FILE instead of standard output (`-` is standard output); the file appears
+    /// only when complete.
     #[arg(long, short = 'o', value_name = "FILE", visible_alias = "out")]
     pub output: Option<PathBuf>,
 }
@@ -67,11 +68,19 @@ enum Target {
 }
 
 impl OutputArgs {
+    /// The file named, or `None` for standard output (no name, or `-` as is common practice
+    /// for command-line tools).
+    fn file(&self) -> Option<&Path> {
+        self.output
+            .as_deref()
+            .filter(|path| *path != Path::new("-"))
+    }
+
     /// Checks, before any work is done, that the output can be written and is none of
     /// `inputs` (file names, `-` for standard input), compared by file identity so that another
     /// name, a link or a `./` prefix does not hide an input.
     pub fn check<P: AsRef<Path>>(&self, inputs: impl IntoIterator<Item = P>) -> anyhow::Result<()> {
-        let Some(path) = &self.output else {
+        let Some(path) = self.file() else {
             return Ok(());
         };
         // Writing into a device or a FIFO destroys nothing: only an ordinary file can be an
@@ -109,7 +118,7 @@ impl OutputArgs {
     /// device or a FIFO. On an error or a signal the temporary file is removed and the target
     /// left as it was.
     pub fn emit(&self, render: impl FnOnce(&mut Sink) -> anyhow::Result<()>) -> anyhow::Result<()> {
-        let Some(path) = &self.output else {
+        let Some(path) = self.file() else {
             return spilled(render, || Ok(std::io::stdout().lock()))
                 .context("writing to standard output");
         };

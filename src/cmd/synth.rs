@@ -54,10 +54,10 @@ pub struct SynthArgs {
     /// Seed of the tracker's faults [default: the scene's seed].
     #[arg(long, value_name = "N")]
     tracker_seed: Option<u64>,
-    /// Write the ground truth to FILE.
+    /// Write the ground truth to FILE (`-`: standard output).
     #[arg(long, value_name = "FILE")]
     truth_out: Option<PathBuf>,
-    /// Write the tracker's output to FILE.
+    /// Write the tracker's output to FILE (`-`: standard output).
     #[arg(long, value_name = "FILE")]
     estimate_out: Option<PathBuf>,
     /// Number of steps.

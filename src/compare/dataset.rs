@@ -6,15 +6,16 @@
 //! same cases in the same order however it was laid out in files.
 
 use std::cmp::Ordering;
-use std::collections::HashMap;
+use std::collections::{BTreeSet, HashMap};
 use std::path::PathBuf;
 
 use rayon::prelude::*;
 
+use crate::classes::PointClasses;
 use crate::error::{Error, Location, Result};
 use crate::input::grouped::{Group, GroupedFile};
 use crate::input::manifest::Manifest;
-use crate::input::{read_csv_path, CsvLayout, TrajectoryFile};
+use crate::input::{read_classed_csv_path, read_csv_path, CsvLayout, TrajectoryFile};
 use crate::trajectory::TrajectorySet;
 
 /// Which sequence and which run a case is. Empty strings stand for "not given".
@@ -76,6 +77,16 @@ pub struct TrackerData {
     pub name: String,
     /// One estimate per case, in the order of [`Dataset::cases`].
     pub estimates: Vec<TrajectorySet>,
+}
+
+/// One dataset per class (in byte order of the names, all with the same cases), and the files
+/// with trajectories whose rows carry more than one class (each cut into one piece per class).
+#[derive(Clone, Debug, PartialEq)]
+pub struct ClassDatasets {
+    /// Each class and its dataset.
+    pub classes: Vec<(String, Dataset)>,
+    /// Each file (as named, in the order read) with such trajectories, and how many it has.
+    pub mixed: Vec<(String, usize)>,
 }
 
 /// Cases sorted by key, their truths, and the trackers' estimates.
@@ -341,6 +352,56 @@ impl Dataset {
         Dataset::new(truths, cases, trackers)
     }
 
+    /// [`Dataset::from_columns`] for files read with classes: one dataset per class found in
+    /// any file (in byte order of the names), each holding every case with the truth's and the
+    /// estimates' pieces of that class ([`PointClasses::split`]); a case where a file has no
+    /// point of the class gets an empty set there. Every class has the same cases.
+    ///
+    /// # Errors
+    /// As [`Dataset::from_columns`]; a group read without classes.
+    pub fn from_columns_by_class(
+        truth: GroupedFile,
+        estimates: Vec<(String, GroupedFile)>,
+    ) -> Result<ClassDatasets> {
+        let mixed = std::iter::once(&truth)
+            .chain(estimates.iter().map(|(_, file)| file))
+            .map(|file| {
+                let count = file.groups.iter().filter_map(|g| g.classes.as_ref());
+                (file.source.clone(), count.map(PointClasses::mixed).sum())
+            })
+            .filter(|&(_, count)| count > 0)
+            .collect();
+        let mut truth_pieces = class_pieces(&truth)?;
+        let mut estimate_pieces = estimates
+            .iter()
+            .map(|(_, file)| class_pieces(file))
+            .collect::<Result<Vec<_>>>()?;
+        let names: BTreeSet<String> = truth_pieces
+            .iter()
+            .chain(estimate_pieces.iter().flatten())
+            .flat_map(|pieces| pieces.keys().cloned())
+            .collect();
+        if names.is_empty() {
+            // No file has a row: the dataset without classes says what is wrong.
+            Dataset::from_columns(truth, estimates)?;
+            return Err(Error::Mismatch("there is no class to evaluate".into()));
+        }
+        let mut datasets = Vec::with_capacity(names.len());
+        for name in &names {
+            let truth = of_class(&truth, &mut truth_pieces, name);
+            let estimates = estimates
+                .iter()
+                .zip(&mut estimate_pieces)
+                .map(|((tracker, file), pieces)| (tracker.clone(), of_class(file, pieces, name)))
+                .collect();
+            datasets.push((name.clone(), Dataset::from_columns(truth, estimates)?));
+        }
+        Ok(ClassDatasets {
+            classes: datasets,
+            mixed,
+        })
+    }
+
     /// Reads every file a manifest names (in parallel) and builds the dataset.
     ///
     /// # Errors
@@ -348,6 +409,29 @@ impl Dataset {
     /// truth files; a tracker without an entry for every case; files of different state
     /// dimensions. Each names the manifest's line or entry.
     pub fn from_manifest(manifest: &Manifest, layout: &CsvLayout) -> Result<Self> {
+        let mut datasets = Self::read_manifest(manifest, layout, None)?.classes;
+        Ok(datasets.pop().expect("one dataset without classes").1)
+    }
+
+    /// [`Dataset::from_manifest`] with every file read with the class column `class_column`:
+    /// one dataset per class, as [`Dataset::from_columns_by_class`] makes them.
+    ///
+    /// # Errors
+    /// As [`Dataset::from_manifest`], and the class errors of reading each file.
+    pub fn from_manifest_by_class(
+        manifest: &Manifest,
+        layout: &CsvLayout,
+        class_column: &str,
+    ) -> Result<ClassDatasets> {
+        Self::read_manifest(manifest, layout, Some(class_column))
+    }
+
+    /// The datasets of a manifest: one (named "") without classes, else one per class.
+    fn read_manifest(
+        manifest: &Manifest,
+        layout: &CsvLayout,
+        class_column: Option<&str>,
+    ) -> Result<ClassDatasets> {
         if manifest.entries.is_empty() {
             return Err(Error::input(
                 Location::file(&manifest.source),
@@ -413,25 +497,31 @@ impl Dataset {
             .collect();
         paths.sort();
         paths.dedup();
-        let files: Vec<TrajectoryFile> = paths
+        let files: Vec<(TrajectoryFile, Option<PointClasses>)> = paths
             .par_iter()
             .map(|path| {
-                read_csv_path(&path.to_string_lossy(), layout)
-                    .map_err(|error| listed_file_error(manifest, path, error))
+                let path_text = path.to_string_lossy();
+                match class_column {
+                    Some(column) => read_classed_csv_path(&path_text, layout, column)
+                        .map(|classed| (classed.file, Some(classed.classes))),
+                    None => read_csv_path(&path_text, layout).map(|file| (file, None)),
+                }
+                .map_err(|error| listed_file_error(manifest, path, error))
             })
             .collect::<Vec<Result<_>>>()
             .into_iter()
             .collect::<Result<_>>()?;
-        let file_of: HashMap<&PathBuf, &TrajectoryFile> = paths.iter().zip(&files).collect();
+        let file_of: HashMap<&PathBuf, &TrajectoryFile> = paths
+            .iter()
+            .zip(files.iter().map(|(file, _)| file))
+            .collect();
         let first = file_of[&manifest.entries[0].truth];
-        for file in &files {
+        for (file, _) in &files {
             first.check_comparable(file)?;
         }
         let mut truth_paths: Vec<&PathBuf> = case_order.iter().map(|k| &case_truth[k].0).collect();
         truth_paths.sort();
         truth_paths.dedup();
-        let truths: Vec<TrajectorySet> =
-            truth_paths.iter().map(|p| file_of[p].set.clone()).collect();
         let cases: Vec<Case> = case_order
             .iter()
             .map(|key| Case {
@@ -441,20 +531,105 @@ impl Dataset {
                     .expect("every truth path is listed"),
             })
             .collect();
-        let trackers = tracker_names
+        // The dataset whose sets are `set_of` each file.
+        let build = |set_of: &dyn Fn(&PathBuf) -> TrajectorySet| {
+            let truths: Vec<TrajectorySet> = truth_paths.iter().map(|p| set_of(p)).collect();
+            let trackers = tracker_names
+                .iter()
+                .map(|name| TrackerData {
+                    name: name.clone(),
+                    estimates: case_order
+                        .iter()
+                        .map(|key| {
+                            let entry = &manifest.entries[seen[&(name.clone(), key.clone())]];
+                            set_of(&entry.estimate)
+                        })
+                        .collect(),
+                })
+                .collect();
+            Dataset::new(truths, cases.clone(), trackers)
+        };
+        if class_column.is_none() {
+            return Ok(ClassDatasets {
+                classes: vec![(String::new(), build(&|p| file_of[p].set.clone())?)],
+                mixed: Vec::new(),
+            });
+        }
+        let dim = first.set.dim();
+        let mut pieces: HashMap<&PathBuf, HashMap<String, TrajectorySet>> = HashMap::new();
+        for (path, (file, classes)) in paths.iter().zip(&files) {
+            let classes = classes.as_ref().expect("read with classes");
+            pieces.insert(path, classes.split(&file.set)?.into_iter().collect());
+        }
+        let names: BTreeSet<&String> = pieces.values().flat_map(|p| p.keys()).collect();
+        if names.is_empty() {
+            return Err(Error::input(
+                Location::file(&manifest.source),
+                "no file the manifest lists has a row: there is no class to evaluate",
+            ));
+        }
+        let empty = TrajectorySet::empty(dim);
+        let classes = names
+            .into_iter()
+            .map(|name| {
+                let set_of = |path: &PathBuf| pieces[path].get(name).unwrap_or(&empty).clone();
+                Ok((name.clone(), build(&set_of)?))
+            })
+            .collect::<Result<_>>()?;
+        let mixed = files
             .iter()
-            .map(|name| TrackerData {
-                name: name.clone(),
-                estimates: case_order
-                    .iter()
-                    .map(|key| {
-                        let entry = &manifest.entries[seen[&(name.clone(), key.clone())]];
-                        file_of[&entry.estimate].set.clone()
-                    })
-                    .collect(),
+            .filter_map(|(file, classes)| {
+                let count = classes.as_ref().map_or(0, PointClasses::mixed);
+                (count > 0).then(|| (file.source.clone(), count))
             })
             .collect();
-        Dataset::new(truths, cases, trackers)
+        Ok(ClassDatasets { classes, mixed })
+    }
+}
+
+/// Each group's pieces by class.
+///
+/// # Errors
+/// A group read without classes, or classes that do not fit its set.
+fn class_pieces(file: &GroupedFile) -> Result<Vec<HashMap<String, TrajectorySet>>> {
+    file.groups
+        .iter()
+        .map(|group| {
+            let classes = group.classes.as_ref().ok_or_else(|| {
+                Error::Mismatch(format!("{} was read without classes", file.source))
+            })?;
+            Ok(classes.split(&group.set)?.into_iter().collect())
+        })
+        .collect()
+}
+
+/// `file` with each group's set replaced by its piece of class `name` (taken from `pieces`, the
+/// groups' pieces by class), or an empty set when the group has none.
+fn of_class(
+    file: &GroupedFile,
+    pieces: &mut [HashMap<String, TrajectorySet>],
+    name: &str,
+) -> GroupedFile {
+    let groups = file
+        .groups
+        .iter()
+        .zip(pieces)
+        .map(|(group, pieces)| Group {
+            sequence: group.sequence.clone(),
+            run: group.run.clone(),
+            first_line: group.first_line,
+            set: pieces
+                .remove(name)
+                .unwrap_or_else(|| TrajectorySet::empty(group.set.dim())),
+            classes: None,
+        })
+        .collect();
+    GroupedFile {
+        source: file.source.clone(),
+        state_columns: file.state_columns.clone(),
+        has_sequence: file.has_sequence,
+        has_run: file.has_run,
+        groups,
     }
 }
 

@@ -22,14 +22,17 @@ pub mod verdict;
 use serde::Serialize;
 
 pub use self::bootstrap::{BootstrapOptions, Interval};
-pub use self::dataset::{Case, CaseKey, Dataset, TrackerData};
+pub use self::dataset::{Case, CaseKey, ClassDatasets, Dataset, TrackerData};
 pub use self::montecarlo::StepsOverRuns;
-pub use self::plan::{evaluate, job_count, settings_grid, CaseScore, Evaluation};
+pub use self::plan::{evaluate, job_count, settings_grid, CaseScore, Evaluation, Ospa2Parts};
 use self::ranking::rank_trackers;
-pub use self::ranking::{rank, summarize, SequenceResult, SettingResult, Summary, TrackerResult};
+pub use self::ranking::{
+    rank, summarize, ClassRanking, SequenceResult, SettingResult, Summary, TrackerResult,
+};
 pub use self::verdict::{PairedDifference, Verdict};
 use crate::distance::Distance;
 use crate::error::Result;
+use crate::trajectory::Window;
 use crate::trajectory_metric::{SolveOptions, TrajectoryParams};
 
 /// What the bootstrap resamples.
@@ -55,6 +58,8 @@ pub struct CompareOptions {
     pub aggregate: AggregateOptions,
     /// Also compute per-step GOSPA over runs.
     pub monte_carlo: bool,
+    /// Also compute OSPA(2) over each case's whole window, at each setting's cut-off and order.
+    pub ospa2: bool,
 }
 
 /// What ranks the trackers and what the bootstrap compares.
@@ -124,11 +129,44 @@ pub struct CaseResult {
     pub sequence: String,
     /// The run ("" without runs).
     pub run: String,
+    /// With classes, the class the row scores, or all classes together; `None` (and no key in
+    /// JSON) without classes.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub class: Option<RowClass>,
     /// The score: d, d^p, the parts and counts, integrality, steps.
     #[serde(flatten)]
     pub score: CaseScore,
     /// d^p / steps ([`CaseScore::per_step`]).
     pub per_step: f64,
+}
+
+/// Which part of a case a row with classes scores.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum RowClass {
+    /// One class.
+    Class(String),
+    /// All classes together (the sum over the classes).
+    All,
+}
+
+impl RowClass {
+    /// The class's name, or `None` for all classes.
+    pub fn name(&self) -> Option<&str> {
+        match self {
+            RowClass::Class(name) => Some(name),
+            RowClass::All => None,
+        }
+    }
+}
+
+impl Serialize for RowClass {
+    /// A class as its name, all classes as null.
+    fn serialize<S: serde::Serializer>(
+        &self,
+        serializer: S,
+    ) -> std::result::Result<S::Ok, S::Error> {
+        self.name().serialize(serializer)
+    }
 }
 
 /// Aggregates an evaluation (from [`evaluate`], or from scores computed elsewhere through
@@ -179,6 +217,7 @@ pub fn aggregate(evaluation: &Evaluation, options: &AggregateOptions) -> Result<
             params: *params,
             trackers,
             sequences: per_sequence,
+            classes: Vec::new(),
         });
     }
     let names = evaluation.trackers();
@@ -194,6 +233,7 @@ pub fn aggregate(evaluation: &Evaluation, options: &AggregateOptions) -> Result<
                     tracker: tracker.clone(),
                     sequence: key.sequence.clone(),
                     run: key.run.clone(),
+                    class: None,
                     score,
                     per_step: score.per_step(),
                 });
@@ -210,6 +250,95 @@ pub fn aggregate(evaluation: &Evaluation, options: &AggregateOptions) -> Result<
         monte_carlo: montecarlo::over_runs(evaluation),
         cases: rows,
     })
+}
+
+/// A comparison with classes: each class's dataset (from [`Dataset::from_columns_by_class`]
+/// or [`Dataset::from_manifest_by_class`], all with the same cases) evaluated on its own, the
+/// classes added up case by case ([`Evaluation::over_classes`]) and that total aggregated as
+/// without classes (rankings, bootstrap, Monte Carlo summaries); then each setting gets the
+/// ranking within each class over the cases where the class occurs (in the truth or in some
+/// tracker's estimate), and each case's rows become one per class occurring in it followed by
+/// the row for all classes.
+///
+/// # Errors
+/// As [`evaluate`] and [`aggregate`]; no class.
+pub fn run_by_class(
+    classes: &[(String, Dataset)],
+    distance: &Distance,
+    options: &CompareOptions,
+    progress: &(dyn Fn() + Sync),
+) -> Result<Comparison> {
+    let evaluations = classes
+        .iter()
+        .map(|(_, data)| evaluate(data, distance, options, progress))
+        .collect::<Result<Vec<_>>>()?;
+    let Some((_, first)) = classes.first() else {
+        return Err(crate::error::Error::Mismatch(
+            "there is no class to evaluate".into(),
+        ));
+    };
+    let (trackers, cases) = (first.trackers().len(), first.cases().len());
+    let mut windows = Vec::with_capacity(trackers * cases);
+    for t in 0..trackers {
+        for c in 0..cases {
+            let each = classes.iter().map(|(_, data)| {
+                Window::covering(data.truth_of(c), &data.trackers()[t].estimates[c])
+            });
+            windows.push(each.flatten().reduce(|a, b| Window {
+                first: a.first.min(b.first),
+                last: a.last.max(b.last),
+            }));
+        }
+    }
+    let total = Evaluation::over_classes(&evaluations, &windows)?;
+    let mut comparison = aggregate(&total, &options.aggregate)?;
+    // The cases where each class occurs.
+    let occurs: Vec<Vec<bool>> = classes
+        .iter()
+        .map(|(_, data)| {
+            (0..cases)
+                .map(|c| {
+                    !data.truth_of(c).is_empty()
+                        || data.trackers().iter().any(|t| !t.estimates[c].is_empty())
+                })
+                .collect()
+        })
+        .collect();
+    for (index, setting) in comparison.settings.iter_mut().enumerate() {
+        for ((name, _), (evaluation, occurs)) in classes.iter().zip(evaluations.iter().zip(&occurs))
+        {
+            let cases = (0..occurs.len()).filter(|&c| occurs[c]);
+            setting.classes.push(ClassRanking {
+                class: name.clone(),
+                cases: cases.clone().count(),
+                trackers: rank_trackers(evaluation, index, cases, options.aggregate.rank_by, None)?,
+            });
+        }
+    }
+    // Each total row, preceded by the rows of the classes occurring in its case.
+    let totals = std::mem::take(&mut comparison.cases);
+    for (row, total) in totals.into_iter().enumerate() {
+        let case = row % cases;
+        let tracker = row / cases % trackers;
+        let setting = row / cases / trackers;
+        for ((name, _), (evaluation, occurs)) in classes.iter().zip(evaluations.iter().zip(&occurs))
+        {
+            if occurs[case] {
+                let score = *evaluation.score(setting, tracker, case);
+                comparison.cases.push(CaseResult {
+                    class: Some(RowClass::Class(name.clone())),
+                    score,
+                    per_step: score.per_step(),
+                    ..total.clone()
+                });
+            }
+        }
+        comparison.cases.push(CaseResult {
+            class: Some(RowClass::All),
+            ..total
+        });
+    }
+    Ok(comparison)
 }
 
 /// [`evaluate`] then [`aggregate`].

@@ -18,7 +18,8 @@
 //!
 //! A step outside a run's window has no object in either set there: it counts as 0 for that
 //! run. For the trajectory metric d_r of each run: mean (1/R) sum d_r and RMS
-//! ((1/R) sum d_r^2)^(1/2).
+//! ((1/R) sum d_r^2)^(1/2). Every mean and RMS here comes from [`mean_and_rms`], finite for
+//! finite values however large.
 
 use serde::Serialize;
 
@@ -56,6 +57,8 @@ pub struct StepOverRuns {
 #[derive(Serialize)]
 struct StepOverRunsKeys<'a> {
     time: &'a Step,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    input_time: Option<f64>,
     runs: &'a usize,
     mean: &'a f64,
     rms: &'a f64,
@@ -65,10 +68,12 @@ struct StepOverRunsKeys<'a> {
     false_count: &'a f64,
 }
 
-impl Serialize for StepOverRuns {
-    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+impl StepOverRuns {
+    /// The keys as written, with `input_time` after `time` when it is given.
+    fn keys(&self, input_time: Option<f64>) -> StepOverRunsKeys<'_> {
         StepOverRunsKeys {
             time: &self.time,
+            input_time,
             runs: &self.runs,
             mean: &self.mean,
             rms: &self.rms,
@@ -76,7 +81,28 @@ impl Serialize for StepOverRuns {
             missed_count: &self.missed_count,
             false_count: &self.false_count,
         }
-        .serialize(serializer)
+    }
+}
+
+impl Serialize for StepOverRuns {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        self.keys(None).serialize(serializer)
+    }
+}
+
+/// A step over runs with its time in the input's units (`input_time`, written after `time`),
+/// when the input gave a step size.
+#[derive(Clone, Debug, PartialEq)]
+pub struct TimedStepOverRuns {
+    /// The step's values.
+    pub step: StepOverRuns,
+    /// The step in the input's time units, if a step size was given.
+    pub input_time: Option<f64>,
+}
+
+impl Serialize for TimedStepOverRuns {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        self.step.keys(self.input_time).serialize(serializer)
     }
 }
 
@@ -87,7 +113,14 @@ pub fn mean_and_rms(values: impl IntoIterator<Item = f64>) -> (f64, f64) {
     if values.is_empty() {
         return (0.0, 0.0);
     }
-    let n = values.len() as f64;
+    mean_and_rms_among(&values, values.len())
+}
+
+/// [`mean_and_rms`] of `values` and `n - values.len()` zeros (n >= values.len(), n > 0): the
+/// sums run over `values` alone from +0.0, which the zeros would leave unchanged, so the result
+/// is the same bits as with the zeros listed.
+fn mean_and_rms_among(values: &[f64], n: usize) -> (f64, f64) {
+    let n = n as f64;
     let (sum, squares) = values
         .iter()
         .fold((0.0, 0.0), |(sum, squares), v| (sum + v, squares + v * v));
@@ -188,26 +221,26 @@ pub fn steps_over_runs(runs: &[&OccupiedSteps]) -> OccupiedOverRuns {
     let occupied = entries
         .chunk_by(|a, b| a.time == b.time)
         .map(|at| {
-            let mut sums = [0.0f64; 7];
+            let gospa: Vec<f64> = at.iter().map(|step| step.gospa).collect();
+            let (mean, rms) = mean_and_rms_among(&gospa, runs.len());
+            let mut sums = [0.0f64; 5];
             for step in at {
-                sums[0] += step.gospa;
-                sums[1] += step.gospa * step.gospa;
-                sums[2] += step.localization.unwrap_or(0.0);
-                sums[3] += step.missed.unwrap_or(0.0);
-                sums[4] += step.false_.unwrap_or(0.0);
-                sums[5] += step.missed_count as f64;
-                sums[6] += step.false_count as f64;
+                sums[0] += step.localization.unwrap_or(0.0);
+                sums[1] += step.missed.unwrap_or(0.0);
+                sums[2] += step.false_.unwrap_or(0.0);
+                sums[3] += step.missed_count as f64;
+                sums[4] += step.false_count as f64;
             }
             StepOverRuns {
                 time: at[0].time,
                 runs: runs.len(),
-                mean: sums[0] / n,
-                rms: (sums[1] / n).sqrt(),
-                localization: sums[2] / n,
-                missed: sums[3] / n,
-                false_: sums[4] / n,
-                missed_count: sums[5] / n,
-                false_count: sums[6] / n,
+                mean,
+                rms,
+                localization: sums[0] / n,
+                missed: sums[1] / n,
+                false_: sums[2] / n,
+                missed_count: sums[3] / n,
+                false_count: sums[4] / n,
             }
         })
         .collect();

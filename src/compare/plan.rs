@@ -9,9 +9,12 @@ use serde::Serialize;
 
 use super::dataset::{self, CaseKey, Dataset};
 use super::{CompareOptions, RankBy};
-use crate::distance::Distance;
+use crate::classes::sum_steps;
+use crate::distance::{root, Distance};
 use crate::error::{Error, Result};
+use crate::ospa2::{Ospa2, Ospa2Params, Ospa2Score};
 use crate::per_step::{occupied_steps, GospaParams, OccupiedSteps};
+use crate::trajectory::Window;
 use crate::trajectory_metric::{score_with, Parts, TrajectoryParams, TrajectoryScore};
 
 /// The settings of a sweep: every order, then every cut-off, then every switching penalty
@@ -56,6 +59,30 @@ pub fn settings_grid(
     Ok(settings)
 }
 
+/// OSPA(2) over a case's whole window (M. Beard, B.-T. Vo, B.-N. Vo, "A solution for
+/// large-scale multi-object tracking", IEEE Trans. Signal Processing 68:2754-2769, 2020;
+/// [`crate::ospa2`]), at the setting's cut-off and order: the value and its two parts in p-th
+/// power units, as `score --ospa2` gives them; or their means over cases in a summary.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
+pub struct Ospa2Parts {
+    /// OSPA(2), between 0 and c.
+    pub value: f64,
+    /// The part of OSPA(2)^p from the pairs closer than c.
+    pub paired_power: f64,
+    /// The part of OSPA(2)^p from the trajectories left without a partner closer than c.
+    pub unpaired_power: f64,
+}
+
+impl From<&Ospa2Score> for Ospa2Parts {
+    fn from(s: &Ospa2Score) -> Self {
+        Ospa2Parts {
+            value: s.value,
+            paired_power: s.paired_power,
+            unpaired_power: s.unpaired_power,
+        }
+    }
+}
+
 /// The trajectory metric of one (tracker, case, setting), without the LP's weights.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize)]
 pub struct CaseScore {
@@ -73,6 +100,9 @@ pub struct CaseScore {
     pub proven: bool,
     /// Steps in the window.
     pub steps: usize,
+    /// OSPA(2) over the window, when asked for (`--ospa2`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub ospa2: Option<Ospa2Parts>,
 }
 
 impl CaseScore {
@@ -95,6 +125,30 @@ impl CaseScore {
     }
 }
 
+impl CaseScore {
+    /// The score of several classes together, as `specs/classes.md` adds them up (and
+    /// [`crate::classes::sum_scores`] does for whole scores): d^p, the parts and the counts
+    /// are sums in the order given, d = (sum of d^p)^(1/p) at order `order`; integral and
+    /// proven when every class's is; `steps` the steps of the window of all classes together.
+    pub fn over_classes(scores: &[&CaseScore], order: f64, steps: usize) -> CaseScore {
+        let total = scores.iter().fold(0.0, |sum, s| sum + s.total);
+        let mut parts = Parts::default();
+        for score in scores {
+            parts += score.parts;
+        }
+        CaseScore {
+            metric: root(total, order),
+            total,
+            parts,
+            integral: scores.iter().all(|s| s.integral),
+            proven: scores.iter().all(|s| s.proven),
+            steps,
+            // Normalised: OSPA(2) does not add up over classes.
+            ospa2: None,
+        }
+    }
+}
+
 impl From<&TrajectoryScore> for CaseScore {
     fn from(s: &TrajectoryScore) -> Self {
         CaseScore {
@@ -104,6 +158,7 @@ impl From<&TrajectoryScore> for CaseScore {
             integral: s.integral,
             proven: s.certificate.proven,
             steps: s.steps,
+            ospa2: None,
         }
     }
 }
@@ -167,6 +222,62 @@ impl Evaluation {
             cases: sorted_cases,
             scores: sorted_scores,
             series: Vec::new(),
+        })
+    }
+
+    /// All classes together from the evaluations of each class (from [`evaluate`] on each
+    /// class's [`Dataset`], all with the same settings, trackers and cases): every score is
+    /// [`CaseScore::over_classes`] of the classes' scores, in the order given, and every
+    /// per-step series the classes' series added up ([`sum_steps`]). `windows[tracker x cases
+    /// + case]` is the window of all classes together of that tracker and case.
+    ///
+    /// # Errors
+    /// No class; classes evaluated on other settings, trackers or cases; windows not covering
+    /// every (tracker, case); per-step sums that overflow.
+    pub fn over_classes(classes: &[Evaluation], windows: &[Option<Window>]) -> Result<Self> {
+        let Some(first) = classes.first() else {
+            return Err(Error::Mismatch("there is no class to add up".into()));
+        };
+        let (trackers, cases) = (first.trackers.len(), first.cases.len());
+        if classes.iter().any(|c| {
+            c.settings != first.settings
+                || c.step_params != first.step_params
+                || c.trackers != first.trackers
+                || c.cases != first.cases
+        }) || windows.len() != trackers * cases
+        {
+            return Err(Error::Mismatch(
+                "the classes were evaluated on other settings, trackers or cases".into(),
+            ));
+        }
+        let steps_of = |t: usize, c: usize| windows[t * cases + c].map_or(0, |w| w.len());
+        let mut scores = Vec::with_capacity(first.scores.len());
+        for (setting, params) in first.settings.iter().enumerate() {
+            for t in 0..trackers {
+                for c in 0..cases {
+                    let each: Vec<&CaseScore> =
+                        classes.iter().map(|k| k.score(setting, t, c)).collect();
+                    scores.push(CaseScore::over_classes(&each, params.order, steps_of(t, c)));
+                }
+            }
+        }
+        let mut series = Vec::with_capacity(first.series.len());
+        for (index, params) in first.step_params.iter().enumerate() {
+            for t in 0..trackers {
+                for c in 0..cases {
+                    let each: Vec<&OccupiedSteps> =
+                        classes.iter().map(|k| k.series(index, t, c)).collect();
+                    series.push(sum_steps(&each, windows[t * cases + c], params)?);
+                }
+            }
+        }
+        Ok(Evaluation {
+            settings: first.settings.clone(),
+            step_params: first.step_params.clone(),
+            trackers: first.trackers.clone(),
+            cases: first.cases.clone(),
+            scores,
+            series,
         })
     }
 
@@ -326,15 +437,19 @@ pub fn evaluate(
                     case,
                 } => {
                     let t = &dataset.trackers()[tracker];
-                    score_with(
-                        dataset.truth_of(case),
-                        &t.estimates[case],
-                        &options.settings[setting],
-                        distance,
-                        &options.solve,
-                    )
-                    .map(|s| Outcome::Trajectory(CaseScore::from(&s)))
-                    .map_err(|e| in_case(e, &t.name, &dataset.cases()[case].key))
+                    let (truth, estimate) = (dataset.truth_of(case), &t.estimates[case]);
+                    let params = &options.settings[setting];
+                    score_with(truth, estimate, params, distance, &options.solve)
+                        .and_then(|s| {
+                            let mut score = CaseScore::from(&s);
+                            if options.ospa2 {
+                                let second = Ospa2Params::new(params.cutoff, params.order)?;
+                                let metric = Ospa2::new(truth, estimate, second, distance)?;
+                                score.ospa2 = Some(Ospa2Parts::from(&metric.whole()));
+                            }
+                            Ok(Outcome::Trajectory(score))
+                        })
+                        .map_err(|e| in_case(e, &t.name, &dataset.cases()[case].key))
                 }
                 Job::Steps {
                     params,
@@ -412,6 +527,7 @@ mod tests {
             integral: true,
             proven: true,
             steps: 1,
+            ospa2: None,
         };
         let settings = vec![TrajectoryParams::new(2.0, 1.0, 2.0).unwrap()];
         // Runs "10" and "9" of one sequence: as integers 9 comes first (the order `Dataset`

@@ -11,7 +11,7 @@ use serde::Serialize;
 
 use super::bootstrap::BootstrapOptions;
 use super::montecarlo::mean_and_rms;
-use super::plan::{CaseScore, Evaluation};
+use super::plan::{CaseScore, Evaluation, Ospa2Parts};
 use super::verdict::{paired_difference, PairedDifference};
 use super::RankBy;
 use crate::error::Result;
@@ -36,6 +36,9 @@ pub struct Summary {
     pub parts: Parts,
     /// Cases whose LP optimum is fractional (d is then a lower bound of the exact metric).
     pub fractional_cases: usize,
+    /// The means over the cases of OSPA(2) and of its two parts, when every case has it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub ospa2: Option<Ospa2Parts>,
     /// Cases whose value is not proven optimal (reported with bounds; the scores' notes say
     /// why). Not written to the outputs: the command warns instead.
     #[serde(skip)]
@@ -71,8 +74,25 @@ pub fn summarize<'a>(scores: impl IntoIterator<Item = &'a CaseScore>) -> Summary
             switch_count: sum(|s| s.parts.switch_count),
         },
         fractional_cases: scores.iter().filter(|s| s.proven && !s.integral).count(),
+        ospa2: ospa2_means(&scores),
         unproven_cases: scores.iter().filter(|s| !s.proven).count(),
     }
+}
+
+/// The means of OSPA(2) and its parts over the scores (summed in order), when every score has
+/// it and there is at least one.
+fn ospa2_means(scores: &[&CaseScore]) -> Option<Ospa2Parts> {
+    let values: Vec<Ospa2Parts> = scores.iter().map(|s| s.ospa2).collect::<Option<_>>()?;
+    if values.is_empty() {
+        return None;
+    }
+    let n = values.len() as f64;
+    let mean = |f: fn(&Ospa2Parts) -> f64| values.iter().map(f).sum::<f64>() / n;
+    Some(Ospa2Parts {
+        value: mean(|o| o.value),
+        paired_power: mean(|o| o.paired_power),
+        unpaired_power: mean(|o| o.unpaired_power),
+    })
 }
 
 /// Competition ranks of values, smallest first: exactly equal values share a rank and the next
@@ -123,6 +143,20 @@ pub struct SettingResult {
     pub trackers: Vec<TrackerResult>,
     /// The same per sequence (without differences), in sequence order.
     pub sequences: Vec<SequenceResult>,
+    /// With classes, the ranking within each class (without differences), in byte order of the
+    /// names; empty without classes.
+    pub classes: Vec<ClassRanking>,
+}
+
+/// One class's ranking: each tracker over the cases where the class occurs.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct ClassRanking {
+    /// The class.
+    pub class: String,
+    /// The cases where the class occurs: in the truth or in some tracker's estimate.
+    pub cases: usize,
+    /// The trackers over those cases, best first.
+    pub trackers: Vec<TrackerResult>,
 }
 
 impl SettingResult {
@@ -145,7 +179,7 @@ impl SettingResult {
 pub(super) fn rank_trackers(
     evaluation: &Evaluation,
     setting: usize,
-    cases: Range<usize>,
+    cases: impl Iterator<Item = usize> + Clone,
     rank_by: RankBy,
     bootstrap: Option<(&BootstrapOptions, &[Range<usize>])>,
 ) -> Result<Vec<TrackerResult>> {
@@ -206,6 +240,7 @@ mod tests {
             integral,
             proven: true,
             steps: 3,
+            ospa2: None,
         };
         // d = 3 and 4: mean 3.5, RMS sqrt(12.5); localisation mean (1.5 + 2) / 2 = 1.75;
         // switches 1 + 0.5 = 1.5 in total; one fractional case.

@@ -13,7 +13,10 @@ use std::io::{self, Read};
 
 use indexmap::IndexMap;
 
-use super::csv::{optional_column, CsvLayout, ObjectMap, ObjectPoints, Rows};
+use super::csv::{
+    class_position, optional_column, ClassNames, CsvLayout, ObjectMap, ObjectPoints, Rows,
+};
+use crate::classes::PointClasses;
 use crate::error::{Error, Location, Result};
 use crate::trajectory::TrajectorySet;
 
@@ -47,6 +50,8 @@ pub struct Group {
     pub first_line: u64,
     /// The group's trajectories, in order of first appearance.
     pub set: TrajectorySet,
+    /// The class of each point of `set`, when the file was read with a class column.
+    pub classes: Option<PointClasses>,
 }
 
 /// A file read with its groups.
@@ -73,8 +78,23 @@ pub fn read_grouped_csv_path(
     layout: &CsvLayout,
     columns: &GroupColumns,
 ) -> Result<GroupedFile> {
+    read_grouped_classed_csv_path(path, layout, columns, None)
+}
+
+/// [`read_grouped_csv_path`], with the class of every row from the column `class_column` when
+/// it is given (each group then has its [`Group::classes`]).
+///
+/// # Errors
+/// As [`read_grouped_csv_path`], and the class errors of
+/// [`read_classed_csv`](super::read_classed_csv).
+pub fn read_grouped_classed_csv_path(
+    path: &str,
+    layout: &CsvLayout,
+    columns: &GroupColumns,
+    class_column: Option<&str>,
+) -> Result<GroupedFile> {
     if path == "-" {
-        return read_grouped_csv(io::stdin().lock(), "<stdin>", layout, columns);
+        return read_grouped(io::stdin().lock(), "<stdin>", layout, columns, class_column);
     }
     super::csv::check_file_name(path)?;
     let io_error = |error| Error::Io {
@@ -88,11 +108,12 @@ pub fn read_grouped_csv_path(
         ));
     }
     let file = File::open(path).map_err(io_error)?;
-    read_grouped_csv(
+    read_grouped(
         io::BufReader::with_capacity(1 << 16, file),
         path,
         layout,
         columns,
+        class_column,
     )
 }
 
@@ -115,7 +136,25 @@ pub fn read_grouped_csv<R: Read>(
     layout: &CsvLayout,
     groups: &GroupColumns,
 ) -> Result<GroupedFile> {
+    read_grouped(reader, source, layout, groups, None)
+}
+
+/// [`read_grouped_csv`], with classes when `class_column` is given.
+fn read_grouped<R: Read>(
+    reader: R,
+    source: &str,
+    layout: &CsvLayout,
+    groups: &GroupColumns,
+    class_column: Option<&str>,
+) -> Result<GroupedFile> {
     check_group_names(layout, groups)?;
+    if let Some(name) = class_column {
+        if name == groups.sequence || name == groups.run {
+            return Err(Error::Parameter(format!(
+                "the class column {name:?} is also a sequence or run column"
+            )));
+        }
+    }
     let mut rows = Rows::open(reader, source, layout)?;
     // The state columns are known only now when they are the defaults (x, y and maybe z).
     for (what, name) in [("sequence", &groups.sequence), ("run", &groups.run)] {
@@ -127,6 +166,11 @@ pub fn read_grouped_csv<R: Read>(
     }
     let sequence_column = optional_column(&rows.names, &groups.sequence, source)?;
     let run_column = optional_column(&rows.names, &groups.run, source)?;
+    let class_column = match class_column {
+        Some(name) => Some(class_position(&rows, layout, source, name)?),
+        None => None,
+    };
+    let mut class_names = ClassNames::default();
     let mut found: IndexMap<(String, String), GroupPoints> = IndexMap::new();
     let mut last: Option<(usize, usize)> = None;
     while rows.advance()? {
@@ -185,15 +229,24 @@ pub fn read_grouped_csv<R: Read>(
             },
         };
         last = Some((group, index));
-        rows.push_point(step, &mut objects[index])?;
+        match class_column {
+            Some(position) => class_names.push_point(&rows, position, step, &mut objects[index])?,
+            None => rows.push_point(step, &mut objects[index])?,
+        }
     }
+    let names = class_names.into_names();
     let mut result = Vec::with_capacity(found.len());
     for ((sequence, run), points) in found {
+        let (set, point_classes) = rows.finish_set_with_classes(points.objects)?;
+        let classes = class_column
+            .map(|_| PointClasses::new(names.clone(), point_classes))
+            .transpose()?;
         result.push(Group {
             sequence,
             run,
             first_line: points.first_line,
-            set: rows.finish_set(points.objects)?,
+            set,
+            classes,
         });
     }
     Ok(GroupedFile {
@@ -269,6 +322,54 @@ mod tests {
         assert_eq!(keys, [("a", "1", 2, 2), ("a", "2", 3, 1), ("b", "1", 4, 1)]);
         // The same id in two groups is two objects.
         assert_eq!(file.groups[0].set.get(0).state_at(1), Some(&[0.0, 1.0][..]));
+    }
+
+    #[test]
+    fn classes_are_read_per_group_and_split_by_class() {
+        let text = "sequence,time,id,x,y,kind\n\
+                    a,0,p,0,0,car\n\
+                    b,0,p,1,0,van\n\
+                    a,1,p,0,1,van\n";
+        let file = read_grouped(
+            text.as_bytes(),
+            "g.csv",
+            &CsvLayout::default(),
+            &GroupColumns::default(),
+            Some("kind"),
+        )
+        .unwrap();
+        assert_eq!(file.groups.len(), 2);
+        // Group a: p is a car at step 0 and a van at step 1, cut into two pieces.
+        let a = file.groups[0].classes.as_ref().unwrap();
+        assert_eq!(a.mixed(), 1);
+        let pieces = a.split(&file.groups[0].set).unwrap();
+        let steps: Vec<(&str, &[i64])> = pieces
+            .iter()
+            .map(|(class, set)| (class.as_str(), set.get(0).steps()))
+            .collect();
+        assert_eq!(steps, [("car", &[0][..]), ("van", &[1][..])]);
+        // Group b: one van only.
+        let b = file.groups[1].classes.as_ref().unwrap();
+        let pieces = b.split(&file.groups[1].set).unwrap();
+        assert_eq!(pieces.len(), 1);
+        assert_eq!(pieces[0].0, "van");
+        // Without the option no classes are read.
+        assert!(read(text).unwrap().groups[0].classes.is_none());
+        // An empty class names the line and column.
+        let error = read_grouped(
+            &b"sequence,time,id,x,y,kind\na,0,p,0,0,\n"[..],
+            "g.csv",
+            &CsvLayout::default(),
+            &GroupColumns::default(),
+            Some("kind"),
+        )
+        .unwrap_err();
+        assert!(
+            error
+                .to_string()
+                .starts_with("g.csv, line 2, column 6 (\"kind\")"),
+            "{error}"
+        );
     }
 
     #[test]

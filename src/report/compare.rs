@@ -7,10 +7,10 @@ use std::io::Write;
 use serde::Serialize;
 
 use super::steps::write_step;
-use super::{csv_number, fixed, param, plural, printable, write_table, TableLayout};
-use crate::compare::montecarlo::StepOverRuns;
+use super::{csv_number, fixed, input_time, param, plural, printable, write_table, TableLayout};
+use crate::compare::montecarlo::{OccupiedOverRuns, StepOverRuns, TimedStepOverRuns};
 use crate::compare::{
-    CaseResult, Comparison, RankBy, ResampleBy, SettingResult, StepsOverRuns, Summary,
+    CaseResult, Comparison, Ospa2Parts, RankBy, ResampleBy, SettingResult, StepsOverRuns, Summary,
     TrackerResult, Verdict,
 };
 use crate::per_step::Stretch;
@@ -42,6 +42,13 @@ pub struct CompareInputs {
     pub distance: String,
     /// The LP engine.
     pub engine: String,
+    /// `--time-step`: the step size in the input's time units; with it, the Monte Carlo
+    /// per-step summaries give each step's time in those units (`input_time`) beside the step.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub time_step: Option<f64>,
+    /// `--class-column`: the classes found, in byte order of the names; `None` without it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub classes: Option<Vec<String>>,
 }
 
 /// Which parts a report holds besides the overall ranking.
@@ -130,6 +137,10 @@ fn summary_tables<W: Write>(
         header.push("mean d^p");
     }
     header.extend(["d^p/step", "fractional"]);
+    let show_ospa2 = summaries.iter().any(|s| s.ospa2.is_some());
+    if show_ospa2 {
+        header.push("OSPA(2)");
+    }
     let rows: Vec<Vec<String>> = leads
         .iter()
         .zip(summaries)
@@ -140,6 +151,9 @@ fn summary_tables<W: Write>(
                 row.push(fixed(s.total_mean, 4));
             }
             row.extend([fixed(s.per_step_mean, 4), s.fractional_cases.to_string()]);
+            if show_ospa2 {
+                row.push(ospa2_text(s.ospa2));
+            }
             row
         })
         .collect();
@@ -184,6 +198,62 @@ fn summary_tables<W: Write>(
         })
         .collect();
     write_table(out, &header, &rows)
+}
+
+/// The two summary tables of rankings within groups (sequences, classes): each row led by the
+/// group's name, the rank, the tracker and the number of cases; `names` holds the headers of
+/// the group's column and of the cases' column.
+fn grouped_tables<'a, W: Write>(
+    out: &mut W,
+    order: f64,
+    names: [&str; 2],
+    groups: impl Iterator<Item = (String, &'a Vec<TrackerResult>)>,
+) -> std::io::Result<()> {
+    let rows: Vec<(Vec<String>, &Summary)> = groups
+        .flat_map(|(name, trackers)| {
+            trackers.iter().map(move |t| {
+                let lead = vec![
+                    name.clone(),
+                    t.rank.to_string(),
+                    t.tracker.clone(),
+                    t.summary.cases.to_string(),
+                ];
+                (lead, &t.summary)
+            })
+        })
+        .collect();
+    let (leads, summaries): (Vec<_>, Vec<_>) = rows.into_iter().unzip();
+    summary_tables(
+        out,
+        order,
+        &[names[0], "rank", "tracker", names[1]],
+        &leads,
+        &summaries,
+    )
+}
+
+/// OSPA(2) for text (`-` when absent).
+fn ospa2_text(value: Option<Ospa2Parts>) -> String {
+    value.map_or_else(|| "-".into(), |o| fixed(o.value, 4))
+}
+
+/// The CSV columns of OSPA(2), after the others, when it was computed.
+const OSPA2_CSV: &str = ",ospa2,ospa2_paired_power,ospa2_unpaired_power";
+
+/// The OSPA(2) header columns when `present`.
+fn ospa2_csv_header(present: bool) -> &'static str {
+    if present {
+        OSPA2_CSV
+    } else {
+        ""
+    }
+}
+
+/// OSPA(2) and its parts as CSV cells after the others (nothing when absent).
+fn ospa2_csv(value: Option<Ospa2Parts>) -> String {
+    value.map_or_else(String::new, |o| {
+        format!(",{},{},{}", o.value, o.paired_power, o.unpaired_power)
+    })
 }
 
 /// Below this many resampling units the text warns that the intervals are rough.
@@ -239,6 +309,16 @@ pub fn write_text<W: Write>(
         })
         .collect();
     writeln!(out, "trackers  {}", trackers.join("; "))?;
+    if let Some(classes) = &inputs.classes {
+        let names: Vec<String> = classes.iter().map(|c| printable(c).into_owned()).collect();
+        writeln!(out, "classes   {}", names.join(", "))?;
+        writeln!(
+            out,
+            "Objects are matched within their class; d is the total over the classes,\n\
+             (sum of each class's d^p)^(1/p). Each class is also ranked on its own, over the cases\n\
+             where it occurs."
+        )?;
+    }
     writeln!(
         out,
         "d^p/step is the mean over the cases of d^p / steps, each case's cost per step (sequences\n\
@@ -253,6 +333,13 @@ pub fn write_text<W: Write>(
             RankBy::PerStep => "d^p/step (--rank-by per-step)",
         }
     )?;
+    if has_ospa2(comparison) {
+        writeln!(
+            out,
+            "OSPA(2) is the mean over the cases of OSPA(2) (Beard, Vo, Vo, IEEE TSP 2020; normalised,\n\
+             0 to c) at the setting's c and p, over each case's whole window; it does not rank."
+        )?;
+    }
     let total = comparison.settings.len();
     let b = &comparison.bootstrap;
     for (index, setting) in comparison.settings.iter().enumerate() {
@@ -344,32 +431,23 @@ pub fn write_text<W: Write>(
                 )?;
             }
         }
+        if !setting.classes.is_empty() {
+            writeln!(out)?;
+            writeln!(out, "Per class (over the cases where it occurs):")?;
+            let groups = setting
+                .classes
+                .iter()
+                .map(|k| (k.class.clone(), &k.trackers));
+            grouped_tables(out, setting.params.order, ["class", "cases"], groups)?;
+        }
         if sections.per_sequence {
             writeln!(out)?;
             writeln!(out, "Per sequence (over its runs):")?;
-            let rows: Vec<(Vec<String>, &Summary)> = setting
+            let groups = setting
                 .sequences
                 .iter()
-                .flat_map(|s| {
-                    s.trackers.iter().map(move |t| {
-                        let lead = vec![
-                            shown(&s.sequence),
-                            t.rank.to_string(),
-                            t.tracker.clone(),
-                            t.summary.cases.to_string(),
-                        ];
-                        (lead, &t.summary)
-                    })
-                })
-                .collect();
-            let (leads, summaries): (Vec<_>, Vec<_>) = rows.into_iter().unzip();
-            summary_tables(
-                out,
-                setting.params.order,
-                &["sequence", "rank", "tracker", "runs"],
-                &leads,
-                &summaries,
-            )?;
+                .map(|s| (shown(&s.sequence), &s.trackers));
+            grouped_tables(out, setting.params.order, ["sequence", "runs"], groups)?;
         }
     }
     if total > 1 {
@@ -395,7 +473,7 @@ pub fn write_text<W: Write>(
         }
     }
     if sections.monte_carlo {
-        write_monte_carlo_text(out, comparison)?;
+        write_monte_carlo_text(out, comparison, inputs.time_step)?;
     }
     if sections.per_case {
         write_cases_text(out, comparison)?;
@@ -415,24 +493,38 @@ fn write_cases_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::
         let p = &setting.params;
         let cases = comparison.cases.iter().filter(|c| c.params == *p);
         let show_total = p.order != 1.0;
-        let mut header = vec!["sequence", "run", "tracker", "steps", "d"];
+        let with_classes = comparison.cases.iter().any(|c| c.class.is_some());
+        let mut header = vec!["sequence", "run"];
+        if with_classes {
+            header.push("class");
+        }
+        header.extend(["tracker", "steps", "d"]);
         if show_total {
             header.push("d^p");
         }
         header.push("d^p/step");
+        let show_ospa2 = has_ospa2(comparison);
+        if show_ospa2 {
+            header.push("OSPA(2)");
+        }
         let rows: Vec<Vec<String>> = cases
             .map(|c| {
-                let mut row = vec![
-                    shown(&c.sequence),
-                    shown(&c.run),
+                let mut row = vec![shown(&c.sequence), shown(&c.run)];
+                if let Some(class) = &c.class {
+                    row.push(class.name().unwrap_or(ALL_CLASSES_TEXT).to_string());
+                }
+                row.extend([
                     c.tracker.clone(),
                     c.score.steps.to_string(),
                     fixed(c.score.metric, 4),
-                ];
+                ]);
                 if show_total {
                     row.push(fixed(c.score.total, 4));
                 }
                 row.push(fixed(c.per_step, 4));
+                if show_ospa2 {
+                    row.push(ospa2_text(c.score.ospa2));
+                }
                 row
             })
             .collect();
@@ -441,6 +533,10 @@ fn write_cases_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::
     }
     Ok(())
 }
+
+/// The class of the case rows for all classes together, in text (CSV leaves it empty, JSON
+/// writes null).
+const ALL_CLASSES_TEXT: &str = "(all)";
 
 /// A group value for text: `-` when empty.
 fn shown(value: &str) -> String {
@@ -451,7 +547,11 @@ fn shown(value: &str) -> String {
     }
 }
 
-fn write_monte_carlo_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+fn write_monte_carlo_text<W: Write>(
+    out: &mut W,
+    comparison: &Comparison,
+    time_step: Option<f64>,
+) -> std::io::Result<()> {
     writeln!(out)?;
     writeln!(
         out,
@@ -481,12 +581,18 @@ fn write_monte_carlo_text<W: Write>(out: &mut W, comparison: &Comparison) -> std
         )?;
     }
     for block in &comparison.monte_carlo {
-        write_steps_block(out, block)?;
+        write_steps_block(out, block, time_step)?;
     }
     Ok(())
 }
 
-fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::Result<()> {
+/// One block of per-step summaries; with a step size, a `time` column (the step in the input's
+/// time units) follows `step`, as in `switchyard steps`.
+fn write_steps_block<W: Write>(
+    out: &mut W,
+    block: &StepsOverRuns,
+    time_step: Option<f64>,
+) -> std::io::Result<()> {
     writeln!(out)?;
     writeln!(
         out,
@@ -498,8 +604,11 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
         plural(block.runs, "run", "runs")
     )?;
     let row = |s: &StepOverRuns| {
-        vec![
-            s.time.to_string(),
+        let mut cells = vec![s.time.to_string()];
+        if let Some(dt) = time_step {
+            cells.push(input_time(s.time, dt).to_string());
+        }
+        cells.extend([
             fixed(s.mean, 4),
             fixed(s.rms, 4),
             fixed(s.localization, 4),
@@ -507,10 +616,14 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
             fixed(s.false_, 4),
             fixed(s.missed_count, 3),
             fixed(s.false_count, 3),
-        ]
+        ]);
+        cells
     };
-    let header = [
-        "step",
+    let mut header = vec!["step"];
+    if time_step.is_some() {
+        header.push("time");
+    }
+    header.extend([
         "mean",
         "RMS",
         "localisation^p",
@@ -518,7 +631,7 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
         "false^p",
         "missed",
         "false",
-    ];
+    ]);
     // One row per step of the window, made as it is written: the rows of a run of empty steps
     // differ only in their time, whose widest text is at one end of the run.
     let steps = &block.steps;
@@ -540,6 +653,9 @@ fn write_steps_block<W: Write>(out: &mut W, block: &StepsOverRuns) -> std::io::R
                 let mut cells = row(&steps.empty_step(first));
                 for time in first..=last {
                     cells[0] = time.to_string();
+                    if let Some(dt) = time_step {
+                        cells[1] = input_time(time, dt).to_string();
+                    }
                     layout.write_row(out, &cells)?;
                 }
             }
@@ -580,11 +696,17 @@ fn csv_text(value: &str) -> String {
     }
 }
 
+/// True when the comparison computed OSPA(2).
+fn has_ospa2(comparison: &Comparison) -> bool {
+    comparison.cases.iter().any(|c| c.score.ospa2.is_some())
+}
+
 /// CSV: one row per (setting, tracker), best first within a setting.
 pub fn write_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
     writeln!(
         out,
-        "cutoff,order,switch_penalty,rank,tracker,cases,{SUMMARY_CSV},against,difference,lower,upper,verdict"
+        "cutoff,order,switch_penalty,rank,tracker,cases,{SUMMARY_CSV},against,difference,lower,upper,verdict{}",
+        ospa2_csv_header(has_ospa2(comparison))
     )?;
     for setting in &comparison.settings {
         let p = &setting.params;
@@ -601,14 +723,15 @@ pub fn write_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Res
             };
             writeln!(
                 out,
-                "{},{},{},{},{},{},{},{against},{difference},{lower},{upper},{verdict}",
+                "{},{},{},{},{},{},{},{against},{difference},{lower},{upper},{verdict}{}",
                 p.cutoff,
                 p.order,
                 p.switch_penalty,
                 t.rank,
                 csv_text(&t.tracker),
                 t.summary.cases,
-                summary_csv(&t.summary)
+                summary_csv(&t.summary),
+                ospa2_csv(t.summary.ospa2)
             )?;
         }
     }
@@ -619,7 +742,8 @@ pub fn write_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Res
 pub fn write_sequences_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
     writeln!(
         out,
-        "cutoff,order,switch_penalty,sequence,rank,tracker,runs,{SUMMARY_CSV}"
+        "cutoff,order,switch_penalty,sequence,rank,tracker,runs,{SUMMARY_CSV}{}",
+        ospa2_csv_header(has_ospa2(comparison))
     )?;
     for setting in &comparison.settings {
         let p = &setting.params;
@@ -627,7 +751,7 @@ pub fn write_sequences_csv<W: Write>(out: &mut W, comparison: &Comparison) -> st
             for t in &s.trackers {
                 writeln!(
                     out,
-                    "{},{},{},{},{},{},{},{}",
+                    "{},{},{},{},{},{},{},{}{}",
                     p.cutoff,
                     p.order,
                     p.switch_penalty,
@@ -635,7 +759,8 @@ pub fn write_sequences_csv<W: Write>(out: &mut W, comparison: &Comparison) -> st
                     t.rank,
                     csv_text(&t.tracker),
                     t.summary.cases,
-                    summary_csv(&t.summary)
+                    summary_csv(&t.summary),
+                    ospa2_csv(t.summary.ospa2)
                 )?;
             }
         }
@@ -643,17 +768,25 @@ pub fn write_sequences_csv<W: Write>(out: &mut W, comparison: &Comparison) -> st
     Ok(())
 }
 
-/// CSV: one row per (setting, tracker, sequence, run): the case's score and d^p per step.
+/// CSV: one row per (setting, tracker, sequence, run): the case's score and d^p per step; with
+/// classes, a `class` column after `run` (empty on the rows for all classes).
 pub fn write_cases_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+    let with_classes = comparison.cases.iter().any(|c| c.class.is_some());
     writeln!(
         out,
-        "cutoff,order,switch_penalty,tracker,sequence,run,metric,total,localisation,missed,false,switching,missed_count,false_count,switch_count,integral,steps,per_step"
+        "cutoff,order,switch_penalty,tracker,sequence,run,{}metric,total,localisation,missed,false,switching,missed_count,false_count,switch_count,integral,steps,per_step{}",
+        if with_classes { "class," } else { "" },
+        ospa2_csv_header(has_ospa2(comparison))
     )?;
     for c in &comparison.cases {
         let (p, s) = (&c.params, &c.score);
+        let class = match &c.class {
+            Some(class) => format!("{},", csv_text(class.name().unwrap_or(""))),
+            None => String::new(),
+        };
         writeln!(
             out,
-            "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}",
+            "{},{},{},{},{},{},{class}{},{},{},{},{},{},{},{},{},{},{},{}{}",
             p.cutoff,
             p.order,
             p.switch_penalty,
@@ -671,7 +804,8 @@ pub fn write_cases_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::i
             s.parts.switch_count,
             s.integral,
             s.steps,
-            c.per_step
+            c.per_step,
+            ospa2_csv(s.ospa2)
         )?;
     }
     Ok(())
@@ -679,9 +813,24 @@ pub fn write_cases_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::i
 
 /// CSV: one row per (cut-off and order, sequence, tracker, step) of the Monte Carlo summaries.
 pub fn write_steps_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::Result<()> {
+    write_steps_csv_timed(out, comparison, None)
+}
+
+/// [`write_steps_csv`], with an `input_time` column after `time` (the step in the input's time
+/// units, as in `switchyard steps`) when a step size is given.
+pub fn write_steps_csv_timed<W: Write>(
+    out: &mut W,
+    comparison: &Comparison,
+    time_step: Option<f64>,
+) -> std::io::Result<()> {
+    let timed = if time_step.is_some() {
+        ",input_time"
+    } else {
+        ""
+    };
     writeln!(
         out,
-        "cutoff,order,sequence,tracker,time,runs,mean,rms,localisation,missed,false,missed_count,false_count"
+        "cutoff,order,sequence,tracker,time{timed},runs,mean,rms,localisation,missed,false,missed_count,false_count"
     )?;
     for block in &comparison.monte_carlo {
         let before_time = format!(
@@ -715,6 +864,9 @@ pub fn write_steps_csv<W: Write>(out: &mut W, comparison: &Comparison) -> std::i
             for time in first..=last {
                 out.write_all(before_time.as_bytes())?;
                 write_step(out, time)?;
+                if let Some(dt) = time_step {
+                    write!(out, ",{}", input_time(time, dt))?;
+                }
                 out.write_all(rest.as_bytes())?;
             }
         }
@@ -757,6 +909,13 @@ struct SequenceDocument<'a> {
 }
 
 #[derive(Serialize)]
+struct ClassDocument<'a> {
+    class: &'a str,
+    cases: usize,
+    trackers: Vec<RowDocument<'a>>,
+}
+
+#[derive(Serialize)]
 struct SettingDocument<'a> {
     cutoff: f64,
     order: f64,
@@ -765,6 +924,8 @@ struct SettingDocument<'a> {
     trackers: Vec<RowDocument<'a>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     sequences: Option<Vec<SequenceDocument<'a>>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    classes: Option<Vec<ClassDocument<'a>>>,
 }
 
 #[derive(Serialize)]
@@ -775,9 +936,36 @@ struct CompareDocument<'a> {
     settings: Vec<SettingDocument<'a>>,
     ranking_stable: bool,
     #[serde(skip_serializing_if = "Option::is_none")]
-    monte_carlo: Option<&'a [StepsOverRuns]>,
+    monte_carlo: Option<Vec<MonteCarloDocument<'a>>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     cases: Option<&'a [CaseResult]>,
+}
+
+/// A block of per-step summaries over runs as JSON: [`StepsOverRuns`]'s keys, each step with
+/// `input_time` after `time` when a step size was given.
+#[derive(Serialize)]
+struct MonteCarloDocument<'a> {
+    cutoff: f64,
+    order: f64,
+    sequence: &'a str,
+    tracker: &'a str,
+    runs: usize,
+    steps: TimedSteps<'a>,
+}
+
+/// Every step of a block, made as it is written.
+struct TimedSteps<'a> {
+    steps: &'a OccupiedOverRuns,
+    time_step: Option<f64>,
+}
+
+impl Serialize for TimedSteps<'_> {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.collect_seq(self.steps.iter().map(|step| TimedStepOverRuns {
+            input_time: self.time_step.map(|dt| input_time(step.time, dt)),
+            step,
+        }))
+    }
 }
 
 fn rows(trackers: &[TrackerResult]) -> Vec<RowDocument<'_>> {
@@ -835,12 +1023,36 @@ pub fn write_json<W: Write>(
                         })
                         .collect()
                 }),
+                classes: (!s.classes.is_empty()).then(|| {
+                    s.classes
+                        .iter()
+                        .map(|k| ClassDocument {
+                            class: &k.class,
+                            cases: k.cases,
+                            trackers: rows(&k.trackers),
+                        })
+                        .collect()
+                }),
             })
             .collect(),
         ranking_stable: comparison.ranking_stable,
-        monte_carlo: sections
-            .monte_carlo
-            .then_some(comparison.monte_carlo.as_slice()),
+        monte_carlo: sections.monte_carlo.then(|| {
+            comparison
+                .monte_carlo
+                .iter()
+                .map(|block| MonteCarloDocument {
+                    cutoff: block.cutoff,
+                    order: block.order,
+                    sequence: &block.sequence,
+                    tracker: &block.tracker,
+                    runs: block.runs,
+                    steps: TimedSteps {
+                        steps: &block.steps,
+                        time_step: inputs.time_step,
+                    },
+                })
+                .collect()
+        }),
         cases: sections.per_case.then_some(comparison.cases.as_slice()),
     };
     serde_json::to_writer_pretty(&mut *out, &document)?;

@@ -628,22 +628,51 @@ fn output_does_not_depend_on_the_thread_count() {
         "--format",
         "json",
     ];
+    // The output of `args` with each number of threads.
+    let with_threads = |args: &[&str], counts: &[&str]| -> Vec<Vec<u8>> {
+        counts
+            .iter()
+            .map(|threads| {
+                let output = switchyard()
+                    .env("RAYON_NUM_THREADS", threads)
+                    .args(args)
+                    .output()
+                    .unwrap();
+                assert!(output.status.success());
+                output.stdout
+            })
+            .collect()
+    };
     let args = compare_args(&truth, &estimates, &rest);
-    let outputs: Vec<Vec<u8>> = ["1", "2", "3"]
-        .iter()
-        .map(|threads| {
-            let output = switchyard()
-                .env("RAYON_NUM_THREADS", threads)
-                .args(&args)
-                .output()
-                .unwrap();
-            assert!(output.status.success());
-            output.stdout
-        })
-        .collect();
+    let outputs = with_threads(&args, &["1", "2", "3"]);
     assert!(!outputs[0].is_empty());
     assert_eq!(outputs[0], outputs[1], "1 thread vs 2");
     assert_eq!(outputs[0], outputs[2], "1 thread vs 3");
+
+    // With classes (a class column whose label depends on the step, so tracks are cut too).
+    let classed = |path: &str| {
+        let text = std::fs::read_to_string(path).unwrap();
+        let mut lines = text.lines();
+        let header = lines.next().unwrap();
+        let time = header.split(',').position(|c| c == "time").unwrap();
+        let mut out = format!("{header},kind\n");
+        for line in lines {
+            let step: i64 = line.split(',').nth(time).unwrap().parse().unwrap();
+            let kind = if step % 3 == 0 { "b" } else { "a" };
+            writeln!(out, "{line},{kind}").unwrap();
+        }
+        std::fs::write(path, out).unwrap();
+    };
+    classed(&truth);
+    for estimate in &estimates {
+        classed(estimate.split_once('=').unwrap().1);
+    }
+    let mut rest = rest.to_vec();
+    rest.extend(["--class-column", "kind", "--per-case"]);
+    let args = compare_args(&truth, &estimates, &rest);
+    let outputs = with_threads(&args, &["1", "3"]);
+    assert!(String::from_utf8_lossy(&outputs[0]).contains("\"classes\""));
+    assert_eq!(outputs[0], outputs[1], "with classes, 1 thread vs 3");
 }
 
 #[test]
@@ -937,4 +966,777 @@ fn a_huge_metric_has_a_finite_rms() {
     );
     assert!((mean / 5e199 - 1.0).abs() < 1e-12, "{mean}");
     assert!((rms / 5e199 - 1.0).abs() < 1e-12, "{rms}");
+}
+
+/// With --time-step the Monte Carlo per-step summaries give each step's time in the input's
+/// units beside the step, as `switchyard steps` does: text column `time`, CSV column
+/// `input_time` and JSON key `input_time` after the step. The expected times are the ones the
+/// input file itself holds (0.3 and 0.6, read as steps 3 and 6 with DT = 0.1), and the empty
+/// steps between them read 0.4 and 0.5 (step x DT to DT's decimals, as `steps` gives them:
+/// checked against its CSV on the same files).
+#[test]
+fn monte_carlo_steps_carry_the_input_time() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = write(dir.path(), "t.csv", "time,id,x\n0.3,a,0\n0.6,a,0\n");
+    let estimate = write(
+        dir.path(),
+        "e.csv",
+        "run,time,id,x\n1,0.3,p,1\n2,0.3,p,0\n2,0.6,p,0\n",
+    );
+    let named = format!("T={estimate}");
+    let args = |format: &'static str| {
+        vec![
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &named,
+            "--state-columns",
+            "x",
+            "--cutoff",
+            "2",
+            "--monte-carlo",
+            "--time-step",
+            "0.1",
+            "--format",
+            format,
+        ]
+    };
+    let csv = String::from_utf8(run_ok(&args("csv"))).unwrap();
+    let mut lines = csv.lines();
+    assert_eq!(
+        lines.next().unwrap(),
+        "cutoff,order,sequence,tracker,time,input_time,runs,mean,rms,localisation,missed,false,missed_count,false_count"
+    );
+    let cells: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).collect();
+    let steps: Vec<&str> = cells.iter().map(|c| c[4]).collect();
+    let times: Vec<&str> = cells.iter().map(|c| c[5]).collect();
+    assert_eq!(steps, ["3", "4", "5", "6"]);
+    assert_eq!(times, ["0.3", "0.4", "0.5", "0.6"]);
+    // The same times as `switchyard steps` writes for run 2 on its own.
+    let run2 = write(dir.path(), "r2.csv", "time,id,x\n0.3,p,0\n0.6,p,0\n");
+    let steps_csv = String::from_utf8(run_ok(&[
+        "steps",
+        "--truth",
+        &truth,
+        "--estimate",
+        &run2,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--time-step",
+        "0.1",
+        "--format",
+        "csv",
+    ]))
+    .unwrap();
+    let steps_times: Vec<&str> = steps_csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').nth(1).unwrap())
+        .collect();
+    assert_eq!(steps_times, times);
+    // Step 3: GOSPA 1 (run 1, off by 1) and 0 (run 2): mean 1/2, the values unchanged by the
+    // extra column.
+    assert!((cells[0][7].parse::<f64>().unwrap() - 0.5).abs() < 1e-12);
+
+    let doc: Value = serde_json::from_slice(&run_ok(&args("json"))).unwrap();
+    assert_eq!(doc["inputs"]["time_step"], 0.1);
+    let entries = doc["monte_carlo"][0]["steps"].as_array().unwrap();
+    let json_times: Vec<f64> = entries
+        .iter()
+        .map(|e| e["input_time"].as_f64().unwrap())
+        .collect();
+    assert_eq!(json_times, [0.3, 0.4, 0.5, 0.6]);
+    // input_time follows time, as in `steps`.
+    let text = String::from_utf8(run_ok(&args("json"))).unwrap();
+    assert!(
+        text.contains("\"time\": 4,\n          \"input_time\": 0.4,"),
+        "{text}"
+    );
+    close(&entries[0]["mean"], 0.5);
+
+    let text = String::from_utf8(run_ok(&args("text"))).unwrap();
+    let at = text.find("Per-step GOSPA over runs").unwrap();
+    let mut table = text[at..].lines().skip(1);
+    let header: Vec<&str> = table.next().unwrap().split_whitespace().collect();
+    assert_eq!(&header[..3], ["step", "time", "mean"]);
+    let rows: Vec<Vec<&str>> = table.map(|l| l.split_whitespace().collect()).collect();
+    let text_times: Vec<&str> = rows.iter().map(|r| r[1]).collect();
+    assert_eq!(text_times, ["0.3", "0.4", "0.5", "0.6"]);
+
+    // Without --time-step (integer steps in the files) the column is absent.
+    let truth = write(dir.path(), "ti.csv", "time,id,x\n3,a,0\n6,a,0\n");
+    let estimate = write(
+        dir.path(),
+        "ei.csv",
+        "run,time,id,x\n1,3,p,1\n2,3,p,0\n2,6,p,0\n",
+    );
+    let csv = String::from_utf8(run_ok(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &format!("T={estimate}"),
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--monte-carlo",
+        "--format",
+        "csv",
+    ]))
+    .unwrap();
+    assert!(
+        csv.starts_with("cutoff,order,sequence,tracker,time,runs,"),
+        "{csv}"
+    );
+}
+
+/// The per-step RMS over runs of a huge but finite GOSPA is finite: with c = 1e200 and p = 1 a
+/// missed object costs GOSPA (c^p / 2)^(1/p) = 5e199 (alpha = 2, GOSPA definition). Run 1
+/// misses the truth at step 2, run 2 follows it: the values 5e199 and 0 have mean 2.5e199 and
+/// RMS 5e199 / sqrt(2) (definitions of mean and RMS), where squaring 5e199 overflows a double
+/// (IEEE 754: above about 1.34e154).
+#[test]
+fn a_huge_per_step_gospa_has_a_finite_rms_over_runs() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = write(dir.path(), "t.csv", "time,id,x\n1,a,0\n2,a,0\n");
+    let estimate = write(
+        dir.path(),
+        "e.csv",
+        "run,time,id,x\n1,1,p,0\n2,1,p,0\n2,2,p,0\n",
+    );
+    let doc = json(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &format!("A={estimate}"),
+        "--state-columns",
+        "x",
+        "-c",
+        "1e200",
+        "--monte-carlo",
+        "-f",
+        "json",
+    ]);
+    let step = &doc["monte_carlo"][0]["steps"][1];
+    assert_eq!(step["time"], 2);
+    let (mean, rms) = (
+        step["mean"].as_f64().unwrap(),
+        step["rms"].as_f64().unwrap(),
+    );
+    assert!((mean / 2.5e199 - 1.0).abs() < 1e-12, "{mean}");
+    assert!((rms / (5e199 / 2f64.sqrt()) - 1.0).abs() < 1e-12, "{rms}");
+}
+
+/// The rows of one sequence of a file whose first column is the sequence, as a file without
+/// that column (header included).
+fn sequence_rows(path: &str, sequence: &str) -> String {
+    let text = std::fs::read_to_string(path).unwrap();
+    let mut lines = text.lines();
+    let header = lines.next().unwrap();
+    let mut out = format!("{}\n", header.split_once(',').unwrap().1);
+    for line in lines {
+        if let Some(rest) = line.strip_prefix(&format!("{sequence},")) {
+            writeln!(out, "{rest}").unwrap();
+        }
+    }
+    out
+}
+
+/// The scene of the class checks, c = 2 (a missed or false object-step costs c^p / 2), with a
+/// class column `kind`.
+///
+/// Sequence s1: a car at x = 0 and a pedestrian at x = 10, steps 0 and 1. Tracker A follows the
+/// car at x = 0.5 (localisation 0.5 a step) and the pedestrian exactly. Tracker B reports a
+/// track at the car's place but labelled pedestrian: within classes the car is missed at both
+/// steps, and in the pedestrian class that track is 10 from the pedestrian, beyond c, so the
+/// pedestrian is missed and the track false at both steps.
+/// Sequence s2: a car at x = 0 at step 0 only (no pedestrian in any file): A reports x = 1, B
+/// x = 0.5.
+fn class_scene(dir: &Path) -> (String, String, String) {
+    let truth = write(
+        dir,
+        "truth.csv",
+        "sequence,time,id,x,kind\ns1,0,a,0,car\ns1,1,a,0,car\ns1,0,b,10,ped\ns1,1,b,10,ped\n\
+         s2,0,a,0,car\n",
+    );
+    let a = write(
+        dir,
+        "a.csv",
+        "sequence,time,id,x,kind\ns1,0,p,0.5,car\ns1,1,p,0.5,car\ns1,0,q,10,ped\ns1,1,q,10,ped\n\
+         s2,0,p,1,car\n",
+    );
+    let b = write(
+        dir,
+        "b.csv",
+        "sequence,time,id,x,kind\ns1,0,r,0,ped\ns1,1,r,0,ped\ns2,0,r,0.5,car\n",
+    );
+    (truth, a, b)
+}
+
+/// With --class-column the trackers are ranked by the total over the classes,
+/// d = (sum of each class's d^p)^(1/p) (`specs/classes.md`: trajectory GOSPA with an infinite
+/// distance between classes adds up over classes in d^p), and each class is ranked over the
+/// cases where it occurs. Hand values from the GOSPA costs (`class_scene`), and each case's
+/// total checked against `switchyard score --class-column` on that case alone.
+#[test]
+fn classes_rank_by_the_total_and_within_each_class() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, a, b) = class_scene(dir.path());
+    let (named_a, named_b) = (format!("A={a}"), format!("B={b}"));
+    let args = [
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &named_a,
+        "--estimate",
+        &named_b,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--order",
+        "1,2",
+        "--class-column",
+        "kind",
+        "--per-case",
+        "--format",
+        "json",
+    ];
+    let doc = json(&args);
+    assert_eq!(doc["inputs"]["classes"], serde_json::json!(["car", "ped"]));
+    // p = 1. A: car d 0.5 + 0.5 = 1 in s1 and 1 in s2, pedestrian 0: totals 1 and 1, mean 1.
+    // B: s1 car 2 missed steps (2), pedestrian 2 missed and 2 false (4): total 6; s2 car 0.5:
+    // total 0.5; mean (6 + 0.5) / 2 = 3.25.
+    let p1 = &doc["settings"][0];
+    assert_eq!(p1["ranking"], "A < B");
+    close(&p1["trackers"][0]["metric_mean"], 1.0);
+    close(&p1["trackers"][1]["metric_mean"], 3.25);
+    // The bootstrap on the total: differences B - A per sequence 6 - 1 = 5 and 0.5 - 1 = -0.5.
+    close(&p1["trackers"][1]["difference"]["mean"], 2.25);
+    // Per class: car over both sequences, A (1 + 1) / 2 = 1, B (2 + 0.5) / 2 = 1.25; the
+    // pedestrian class occurs in s1 only: A 0, B 4 over one case.
+    let classes = p1["classes"].as_array().unwrap();
+    assert_eq!(classes.len(), 2);
+    assert_eq!(
+        (&classes[0]["class"], &classes[0]["cases"]),
+        (&"car".into(), &2.into())
+    );
+    close(&classes[0]["trackers"][0]["metric_mean"], 1.0);
+    close(&classes[0]["trackers"][1]["metric_mean"], 1.25);
+    assert_eq!(classes[0]["trackers"][1]["tracker"], "B");
+    assert_eq!(
+        (&classes[1]["class"], &classes[1]["cases"]),
+        (&"ped".into(), &1.into())
+    );
+    close(&classes[1]["trackers"][0]["metric_mean"], 0.0);
+    close(&classes[1]["trackers"][1]["metric_mean"], 4.0);
+    close(&classes[1]["trackers"][1]["missed_count"], 2.0);
+    // p = 2: a missed or false step costs c^2 / 2 = 2. B on s1: car 2 x 2 = 4, pedestrian 4 x 2
+    // = 8, d = sqrt(12); on s2 car 0.5^2 = 0.25, d = 0.5. A on s1: car 2 x 0.25 = 0.5, d =
+    // sqrt(0.5); on s2 d = 1.
+    let p2 = &doc["settings"][1];
+    let b2 = p2["trackers"].as_array().unwrap();
+    let b2 = b2.iter().find(|t| t["tracker"] == "B").unwrap();
+    close(&b2["metric_mean"], (12f64.sqrt() + 0.5) / 2.0);
+    close(&b2["total_mean"], (12.0 + 0.25) / 2.0);
+    let a2 = &p2["trackers"][0];
+    close(&a2["metric_mean"], (0.5f64.sqrt() + 1.0) / 2.0);
+
+    // Rows: per setting, tracker and case, one row per class occurring in the case, then one
+    // for all classes (class null). s2 has no pedestrian row.
+    let rows = doc["cases"].as_array().unwrap();
+    let p1_a: Vec<(&str, Value)> = rows
+        .iter()
+        .filter(|r| r["order"] == 1.0 && r["tracker"] == "A")
+        .map(|r| (r["sequence"].as_str().unwrap(), r["class"].clone()))
+        .collect();
+    assert_eq!(
+        p1_a,
+        [
+            ("s1", "car".into()),
+            ("s1", "ped".into()),
+            ("s1", Value::Null),
+            ("s2", "car".into()),
+            ("s2", Value::Null)
+        ]
+    );
+    // Each case's rows against `switchyard score --class-column` on that case's rows alone.
+    let cases = [
+        (
+            "s1",
+            "time,id,x,kind\n0,a,0,car\n1,a,0,car\n0,b,10,ped\n1,b,10,ped\n",
+            "time,id,x,kind\n0,r,0,ped\n1,r,0,ped\n",
+        ),
+        (
+            "s2",
+            "time,id,x,kind\n0,a,0,car\n",
+            "time,id,x,kind\n0,r,0.5,car\n",
+        ),
+    ];
+    for order in ["1", "2"] {
+        for (sequence, truth_rows, b_rows) in cases {
+            let t = write(dir.path(), "case-truth.csv", truth_rows);
+            let e = write(dir.path(), "case-b.csv", b_rows);
+            let score = json(&[
+                "score",
+                "--truth",
+                &t,
+                "--estimate",
+                &e,
+                "--state-columns",
+                "x",
+                "--cutoff",
+                "2",
+                "--order",
+                order,
+                "--class-column",
+                "kind",
+                "--format",
+                "json",
+            ]);
+            let p: f64 = order.parse().unwrap();
+            let mine: Vec<&Value> = rows
+                .iter()
+                .filter(|r| r["order"] == p && r["tracker"] == "B" && r["sequence"] == sequence)
+                .collect();
+            let all = mine.iter().find(|r| r["class"].is_null()).unwrap();
+            close(&all["metric"], score["metric"].as_f64().unwrap());
+            close(&all["total"], score["total"].as_f64().unwrap());
+            close(
+                &all["missed_count"],
+                score["missed_count"].as_f64().unwrap(),
+            );
+            for row in mine.iter().filter(|r| !r["class"].is_null()) {
+                let class = row["class"].as_str().unwrap();
+                close(
+                    &row["metric"],
+                    score["classes"][class]["metric"].as_f64().unwrap(),
+                );
+            }
+        }
+    }
+
+    // CSV: the class column after run, empty on the rows for all classes.
+    let mut csv_args = args.to_vec();
+    let at = csv_args.iter().position(|&a| a == "1,2").unwrap();
+    csv_args[at] = "1";
+    *csv_args.last_mut().unwrap() = "csv";
+    let csv = String::from_utf8(run_ok(&csv_args)).unwrap();
+    let lines: Vec<&str> = csv.lines().collect();
+    assert!(lines[0].starts_with("cutoff,order,switch_penalty,tracker,sequence,run,class,metric,"));
+    assert!(lines[3].starts_with("2,1,2,A,s1,,,1,1,"), "{csv}");
+    assert!(lines[7].starts_with("2,1,2,B,s1,,ped,4,4,"), "{csv}");
+    assert_eq!(lines.len(), 11);
+}
+
+/// With classes, the Monte Carlo per-step values are those of all classes together: each step's
+/// GOSPA^p is the sum over the classes (alpha = 2, `specs/classes.md`), so with one run the
+/// per-step mean is `switchyard steps --class-column`'s value for all classes. s1 of
+/// `class_scene`, tracker B: car missed (1) plus pedestrian missed and false (1 + 1) = 3 at p = 1.
+#[test]
+fn classes_monte_carlo_steps_equal_the_steps_of_all_classes() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, _, b) = class_scene(dir.path());
+    let doc = json(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &format!("B={b}"),
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--class-column",
+        "kind",
+        "--monte-carlo",
+        "--format",
+        "json",
+    ]);
+    let block = &doc["monte_carlo"][0];
+    assert_eq!(block["sequence"], "s1");
+    let t = write(
+        dir.path(),
+        "s1.csv",
+        "time,id,x,kind\n0,a,0,car\n1,a,0,car\n0,b,10,ped\n1,b,10,ped\n",
+    );
+    let e = write(
+        dir.path(),
+        "s1b.csv",
+        "time,id,x,kind\n0,r,0,ped\n1,r,0,ped\n",
+    );
+    let steps = String::from_utf8(run_ok(&[
+        "steps",
+        "--truth",
+        &t,
+        "--estimate",
+        &e,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--class-column",
+        "kind",
+        "--format",
+        "csv",
+    ]))
+    .unwrap();
+    let all: Vec<f64> = steps
+        .lines()
+        .filter(|l| l.starts_with(','))
+        .map(|l| l.split(',').nth(2).unwrap().parse().unwrap())
+        .collect();
+    assert_eq!(all.len(), 2);
+    for (k, expected) in all.iter().enumerate() {
+        close(&block["steps"][k]["mean"], *expected);
+        close(&block["steps"][k]["mean"], 3.0);
+    }
+}
+
+/// The same classed data given by group columns or by a manifest gives the same bytes.
+#[test]
+fn classes_read_by_manifest_and_by_group_columns_agree() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, a, b) = class_scene(dir.path());
+    let split = |file: &str, sequence: &str| sequence_rows(file, sequence);
+    let mut manifest = String::from("tracker,sequence,truth,estimate\n");
+    for sequence in ["s1", "s2"] {
+        let t = write(
+            dir.path(),
+            &format!("t-{sequence}.csv"),
+            &split(&truth, sequence),
+        );
+        for (name, file) in [("A", &a), ("B", &b)] {
+            let e = write(
+                dir.path(),
+                &format!("{name}-{sequence}.csv"),
+                &split(file, sequence),
+            );
+            writeln!(manifest, "{name},{sequence},{t},{e}").unwrap();
+        }
+    }
+    let manifest = write(dir.path(), "m.csv", &manifest);
+    let common = [
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--class-column",
+        "kind",
+        "--per-case",
+        "--format",
+        "csv",
+    ];
+    let mut by_columns = vec!["compare", "--truth", &truth];
+    let (named_a, named_b) = (format!("A={a}"), format!("B={b}"));
+    by_columns.extend(["--estimate", &named_a, "--estimate", &named_b]);
+    by_columns.extend(common);
+    let mut by_manifest = vec!["compare", "--manifest", &manifest];
+    by_manifest.extend(common);
+    let from_columns = run_ok(&by_columns);
+    assert_eq!(from_columns, run_ok(&by_manifest));
+    assert!(String::from_utf8(from_columns)
+        .unwrap()
+        .contains(",B,s1,,ped,4,4,"));
+}
+
+/// `compare --ospa2`: each case's OSPA(2) (M. Beard, B.-T. Vo, B.-N. Vo, "A solution for
+/// large-scale multi-object tracking", IEEE Trans. Signal Processing 68, 2020) is the one
+/// `switchyard score --ospa2` gives on that case at the setting's cut-off and order, and each
+/// tracker's summary holds the mean of those over the cases. Checked at four settings of a sweep,
+/// on `hand_scene`, plus hand values at c = 2, p = 1: A on s1 follows the truth at 0.5 (mean
+/// distance 0.5, one truth, one track: OSPA(2) 0.5), on s2 at 1 (1); B reports nothing on s1
+/// (one truth unpaired: c = 2) and x = 5, beyond c, on s2 (2). Means: A 0.75, B 2.
+#[test]
+fn ospa2_per_case_equals_score_and_the_summary_is_its_mean() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, a, b) = hand_scene(dir.path());
+    let (named_a, named_b) = (format!("A={a}"), format!("B={b}"));
+    let doc = json(&[
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &named_a,
+        "--estimate",
+        &named_b,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2,3",
+        "--order",
+        "1,2",
+        "--ospa2",
+        "--per-case",
+        "--format",
+        "json",
+    ]);
+    let first = &doc["settings"][0];
+    assert_eq!(
+        (first["cutoff"].as_f64(), first["order"].as_f64()),
+        (Some(2.0), Some(1.0))
+    );
+    close(&first["trackers"][0]["ospa2"]["value"], 0.75);
+    close(&first["trackers"][1]["ospa2"]["value"], 2.0);
+    close(&first["trackers"][1]["ospa2"]["unpaired_power"], 2.0);
+    close(&first["trackers"][0]["ospa2"]["paired_power"], 0.75);
+    // The ranking stays by d (A 1 < B 2 here).
+    assert_eq!(first["ranking"], "A < B");
+    let rows = doc["cases"].as_array().unwrap();
+    assert_eq!(rows.len(), 4 * 2 * 2);
+    for setting in doc["settings"].as_array().unwrap() {
+        let (c, p) = (
+            setting["cutoff"].as_f64().unwrap(),
+            setting["order"].as_f64().unwrap(),
+        );
+        for tracker in setting["trackers"].as_array().unwrap() {
+            let name = tracker["tracker"].as_str().unwrap();
+            let file = if name == "A" { &a } else { &b };
+            let mine: Vec<&Value> = rows
+                .iter()
+                .filter(|r| r["cutoff"] == c && r["order"] == p && r["tracker"] == name)
+                .collect();
+            assert_eq!(mine.len(), 2);
+            let mut sums = [0.0; 3];
+            for row in &mine {
+                let sequence = row["sequence"].as_str().unwrap();
+                let one =
+                    |path: &str, out: &str| write(dir.path(), out, &sequence_rows(path, sequence));
+                let (t, e) = (one(&truth, "one-truth.csv"), one(file, "one-estimate.csv"));
+                let score = json(&[
+                    "score",
+                    "--truth",
+                    &t,
+                    "--estimate",
+                    &e,
+                    "--state-columns",
+                    "x",
+                    "--cutoff",
+                    &c.to_string(),
+                    "--order",
+                    &p.to_string(),
+                    "--ospa2",
+                    "--format",
+                    "json",
+                ]);
+                for (k, key) in ["value", "paired_power", "unpaired_power"]
+                    .iter()
+                    .enumerate()
+                {
+                    let expected = score["ospa2"][key].as_f64().unwrap();
+                    close(&row["ospa2"][key], expected);
+                    sums[k] += expected;
+                }
+            }
+            for (k, key) in ["value", "paired_power", "unpaired_power"]
+                .iter()
+                .enumerate()
+            {
+                close(&tracker["ospa2"][key], sums[k] / 2.0);
+            }
+        }
+    }
+    // Refused with classes: OSPA(2) does not add up over classes.
+    let output = switchyard()
+        .args([
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &named_a,
+            "--state-columns",
+            "x",
+            "--cutoff",
+            "2",
+            "--ospa2",
+            "--class-column",
+            "x",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&output.stderr).contains("OSPA(2) is normalised"));
+}
+
+/// With --ospa2 the CSV tables end with the columns ospa2, ospa2_paired_power and
+/// ospa2_unpaired_power and the text tables with OSPA(2); the values are those of the JSON
+/// (`hand_scene`, c = 2: A's mean 0.75, B's 2, as derived above).
+#[test]
+fn ospa2_columns_in_csv_and_text() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, a, b) = hand_scene(dir.path());
+    let (named_a, named_b) = (format!("A={a}"), format!("B={b}"));
+    let run = |extra: &[&str]| {
+        let mut args = vec![
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &named_a,
+            "--estimate",
+            &named_b,
+            "--state-columns",
+            "x",
+            "--cutoff",
+            "2",
+            "--ospa2",
+        ];
+        args.extend(extra);
+        String::from_utf8(run_ok(&args)).unwrap()
+    };
+    let csv = run(&["--format", "csv"]);
+    let lines: Vec<&str> = csv.lines().collect();
+    assert!(lines[0].ends_with(",verdict,ospa2,ospa2_paired_power,ospa2_unpaired_power"));
+    assert!(lines[1].ends_with(",0.75,0.75,0"), "{csv}");
+    assert!(lines[2].ends_with(",2,0,2"), "{csv}");
+    let cases = run(&["--format", "csv", "--per-case"]);
+    assert!(cases
+        .lines()
+        .next()
+        .unwrap()
+        .ends_with(",per_step,ospa2,ospa2_paired_power,ospa2_unpaired_power"));
+    // A on s1: 0.5, all of it paired.
+    assert!(
+        cases.lines().nth(1).unwrap().ends_with(",0.5,0.5,0"),
+        "{cases}"
+    );
+    let text = run(&[]);
+    let header = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("rank"))
+        .unwrap();
+    assert!(header.ends_with("OSPA(2)"), "{header}");
+    let a_row = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("1 "))
+        .unwrap();
+    assert!(a_row.ends_with("0.7500"), "{a_row}");
+}
+
+/// Bad class input names the file, the line and the column, exits 1 and never panics: an empty
+/// class, a file without the class column, a class column that is also the sequence column, and
+/// a manifest whose files have no row (no class at all).
+#[test]
+fn bad_class_input_names_file_line_and_column() {
+    let dir = tempfile::tempdir().unwrap();
+    let (truth, _, _) = class_scene(dir.path());
+    let fails = |args: &[&str]| -> String {
+        let output = switchyard().args(args).output().unwrap();
+        assert_eq!(output.status.code(), Some(1), "{args:?}");
+        String::from_utf8(output.stderr).unwrap()
+    };
+    let compare = |estimate: &str, column: &str| -> String {
+        let named = format!("B={estimate}");
+        fails(&[
+            "compare",
+            "--truth",
+            &truth,
+            "--estimate",
+            &named,
+            "--state-columns",
+            "x",
+            "--cutoff",
+            "2",
+            "--class-column",
+            column,
+        ])
+    };
+    let empty = write(
+        dir.path(),
+        "empty-class.csv",
+        "sequence,time,id,x,kind\ns1,0,r,0,ped\ns1,1,r,0,\n",
+    );
+    let message = compare(&empty, "kind");
+    assert!(
+        message.contains("empty-class.csv, line 3, column 5 (\"kind\"): the class is empty"),
+        "{message}"
+    );
+    let without = write(dir.path(), "no-class.csv", "sequence,time,id,x\ns1,0,r,0\n");
+    let message = compare(&without, "kind");
+    assert!(
+        message.contains("no-class.csv, line 1: the header has no class column \"kind\""),
+        "{message}"
+    );
+    let message = compare(&without, "sequence");
+    assert!(
+        message.contains("also a sequence or run column"),
+        "{message}"
+    );
+    let header_only = write(dir.path(), "h.csv", "time,id,x,kind\n");
+    let manifest = write(
+        dir.path(),
+        "m.csv",
+        &format!("tracker,sequence,truth,estimate\nA,s,{header_only},{header_only}\n"),
+    );
+    let message = fails(&[
+        "compare",
+        "--manifest",
+        &manifest,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--class-column",
+        "kind",
+    ]);
+    assert!(
+        message.contains("m.csv: no file the manifest lists has a row"),
+        "{message}"
+    );
+}
+
+/// A track whose label flips is cut into one piece per class (`specs/classes.md`): a car truth
+/// at x = 0 at steps 0 and 1, a track on it labelled car at step 0 and pedestrian at step 1.
+/// At c = 2, p = 1 the car piece matches at step 0 (0), the car is missed at step 1 (c/2 = 1)
+/// and the pedestrian piece is false there (1): d = 2, where without classes it is 0. The
+/// command notes the cut track on standard error.
+#[test]
+fn a_track_whose_label_flips_is_cut_by_class() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = write(
+        dir.path(),
+        "t.csv",
+        "time,id,x,kind\n0,a,0,car\n1,a,0,car\n",
+    );
+    let estimate = write(
+        dir.path(),
+        "e.csv",
+        "time,id,x,kind\n0,r,0,car\n1,r,0,ped\n",
+    );
+    let named = format!("A={estimate}");
+    let args = [
+        "compare",
+        "--truth",
+        &truth,
+        "--estimate",
+        &named,
+        "--state-columns",
+        "x",
+        "--cutoff",
+        "2",
+        "--format",
+        "json",
+    ];
+    let plain = json(&args);
+    close(&plain["settings"][0]["trackers"][0]["metric_mean"], 0.0);
+    let mut classed = args.to_vec();
+    classed.extend(["--class-column", "kind"]);
+    let output = switchyard().args(&classed).output().unwrap();
+    assert!(output.status.success());
+    let doc: Value = serde_json::from_slice(&output.stdout).unwrap();
+    let a = &doc["settings"][0]["trackers"][0];
+    close(&a["metric_mean"], 2.0);
+    close(&a["missed_count"], 1.0);
+    close(&a["false_count"], 1.0);
+    let note = String::from_utf8(output.stderr).unwrap();
+    assert!(
+        note.contains("e.csv: 1 trajectory carries more than one class"),
+        "{note}"
+    );
 }

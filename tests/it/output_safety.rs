@@ -381,6 +381,48 @@ fn dev_stdout_is_written_in_place() {
     assert_eq!(through_the_option, plain);
 }
 
+/// `-` as an output name is standard output (common practice for command-line tools): the
+/// bytes are those of the plain command, and no file named `-` appears.
+#[test]
+fn a_dash_is_standard_output_and_makes_no_file() {
+    let (dir, truth, estimate) = folder_with_inputs();
+    let plain = stdout_of(&metric_args("steps", &truth, &estimate, &[]));
+    let output = Command::cargo_bin("switchyard")
+        .unwrap()
+        .current_dir(dir.path())
+        .args(metric_args("steps", &truth, &estimate, &args!["-o", "-"]))
+        .output()
+        .unwrap();
+    assert!(output.status.success());
+    assert_eq!(output.stdout, plain);
+    assert!(!dir.path().join("-").exists(), "no file named -");
+    // synth: the truth to standard output, the estimate to a file.
+    let estimate_out = dir.path().join("made.csv");
+    let output = Command::cargo_bin("switchyard")
+        .unwrap()
+        .current_dir(dir.path())
+        .args(args![
+            "synth",
+            "--steps",
+            "5",
+            "--truth-out",
+            "-",
+            "--estimate-out",
+            estimate_out
+        ])
+        .output()
+        .unwrap();
+    assert!(output.status.success());
+    assert!(String::from_utf8(output.stdout)
+        .unwrap()
+        .starts_with("time,id,x,y\n"));
+    assert!(estimate_out.exists());
+    assert!(!dir.path().join("-").exists(), "no file named -");
+    // Both to standard output would interleave two tables: refused.
+    let both = switchyard(&args!["synth", "--truth-out", "-", "--estimate-out", "-"]);
+    assert_refused(&both, "name the same file");
+}
+
 /// Waits up to `limit` for `condition`, checking every 20 ms.
 fn wait_for(limit: Duration, mut condition: impl FnMut() -> bool) -> bool {
     let start = Instant::now();

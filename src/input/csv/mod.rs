@@ -209,7 +209,7 @@ fn read_rows<R: Read>(
         Some(name) => Some(class_position(&rows, layout, source, name)?),
         None => None,
     };
-    let mut class_names: IndexMap<String, (), rustc_hash::FxBuildHasher> = IndexMap::default();
+    let mut class_names = ClassNames::default();
     let mut objects = ObjectMap::default();
     let mut last_id: Option<usize> = None;
     while rows.advance()? {
@@ -226,25 +226,14 @@ fn read_rows<R: Read>(
             },
         };
         last_id = Some(index);
-        if let Some(position) = class_position {
-            let class = rows.class(position)?;
-            let class = match class_names.get_index_of(class) {
-                Some(class) => class,
-                None => class_names.insert_full(class.to_string(), ()).0,
-            };
-            let class = u32::try_from(class).map_err(|_| {
-                Error::input(rows.at(position), "more than 2^32 classes in one file")
-            })?;
-            // Pushed after the point so that a point refused leaves no class behind.
-            rows.push_point(step, &mut objects[index])?;
-            objects[index].classes.push(class);
-        } else {
-            rows.push_point(step, &mut objects[index])?;
+        match class_position {
+            Some(position) => class_names.push_point(&rows, position, step, &mut objects[index])?,
+            None => rows.push_point(step, &mut objects[index])?,
         }
     }
     let (set, point_classes) = rows.finish_set_with_classes(objects)?;
     let classes = class_position
-        .map(|_| PointClasses::new(class_names.into_keys().collect(), point_classes))
+        .map(|_| PointClasses::new(class_names.into_names(), point_classes))
         .transpose()?;
     let file = TrajectoryFile {
         source: source.to_string(),
@@ -254,12 +243,50 @@ fn read_rows<R: Read>(
     Ok((file, classes))
 }
 
+/// The class names met while reading a file, in order of first appearance.
+#[derive(Default)]
+pub(crate) struct ClassNames {
+    names: IndexMap<String, (), rustc_hash::FxBuildHasher>,
+}
+
+impl ClassNames {
+    /// Pushes the current row's point to `points` with its class, read from the field at
+    /// `position`.
+    ///
+    /// # Errors
+    /// As [`Rows::push_point`] and [`Rows::class`]; more than 2^32 classes.
+    pub(crate) fn push_point<R: Read>(
+        &mut self,
+        rows: &Rows<R>,
+        position: usize,
+        step: Step,
+        points: &mut ObjectPoints,
+    ) -> Result<()> {
+        let class = rows.class(position)?;
+        let class = match self.names.get_index_of(class) {
+            Some(class) => class,
+            None => self.names.insert_full(class.to_string(), ()).0,
+        };
+        let class = u32::try_from(class)
+            .map_err(|_| Error::input(rows.at(position), "more than 2^32 classes in one file"))?;
+        // Pushed after the point so that a point refused leaves no class behind.
+        rows.push_point(step, points)?;
+        points.classes.push(class);
+        Ok(())
+    }
+
+    /// The names, in order of first appearance.
+    pub(crate) fn into_names(self) -> Vec<String> {
+        self.names.into_keys().collect()
+    }
+}
+
 /// Where the class column is in the header.
 ///
 /// # Errors
 /// A class column that is also the time, the id or a state column, that the header lacks, or
 /// that it names twice.
-fn class_position<R: Read>(
+pub(crate) fn class_position<R: Read>(
     rows: &Rows<R>,
     layout: &CsvLayout,
     source: &str,

@@ -298,14 +298,9 @@ impl<'a, R: Read> Rows<'a, R> {
         Ok(class)
     }
 
-    /// Turns the objects read into a set; two rows of one object at one step are an error
-    /// naming the second row's line and the time column.
-    pub(crate) fn finish_set(&self, objects: ObjectMap) -> Result<TrajectorySet> {
-        Ok(self.finish_set_with_classes(objects)?.0)
-    }
-
-    /// [`Rows::finish_set`], with the class of each point of each trajectory in step order
-    /// (empty lists when no classes were read).
+    /// Turns the objects read into a set, with the class of each point of each trajectory in
+    /// step order (empty lists when no classes were read); two rows of one object at one step
+    /// are an error naming the second row's line and the time column.
     pub(crate) fn finish_set_with_classes(
         &self,
         objects: ObjectMap,
