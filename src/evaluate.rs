@@ -9,9 +9,9 @@ use crate::assignment::audit::{audit, Audit};
 use crate::assignment::switches::{jump_events, switch_events, JumpEvent, SwitchEvent};
 use crate::distance::Distance;
 use crate::error::{Error, Result};
-use crate::ospa2::{Ospa2, Ospa2Params, Ospa2Score};
+use crate::ospa2::{Ospa2, Ospa2Params, Ospa2Score, Ospa2Window};
 use crate::per_step::{occupied_steps, GospaParams, OccupiedSteps};
-use crate::trajectory::{Step, TrajectorySet};
+use crate::trajectory::TrajectorySet;
 use crate::trajectory_metric::{
     score_with_progress, Progress, SolveOptions, TrajectoryParams, TrajectoryScore,
 };
@@ -90,8 +90,9 @@ pub struct Evaluation {
     pub audit: Option<Audit>,
     /// OSPA(2) over the whole window, with its pairs.
     pub ospa2: Option<Ospa2Score>,
-    /// OSPA(2) over the sliding window ending at each step whose window holds a state.
-    pub ospa2_sliding: Option<Vec<(Step, f64)>>,
+    /// OSPA(2) over the sliding window ending at each step whose window holds a state, in time
+    /// order ([`Ospa2::sliding_windows`]).
+    pub ospa2_sliding: Option<Vec<Ospa2Window>>,
 }
 
 /// Evaluates each of `estimates` against `truth` with the base distance `distance`, computing
@@ -215,8 +216,7 @@ fn evaluate_one(
         let metric = Ospa2::new(truth, estimate, params, distance)?;
         ospa2 = Some(metric.whole());
         if let Some(width) = request.ospa2_window {
-            let values = metric.sliding(width);
-            ospa2_sliding = Some(values.into_iter().map(|(k, s)| (k, s.value)).collect());
+            ospa2_sliding = Some(metric.sliding_windows(width));
         }
     }
     Ok(Evaluation {

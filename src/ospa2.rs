@@ -84,6 +84,45 @@ pub struct Ospa2Score {
     pub pairs: Vec<Ospa2Pair>,
 }
 
+/// OSPA(2) of the sliding windows ending at each step of `first_end..=last_end`, which all
+/// hold the same states (no step with a state enters or leaves them), so they score the same;
+/// without the pairs: what a per-step series keeps.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct Ospa2Window {
+    /// The first step whose window this is.
+    pub first_end: Step,
+    /// The last step whose window this is.
+    pub last_end: Step,
+    /// OSPA(2), between 0 and c.
+    pub value: f64,
+    /// The part of OSPA(2)^p from the pairs closer than c.
+    pub paired_power: f64,
+    /// The part of OSPA(2)^p from the trajectories left without a partner closer than c.
+    pub unpaired_power: f64,
+    /// The number of pairs closer than c.
+    pub pairs: usize,
+    /// Truth trajectories with a state in the window (m).
+    pub truths: usize,
+    /// Estimate trajectories with a state in the window (n).
+    pub estimates: usize,
+}
+
+impl Ospa2Window {
+    /// The summary of `score`, the OSPA(2) of the windows ending at `first_end..=last_end`.
+    pub fn new(first_end: Step, last_end: Step, score: &Ospa2Score) -> Self {
+        Ospa2Window {
+            first_end,
+            last_end,
+            value: score.value,
+            paired_power: score.paired_power,
+            unpaired_power: score.unpaired_power,
+            pairs: score.pairs.len(),
+            truths: score.truths,
+            estimates: score.estimates,
+        }
+    }
+}
+
 /// OSPA(2) of one truth and one estimate set, ready to be evaluated over any window. Keeps the
 /// point pairs closer than c (with their steps), so memory follows the close points, not the
 /// window.
@@ -294,12 +333,34 @@ impl<'a> Ospa2<'a> {
     /// holds a state of either set (a window with none scores 0 and is left out, so the output
     /// follows the data, not the length of the window). `width` 0 is treated as 1.
     pub fn sliding(&self, width: usize) -> Vec<(Step, Ospa2Score)> {
+        let mut out = Vec::new();
+        for (first_end, last_end, score) in self.sliding_runs(width) {
+            out.extend((first_end..=last_end).map(|k| (k, score.clone())));
+        }
+        out
+    }
+
+    /// [`Ospa2::sliding`] in runs of window ends whose windows hold the same states, without
+    /// the pairs: one [`Ospa2Window`] per run, in time order (what `switchyard steps --ospa2`
+    /// writes). At most two runs per step with a state, however wide the window: memory follows
+    /// the data.
+    pub fn sliding_windows(&self, width: usize) -> Vec<Ospa2Window> {
+        self.sliding_runs(width)
+            .into_iter()
+            .map(|(first, last, score)| Ospa2Window::new(first, last, &score))
+            .collect()
+    }
+
+    /// The runs `(first end, last end, score)` of the sliding windows that hold a state. The
+    /// states in [k - width + 1, k] change only where k reaches a step with a state (it enters)
+    /// or passes one by `width` (it leaves), so each run is scored once, and the windows of one
+    /// run, holding the same points, score the same to the bit.
+    fn sliding_runs(&self, width: usize) -> Vec<(Step, Step, Ospa2Score)> {
         let Some(whole) = self.window else {
             return Vec::new();
         };
-        let width = width.max(1) as Step;
-        // The ends k whose window [k - width + 1, k] holds a point: k in [s, s + width - 1]
-        // for some occupied step s, merged into runs.
+        // A window wider than any step range holds the same as the widest a step can hold.
+        let width = width.clamp(1, Step::MAX as usize) as Step;
         let mut occupied: Vec<Step> = self
             .truth
             .trajectories()
@@ -309,22 +370,23 @@ impl<'a> Ospa2<'a> {
             .collect();
         occupied.sort_unstable();
         occupied.dedup();
-        let mut runs: Vec<(Step, Step)> = Vec::new();
-        for s in occupied {
-            let end = s.saturating_add(width - 1).min(whole.last);
-            match runs.last_mut() {
-                Some(run) if s <= run.1.saturating_add(1) => run.1 = run.1.max(end),
-                _ => runs.push((s, end)),
-            }
-        }
+        let mut changes: Vec<Step> = occupied
+            .iter()
+            .flat_map(|&s| [s, s.saturating_add(width)])
+            .filter(|&k| k <= whole.last)
+            .collect();
+        changes.sort_unstable();
+        changes.dedup();
         let mut out = Vec::new();
-        for (from, to) in runs {
-            for k in from..=to {
-                let window = Window {
-                    first: (k - width + 1).max(whole.first),
-                    last: k,
-                };
-                out.push((k, self.over(window)));
+        for (n, &from) in changes.iter().enumerate() {
+            let to = changes.get(n + 1).map_or(whole.last, |&next| next - 1);
+            let first = from.saturating_sub(width - 1).max(whole.first);
+            let holds = occupied
+                .get(occupied.partition_point(|&s| s < first))
+                .is_some_and(|&s| s <= from);
+            if holds {
+                let window = Window { first, last: from };
+                out.push((from, to, self.over(window)));
             }
         }
         out
@@ -376,6 +438,35 @@ mod tests {
         assert_eq!(sliding.len(), 4);
         assert_eq!(sliding[2].0, 3);
         assert!((sliding[2].1.value - 1.0).abs() < 1e-12);
+    }
+
+    // Hand-derived (definition above), c = 2, p = 1, a window of 10^6 steps: truth a on x = 0 at
+    // steps 1 and 1000, track p at x = 1 at step 1. The windows ending at 1..999 hold step 1
+    // only: d(a, p) = 1, OSPA(2) 1; the one ending at 1000 holds both: d(a, p) = (1 + 2) / 2 =
+    // 1.5. Two runs, however wide the window, and `sliding` lists every end.
+    #[test]
+    fn wide_windows_come_in_runs() {
+        let truth = set(&[("a", &[(1, 0.0), (1000, 0.0)])]);
+        let estimate = set(&[("p", &[(1, 1.0)])]);
+        let params = Ospa2Params::new(2.0, 1.0).unwrap();
+        let metric = Ospa2::new(&truth, &estimate, params, &Distance::default()).unwrap();
+        let runs = metric.sliding_windows(1_000_000);
+        assert_eq!(runs.len(), 2);
+        assert_eq!((runs[0].first_end, runs[0].last_end), (1, 999));
+        assert!((runs[0].value - 1.0).abs() < 1e-12);
+        assert_eq!((runs[1].first_end, runs[1].last_end), (1000, 1000));
+        assert!((runs[1].value - 1.5).abs() < 1e-12);
+        let every = metric.sliding(1_000_000);
+        assert_eq!(every.len(), 1000);
+        assert!((every[500].1.value - 1.0).abs() < 1e-12);
+        // Width 3: ends 1 to 3 see step 1 (value 1); ends 4 to 997 see nothing (left out); ends
+        // 1000 sees a alone (value c = 2).
+        // The widest window a width can give: the same two runs.
+        assert_eq!(metric.sliding_windows(usize::MAX), runs);
+        let runs = metric.sliding_windows(3);
+        let ends: Vec<(Step, Step)> = runs.iter().map(|r| (r.first_end, r.last_end)).collect();
+        assert_eq!(ends, [(1, 3), (1000, 1000)]);
+        assert!((runs[1].value - 2.0).abs() < 1e-12);
     }
 
     // Both empty: 0 (definition); one empty: c (every trajectory of the other is unpaired).

@@ -15,10 +15,12 @@ use switchyard::compare::{
     Dataset, RankBy, ResampleBy, TrackerData,
 };
 use switchyard::distance::Distance;
+use switchyard::ospa2::{Ospa2, Ospa2Params};
 use switchyard::per_step::{occupied_steps, GospaParams};
 use switchyard::report::audit::AuditDocument;
 use switchyard::report::compare::{CompareInputs, Sections, TrackerSource};
 use switchyard::report::score::ScoreDocument;
+use switchyard::report::steps::Ospa2Steps;
 use switchyard::report::switches::SwitchesDocument;
 use switchyard::report::{self, Exactness, InputInfo, TimedEvents};
 use switchyard::trajectory::{Trajectory, TrajectorySet};
@@ -120,6 +122,27 @@ fn run(u: &mut Unstructured) -> Drawn<()> {
         check_json(&written(|o| {
             report::steps::write_json(o, &series, &gospa, &info)
         }));
+        // The same with OSPA(2) over a sliding window (`steps --ospa2`).
+        let params = Ospa2Params::new(cutoff, 1.0).expect("valid parameters");
+        if let Ok(metric) = Ospa2::new(&truth, &estimate, params, &distance) {
+            let width = usize::from(u.int_in_range(1..=4u8)?);
+            let windows = metric.sliding_windows(width);
+            let sliding = Ospa2Steps {
+                params,
+                width,
+                windows: &windows,
+            };
+            let sliding = Some(&sliding);
+            text(&written(|o| {
+                report::steps::write_text_with(o, &series, &gospa, &info, sliding)
+            }));
+            check_csv(&written(|o| {
+                report::steps::write_csv_with(o, &series, info.time_step, sliding)
+            }));
+            check_json(&written(|o| {
+                report::steps::write_json_with(o, &series, &gospa, &info, sliding)
+            }));
+        }
     }
 
     let params = TrajectoryParams::new(cutoff, 1.0, cutoff).expect("valid parameters");

@@ -15,13 +15,18 @@ use pyo3::exceptions::{PyException, PyMemoryError, PyValueError};
 use pyo3::prelude::*;
 use pyo3::types::{PyBytes, PyString};
 
-use switchyard::assignment::switches::switch_kinds;
+use switchyard::assignment::switches::{switch_kinds, SwitchKinds};
+use switchyard::classes::{evaluate_by_class, PointClasses};
 use switchyard::distance::{BoxLayout, Distance};
-use switchyard::evaluate::{evaluate, Request};
-use switchyard::input::{read_csv_path, CsvLayout, TrajectoryFile};
-use switchyard::per_step::{occupied_steps, GospaParams};
+use switchyard::evaluate::{evaluate, Evaluation, Request};
+use switchyard::input::{read_classed_csv_path, read_csv_path, CsvLayout, TrajectoryFile};
+use switchyard::ospa2::Ospa2Params;
+use switchyard::per_step::GospaParams;
 use switchyard::report::audit::AuditDocument;
+use switchyard::report::classes::{class_info, write_json_with_classes};
+use switchyard::report::ospa2::Ospa2Document;
 use switchyard::report::score::ScoreDocument;
+use switchyard::report::steps::Ospa2Steps;
 use switchyard::report::switches::SwitchesDocument;
 use switchyard::report::{steps, Exactness, InputInfo, TimedEvents};
 use switchyard::trajectory::{Step, Trajectory, TrajectorySet};
@@ -57,6 +62,8 @@ struct Table {
     times: Times,
     /// Row-major: row r's state is `states[r * dim..(r + 1) * dim]`.
     states: Vec<f64>,
+    /// With a class column: its name and each row's class as text.
+    classes: Option<(String, Vec<String>)>,
 }
 
 /// One input: a CSV file, or a table.
@@ -74,7 +81,8 @@ fn words<T>(bytes: &[u8], from: fn([u8; 8]) -> T) -> Vec<T> {
 }
 
 /// An input as the Python layer passes it: a path (str), or the tuple `(source, time column,
-/// id column, state columns, ids, times as bytes, times are integers, states as bytes)`.
+/// id column, state columns, ids, times as bytes, times are integers, states as bytes, classes)`
+/// where classes is None or `(class column, each row's class as text)`.
 fn extract_input(value: &Bound<'_, PyAny>) -> PyResult<Input> {
     if value.is_instance_of::<PyString>() {
         return Ok(Input::Path(value.extract()?));
@@ -88,13 +96,15 @@ fn extract_input(value: &Bound<'_, PyAny>) -> PyResult<Input> {
         Bound<'py, PyBytes>,
         bool,
         Bound<'py, PyBytes>,
+        Option<(String, Vec<String>)>,
     );
-    let (source, time_column, id_column, state_columns, ids, times, integer_times, states): Parts =
+    let (source, time_column, id_column, state_columns, ids, times, integer_times, states, classes): Parts =
         value.extract()?;
     let rows = ids.len();
     let dim = state_columns.len();
     let (times, states) = (times.as_bytes(), states.as_bytes());
-    if times.len() != rows * 8 || states.len() != rows * dim * 8 {
+    let class_rows = classes.as_ref().map_or(rows, |(_, labels)| labels.len());
+    if times.len() != rows * 8 || states.len() != rows * dim * 8 || class_rows != rows {
         return Err(InternalError::new_err(format!(
             "{source}: columns of different lengths reached the compiled module"
         )));
@@ -112,6 +122,7 @@ fn extract_input(value: &Bound<'_, PyAny>) -> PyResult<Input> {
         ids,
         times,
         states: words(states, f64::from_ne_bytes),
+        classes,
     }))
 }
 
@@ -138,6 +149,9 @@ struct Options {
     state_columns: Option<Vec<String>>,
     time_step: Option<f64>,
     delimiter: String,
+    ospa2: bool,
+    ospa2_window: Option<usize>,
+    class_column: Option<String>,
 }
 
 /// An error about one cell of a table: its source, row (counting from 0) and column.
@@ -178,7 +192,7 @@ fn table_file(
     table: Table,
     time_step: Option<f64>,
     distance: &Distance,
-) -> switchyard::Result<TrajectoryFile> {
+) -> switchyard::Result<(TrajectoryFile, Option<PointClasses>)> {
     if let Some(dt) = time_step {
         if !(dt.is_finite() && dt > 0.0) {
             return Err(Error::Parameter(format!(
@@ -194,8 +208,20 @@ fn table_file(
         ids,
         times,
         states,
+        classes,
     } = table;
     let dim = state_columns.len();
+    if let Some((name, _)) = &classes {
+        if name == &time_column || name == &id_column || state_columns.contains(name) {
+            return Err(Error::Parameter(format!(
+                "the class column {name:?} is also the time, the id or a state column"
+            )));
+        }
+    }
+    // With classes: the class names in order of first appearance, and each row's class.
+    let mut class_names: Vec<String> = Vec::new();
+    let mut class_index: HashMap<&str, u32> = HashMap::new();
+    let mut row_classes: Vec<u32> = Vec::with_capacity(classes.as_ref().map_or(0, |c| c.1.len()));
     let mut index: HashMap<&str, usize> = HashMap::new();
     // Per object: its id, then (step, row) of each point.
     let mut objects: Vec<(&str, Vec<(Step, usize)>)> = Vec::new();
@@ -234,6 +260,22 @@ fn table_file(
         if let Err((k, message)) = distance.check_state(state) {
             return Err(cell_error(&source, row, &state_columns[k], message));
         }
+        if let Some((name, labels)) = &classes {
+            let label = labels[row].trim();
+            if label.is_empty() {
+                return Err(cell_error(
+                    &source,
+                    row,
+                    name,
+                    "the class is empty or missing",
+                ));
+            }
+            let class = *class_index.entry(label).or_insert_with(|| {
+                class_names.push(label.to_string());
+                (class_names.len() - 1) as u32
+            });
+            row_classes.push(class);
+        }
         let object = *index.entry(id.as_str()).or_insert_with(|| {
             objects.push((id.as_str(), Vec::new()));
             objects.len() - 1
@@ -241,6 +283,7 @@ fn table_file(
         objects[object].1.push((step, row));
     }
     let mut trajectories = Vec::with_capacity(objects.len());
+    let mut point_classes = Vec::with_capacity(objects.len());
     for (id, mut points) in objects {
         points.sort_unstable();
         if let Some(pair) = points.windows(2).find(|pair| pair[0].0 == pair[1].0) {
@@ -252,17 +295,25 @@ fn table_file(
                 format!("id {id:?} has a second row at step {step} (the first is row {first})"),
             ));
         }
+        if classes.is_some() {
+            point_classes.push(points.iter().map(|&(_, row)| row_classes[row]).collect());
+        }
         let points = points
             .into_iter()
             .map(|(step, row)| (step, states[row * dim..(row + 1) * dim].to_vec()))
             .collect();
         trajectories.push(Trajectory::new(id, dim, points)?);
     }
-    Ok(TrajectoryFile {
+    let classes = match classes {
+        Some(_) => Some(PointClasses::new(class_names, point_classes)?),
+        None => None,
+    };
+    let file = TrajectoryFile {
         source,
         state_columns,
         set: TrajectorySet::new(dim, trajectories)?,
-    })
+    };
+    Ok((file, classes))
 }
 
 /// The base distance the options name, refusing options that do not go together.
@@ -305,11 +356,19 @@ fn build_distance(options: &Options) -> switchyard::Result<Distance> {
 
 /// Reads or builds both inputs and checks that they can be compared with the distance at this
 /// cut-off.
+/// With `class_column`, also the class of every point of each (as the command line's
+/// `--class-column`).
+#[allow(clippy::type_complexity)]
 fn read_inputs(
     truth: Input,
     estimate: Input,
     options: &Options,
-) -> switchyard::Result<(TrajectoryFile, TrajectoryFile, Distance)> {
+) -> switchyard::Result<(
+    TrajectoryFile,
+    TrajectoryFile,
+    Distance,
+    Option<(PointClasses, PointClasses)>,
+)> {
     let distance = build_distance(options)?;
     distance.check_cutoff(options.cutoff)?;
     if let Some(columns) = &options.state_columns {
@@ -332,15 +391,24 @@ fn read_inputs(
         delimiter,
         distance: Some(distance.clone()),
     };
-    let read = |input: Input| match input {
-        Input::Path(path) => read_csv_path(&path, &layout),
-        Input::Table(table) => table_file(table, options.time_step, &distance),
+    let class_column = options.class_column.as_deref();
+    let read = |input: Input| match (input, class_column) {
+        (Input::Path(path), None) => Ok((read_csv_path(&path, &layout)?, None)),
+        (Input::Path(path), Some(column)) => {
+            let classed = read_classed_csv_path(&path, &layout, column)?;
+            Ok((classed.file, Some(classed.classes)))
+        }
+        (Input::Table(table), _) => table_file(table, options.time_step, &distance),
     };
-    let truth = read(truth)?;
-    let estimate = read(estimate)?;
+    let (truth, truth_classes) = read(truth)?;
+    let (estimate, estimate_classes) = read(estimate)?;
     truth.check_comparable(&estimate)?;
     distance.validate(truth.set.dim(), options.cutoff)?;
-    Ok((truth, estimate, distance))
+    let classes = match (truth_classes, estimate_classes) {
+        (Some(t), Some(e)) => Some((t, e)),
+        _ => None,
+    };
+    Ok((truth, estimate, distance, classes))
 }
 
 /// How to solve: the engine by its name (`auto` is the command line's default), the exact
@@ -387,72 +455,216 @@ fn solve_options(options: &Options) -> switchyard::Result<SolveOptions> {
     })
 }
 
+/// OSPA(2) with the metric's cut-off and order when `ospa2` is asked for, and the width of its
+/// sliding window (`steps` only; 1 unless given), refusing a window without `ospa2=True`, as the
+/// command line does.
+fn ospa2_options(options: &Options) -> switchyard::Result<(Option<Ospa2Params>, usize)> {
+    let width = match options.ospa2_window {
+        Some(_) if !options.ospa2 => {
+            return Err(Error::Parameter(
+                "ospa2_window applies only with ospa2=True".into(),
+            ))
+        }
+        Some(width) if width == 0 || width > u32::MAX as usize => {
+            return Err(Error::Parameter(format!(
+                "ospa2_window must be a whole number of steps from 1 to 2^32 - 1, got {width}"
+            )))
+        }
+        Some(width) => width,
+        None => 1,
+    };
+    let params = if options.ospa2 {
+        Some(Ospa2Params::new(options.cutoff, options.order)?)
+    } else {
+        None
+    };
+    Ok((params, width))
+}
+
 /// Runs a command; returns its JSON document and the notes the command line would print on
-/// standard error.
+/// standard error. With `class_column`, as the command line's `--class-column`: the document of
+/// all classes together with a `classes` object holding each class's document.
 fn run_command(
     command: &str,
     truth: Input,
     estimate: Input,
     options: &Options,
 ) -> switchyard::Result<(String, Vec<String>)> {
+    let (ospa2, width) = ospa2_options(options)?;
+    let request = if command == "steps" {
+        let params = GospaParams::new(options.cutoff, options.order, options.alpha)?;
+        Request {
+            ospa2,
+            ospa2_window: ospa2.map(|_| width),
+            ..Request::steps(params)
+        }
+    } else {
+        if !matches!(command, "score" | "switches" | "audit") {
+            return Err(Error::Parameter(format!("unknown command {command:?}")));
+        }
+        if ospa2.is_some() && command != "score" {
+            return Err(Error::Parameter(format!(
+                "ospa2 applies to score and steps, not to {command}"
+            )));
+        }
+        let solve = solve_options(options)?;
+        let params = TrajectoryParams::new(
+            options.cutoff,
+            options.order,
+            options.switch_penalty.unwrap_or(options.cutoff),
+        )?;
+        // The command line's own evaluation: the LP once, the events and the audit read from it.
+        Request {
+            trajectory: Some(params),
+            solve,
+            switches: true,
+            jumps: command != "audit",
+            audit: command == "audit",
+            ospa2,
+            ..Request::default()
+        }
+    };
+    if ospa2.is_some() && options.class_column.is_some() {
+        return Err(Error::Parameter(
+            "ospa2 does not go with class_column: OSPA(2) is normalised by the number of \
+             trajectories, so its values do not add up over classes"
+                .into(),
+        ));
+    }
+    let (truth, estimate, distance, classes) = read_inputs(truth, estimate, options)?;
+    let info = InputInfo::new(&truth, &estimate, &distance).with_time_step(options.time_step);
+    let Some((truth_classes, estimate_classes)) = classes else {
+        let evaluation = evaluate(&truth.set, &[&estimate.set], &distance, &request, &|_| {})?
+            .pop()
+            .expect("one estimate was evaluated");
+        let kinds = evaluation
+            .switches
+            .as_deref()
+            .map(|switches| switch_kinds(switches, &estimate.set));
+        let names = (&truth.set, &estimate.set);
+        let text = document(command, &request, &evaluation, &info, kinds, names, options)?;
+        let notes = evaluation.score.map(|s| s.notes).unwrap_or_default();
+        return Ok((text, notes));
+    };
+    let mut notes = Vec::new();
+    for (file, classes, one, many) in [
+        (&truth, &truth_classes, "truth carries", "truths carry"),
+        (
+            &estimate,
+            &estimate_classes,
+            "track carries",
+            "tracks carry",
+        ),
+    ] {
+        let mixed = classes.mixed();
+        if mixed > 0 {
+            notes.push(format!(
+                "{}: {} more than one class; each is scored as one piece per class",
+                file.source,
+                switchyard::report::plural(mixed, one, many)
+            ));
+        }
+    }
+    let by_class = evaluate_by_class(
+        (&truth.set, &truth_classes),
+        (&estimate.set, &estimate_classes),
+        &distance,
+        &request,
+        &|_| {},
+    )?;
+    let mut documents = Vec::with_capacity(by_class.classes.len());
+    let mut all_kinds = SwitchKinds::default();
+    for class in &by_class.classes {
+        let scene = &class.scene;
+        let kinds = class
+            .evaluation
+            .switches
+            .as_deref()
+            .map(|switches| switch_kinds(switches, &scene.estimate));
+        all_kinds = all_kinds + kinds.unwrap_or_default();
+        let info = class_info(&info, scene);
+        let names = (&scene.truth, &scene.estimate);
+        let text = document(
+            command,
+            &request,
+            &class.evaluation,
+            &info,
+            kinds,
+            names,
+            options,
+        )?;
+        documents.push((scene.class.clone(), text.into_bytes()));
+    }
+    let kinds = by_class.overall.switches.as_ref().map(|_| all_kinds);
+    let names = (&truth.set, &estimate.set);
+    let overall = document(
+        command,
+        &request,
+        &by_class.overall,
+        &info,
+        kinds,
+        names,
+        options,
+    )?;
+    let mut text = Vec::new();
+    write_json_with_classes(&mut text, overall.as_bytes(), &documents)
+        .map_err(|error| Error::Solver(format!("the document with classes: {error}")))?;
+    notes.extend(by_class.overall.score.map(|s| s.notes).unwrap_or_default());
+    Ok((
+        String::from_utf8(text).expect("serde_json writes UTF-8"),
+        notes,
+    ))
+}
+
+/// The JSON document of `command` on one evaluation (one class, or the whole scene): `kinds`
+/// are the switches' kinds, `names` the truth and estimate sets that name the pairs of
+/// OSPA(2).
+fn document(
+    command: &str,
+    request: &Request,
+    evaluation: &Evaluation,
+    info: &InputInfo,
+    kinds: Option<SwitchKinds>,
+    names: (&TrajectorySet, &TrajectorySet),
+    options: &Options,
+) -> switchyard::Result<String> {
     let json = |document: Result<String, serde_json::Error>| {
         document.map_err(|error| Error::Solver(format!("a document did not serialise: {error}")))
     };
     if command == "steps" {
-        let params = GospaParams::new(options.cutoff, options.order, options.alpha)?;
-        let (truth, estimate, distance) = read_inputs(truth, estimate, options)?;
-        let series = occupied_steps(&truth.set, &estimate.set, &params, &distance)?;
-        let info = InputInfo::new(&truth, &estimate, &distance).with_time_step(options.time_step);
+        let params = request.steps.as_ref().expect("the steps were asked for");
+        let series = evaluation.steps.as_ref().expect("the steps were asked for");
+        let sliding = Ospa2Steps::of(request, evaluation);
         let mut text = Vec::new();
-        steps::write_json(&mut text, &series, &params, &info)
+        steps::write_json_with(&mut text, series, params, info, sliding.as_ref())
             .map_err(|error| Error::Solver(format!("the steps document: {error}")))?;
-        let text = String::from_utf8(text).expect("serde_json writes UTF-8");
-        return Ok((text, Vec::new()));
+        return Ok(String::from_utf8(text).expect("serde_json writes UTF-8"));
     }
-    if !matches!(command, "score" | "switches" | "audit") {
-        return Err(Error::Parameter(format!("unknown command {command:?}")));
-    }
-    let solve_options = solve_options(options)?;
-    let (truth, estimate, distance) = read_inputs(truth, estimate, options)?;
-    let params = TrajectoryParams::new(
-        options.cutoff,
-        options.order,
-        options.switch_penalty.unwrap_or(options.cutoff),
-    )?;
-    // The command line's own evaluation: the LP once, the events and the audit read from it.
-    let request = Request {
-        trajectory: Some(params),
-        solve: solve_options,
-        switches: true,
-        jumps: command != "audit",
-        audit: command == "audit",
-        ..Request::default()
-    };
-    let mut evaluation = evaluate(&truth.set, &[&estimate.set], &distance, &request, &|_| {})?
-        .pop()
-        .expect("one estimate was evaluated");
-    let result = evaluation.score.take().expect("the score was asked for");
-    let switches = evaluation.switches.take().unwrap_or_default();
-    let jumps = evaluation.jumps.take().unwrap_or_default();
-    let info = InputInfo::new(&truth, &estimate, &distance).with_time_step(options.time_step);
-    let text = match command {
+    let result = evaluation.score.as_ref().expect("the score was asked for");
+    let switches = evaluation.switches.as_deref().unwrap_or_default();
+    let jumps = evaluation.jumps.as_deref().unwrap_or_default();
+    match command {
         "score" => {
-            let engine = solve_options.engine.name();
-            let document = ScoreDocument::new(&result, &info, engine, &switches, &jumps);
-            json(serde_json::to_string(&document))?
+            let engine = request.solve.engine.name();
+            let mut document = ScoreDocument::new(result, info, engine, switches, jumps);
+            if let (Some(value), Some(params)) = (&evaluation.ospa2, &request.ospa2) {
+                let second = Ospa2Document::new(value, params, names.0, names.1);
+                document = document.with_ospa2(second);
+            }
+            json(serde_json::to_string(&document))
         }
         "switches" => json(serde_json::to_string(&SwitchesDocument {
             params: &result.params,
-            inputs: &info,
+            inputs: info,
             switching: result.parts.switching,
             switch_count: result.parts.switch_count,
-            kinds: switch_kinds(&switches, &estimate.set),
-            switches: TimedEvents::new(&switches, options.time_step),
-            jumps: TimedEvents::new(&jumps, options.time_step),
-            exactness: Exactness::new(&result),
-        }))?,
+            kinds: kinds.unwrap_or_default(),
+            switches: TimedEvents::new(switches, options.time_step),
+            jumps: TimedEvents::new(jumps, options.time_step),
+            exactness: Exactness::new(result),
+        })),
         _ => {
-            let mut report = evaluation.audit.take().expect("the audit was asked for");
+            let mut report = evaluation.audit.clone().expect("the audit was asked for");
             if let Some(top) = options.top {
                 // As `audit --top N`: the N worst truths and the N costliest tracks.
                 report.rank_tracks_by_cost();
@@ -460,16 +672,15 @@ fn run_command(
             }
             json(serde_json::to_string(&AuditDocument {
                 params: &result.params,
-                inputs: &info,
+                inputs: info,
                 truths: &report.truths,
                 estimates: &report.estimates,
-                exactness: Exactness::new(&result),
+                exactness: Exactness::new(result),
                 by_cost: false,
                 tracks_by_cost: options.top.is_some(),
-            }))?
+            }))
         }
-    };
-    Ok((text, result.notes))
+    }
 }
 
 /// Runs `command` (`score`, `switches`, `audit` or `steps`) on two inputs (each a CSV path or a

@@ -38,7 +38,7 @@ from typing import Any, Dict, List, Optional, Sequence, Tuple, Union
 
 from ._compare import Comparison, compare
 from ._inputs import to_input
-from ._results import Audit, Score, Steps, Switches
+from ._results import Audit, Ospa2, Score, Steps, Switches
 from ._switchyard import InternalError
 from ._switchyard import run as _run
 
@@ -46,6 +46,7 @@ __all__ = [
     "Audit",
     "Comparison",
     "InternalError",
+    "Ospa2",
     "Score",
     "SolveNote",
     "Steps",
@@ -63,7 +64,8 @@ Input = Union[str, "os.PathLike[str]", Any]
 
 class SolveNote(UserWarning):
     """A note about the solve (for example a group whose value could not be proven within the
-    memory budget): the command line prints these on standard error."""
+    memory budget, or with ``class_column`` an object whose class changes): the command line
+    prints these on standard error."""
 
 
 def _options(
@@ -86,7 +88,17 @@ def _options(
     state_columns: Optional[Sequence[str]] = None,
     time_step: Optional[float] = None,
     delimiter: str = ",",
+    ospa2: bool = False,
+    ospa2_window: Optional[int] = None,
+    class_column: Optional[str] = None,
 ) -> Dict[str, Any]:
+    # The command line's --ospa2-window takes 1 to 2^32 - 1 steps.
+    if ospa2_window is not None and (
+        isinstance(ospa2_window, bool) or not isinstance(ospa2_window, int) or not 1 <= ospa2_window <= 2**32 - 1
+    ):
+        raise ValueError(
+            f"invalid parameter: ospa2_window must be a whole number of steps from 1 to 2^32 - 1, got {ospa2_window!r}"
+        )
     if distance in ("iou", "geodesic") and state_columns is None:
         raise ValueError(
             f"invalid parameter: the {distance} distance needs state_columns naming "
@@ -111,6 +123,9 @@ def _options(
         "state_columns": None if state_columns is None else list(state_columns),
         "time_step": None if time_step is None else float(time_step),
         "delimiter": delimiter,
+        "ospa2": bool(ospa2),
+        "ospa2_window": ospa2_window,
+        "class_column": class_column,
     }
 
 
@@ -129,6 +144,7 @@ def _call(command: str, arguments: Dict[str, Any]) -> Tuple[str, List[str]]:
             id_column=options["id_column"],
             state_columns=options["state_columns"],
             columns=columns,
+            class_column=options["class_column"],
         )
 
     text, notes = _run(command, prepare(truth, "truth"), prepare(estimate, "estimate"), options)
@@ -143,6 +159,11 @@ _COMMON = """
     with 5 columns z). ``time_column``, ``id_column``, ``state_columns`` (default x, y, plus z
     when present), ``time_step`` and ``delimiter`` (CSV files only) are the command line's CSV
     options; ``truth_name`` and ``estimate_name`` name a table in messages and in ``inputs``.
+
+    Classes: ``class_column`` names a column giving each row's class (``--class-column``): each
+    class is scored on its own and the document is that of all classes together with a
+    ``classes`` object holding each class's document (the result's ``classes``: a dict from
+    class name to a result of the same type).
 
     Distance: ``distance`` is ``"euclidean"`` (default), ``"manhattan"``, ``"chebyshev"`` (each
     with optional per-column ``weights``), ``"iou"`` (with ``box_layout`` ``"corner-size"``,
@@ -185,6 +206,8 @@ def score(
     columns: Optional[Sequence[str]] = None,
     truth_name: Optional[str] = None,
     estimate_name: Optional[str] = None,
+    class_column: Optional[str] = None,
+    ospa2: bool = False,
 ) -> Score:
     return Score(*_call("score", locals()))
 
@@ -212,6 +235,7 @@ def switches(
     columns: Optional[Sequence[str]] = None,
     truth_name: Optional[str] = None,
     estimate_name: Optional[str] = None,
+    class_column: Optional[str] = None,
 ) -> Switches:
     return Switches(*_call("switches", locals()))
 
@@ -240,6 +264,7 @@ def audit(
     columns: Optional[Sequence[str]] = None,
     truth_name: Optional[str] = None,
     estimate_name: Optional[str] = None,
+    class_column: Optional[str] = None,
 ) -> Audit:
     if top is not None and (isinstance(top, bool) or not isinstance(top, int) or top < 0):
         raise ValueError(f"invalid parameter: top must be a count >= 0, got {top!r}")
@@ -264,6 +289,9 @@ def steps(
     columns: Optional[Sequence[str]] = None,
     truth_name: Optional[str] = None,
     estimate_name: Optional[str] = None,
+    class_column: Optional[str] = None,
+    ospa2: bool = False,
+    ospa2_window: Optional[int] = None,
 ) -> Steps:
     return Steps(*_call("steps", locals()))
 
@@ -274,6 +302,9 @@ score.__doc__ = (
     Returns a ``Score``: ``total`` (d^p) and its parts ``localisation``, ``missed``, ``false``,
     ``switching`` with their counts, the ``certificate``, the ``switches`` and ``jumps`` tables,
     and ``to_dict()``, the document of ``switchyard score --format json``.
+
+    ``ospa2=True`` (``score --ospa2``) also gives OSPA(2) (Beard, Vo, Vo, IEEE TSP 68, 2020)
+    with the same cut-off and order over the whole window, as ``Score.ospa2`` (an ``Ospa2``).
 """
     + _METRIC
     + _COMMON
@@ -305,6 +336,12 @@ steps.__doc__ = (
     Cut-off ``cutoff`` > 0, order ``order`` >= 1, ``alpha`` in (0, 2] (the parts are given only
     for 2). Returns a ``Steps``: ``table`` (one row per step of the window), ``summary``, and
     ``to_dict()``, the document of ``switchyard steps --format json``.
+
+    ``ospa2=True`` (``steps --ospa2``) adds to each step OSPA(2) (Beard, Vo, Vo, IEEE TSP 68,
+    2020) with the same cut-off and order over the sliding window of ``ospa2_window`` steps
+    (default 1, ``--ospa2-window``) ending there: the table's columns ``ospa2``,
+    ``ospa2_paired_power``, ``ospa2_unpaired_power`` and ``ospa2_pairs``, missing (None, NaN in
+    a DataFrame) where that window holds no object.
 """
     + _COMMON
 )

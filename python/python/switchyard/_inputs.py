@@ -15,7 +15,7 @@ from typing import Any, List, Mapping, Optional, Sequence, Tuple
 
 # The compiled module's table tuple: (source, time column, id column, state columns, ids,
 # times as bytes, times are integers, states as bytes).
-TableTuple = Tuple[str, str, str, List[str], List[str], bytes, bool, bytes]
+TableTuple = Tuple[str, str, str, List[str], List[str], bytes, bool, bytes, Optional[Tuple[str, List[str]]]]
 
 
 def numpy_module() -> Any:
@@ -208,6 +208,7 @@ def to_input(
     id_column: str,
     state_columns: Optional[Sequence[str]],
     columns: Optional[Sequence[str]] = None,
+    class_column: Optional[str] = None,
 ) -> "str | TableTuple":
     """A path as text, or the table tuple of the compiled module."""
     if is_path(value):
@@ -215,7 +216,7 @@ def to_input(
     table = _columns_of(value, source, columns)
     names = list(table)
     states = list(state_columns) if state_columns is not None else default_state_columns(names)
-    wanted = [time_column, id_column, *states]
+    wanted = [time_column, id_column, *states] + ([class_column] if class_column is not None else [])
     for name in wanted:
         if name not in table:
             raise ValueError(f"{source}: there is no column {name!r} (it has: {', '.join(map(repr, names))})")
@@ -229,4 +230,6 @@ def to_input(
     times, integer_times = _times(source, time_column, columns_used[time_column])
     ids = _ids(columns_used[id_column])
     state_bytes = _states(source, states, [columns_used[name] for name in states], rows)
-    return (source, time_column, id_column, states, ids, times, integer_times, state_bytes)
+    # Classes as text, as ids are (a missing one is "", refused with its row).
+    classes = None if class_column is None else (class_column, _ids(columns_used[class_column]))
+    return (source, time_column, id_column, states, ids, times, integer_times, state_bytes, classes)

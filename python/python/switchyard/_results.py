@@ -60,6 +60,10 @@ class _Document:
         self.params: Dict[str, float] = self._document.get("params", {})
         #: The inputs: names (file, or the name given to a table), counts and the distance.
         self.inputs: Dict[str, Any] = self._document["inputs"]
+        #: With ``class_column``: each class's result (of this type) by class name, else None.
+        self.classes: Optional[Dict[str, Any]] = None
+        if "classes" in self._document:
+            self.classes = {name: type(self)(json.dumps(doc)) for name, doc in self._document["classes"].items()}
 
     def to_dict(self) -> Dict[str, Any]:
         """The document the command line writes with ``--format json``, as a new dict."""
@@ -85,6 +89,39 @@ class _Exactness(_Document):
         self.exact_total: Optional[float] = d["exact_total"]
         #: The certificate of ``exact=True`` (None without it).
         self.exact: Optional[Dict[str, Any]] = d["exact"]
+
+
+class Ospa2:
+    """OSPA(2) (Beard, Vo, Vo, IEEE TSP 68, 2020) beside trajectory GOSPA: the ``ospa2`` object
+    of ``switchyard score --ospa2 --format json``.
+
+    ``value`` lies in [0, c]; ``paired_power + unpaired_power`` is ``value ** order``;
+    ``truths`` and ``estimates`` count the trajectories; ``pairs`` is a table of the pairs closer
+    than c (truth, estimate, distance).
+    """
+
+    def __init__(self, document: Dict[str, Any]) -> None:
+        self._document = document
+        self.value: float = document["value"]
+        self.cutoff: float = document["cutoff"]
+        self.order: float = document["order"]
+        self.paired_power: float = document["paired_power"]
+        self.unpaired_power: float = document["unpaired_power"]
+        self.truths: int = document["truths"]
+        self.estimates: int = document["estimates"]
+
+    @property
+    def pairs(self) -> Any:
+        """The pairs closer than c, by truth: truth, estimate, distance."""
+        return table(self._document["pairs"], ("truth", "estimate", "distance"))
+
+    def __eq__(self, other: object) -> bool:
+        return type(other) is type(self) and other._document == self._document  # type: ignore[attr-defined]
+
+    __hash__ = None  # type: ignore[assignment]
+
+    def __repr__(self) -> str:
+        return f"Ospa2(value={self.value!r}, pairs={len(self._document['pairs'])})"
 
 
 class Score(_Exactness):
@@ -123,6 +160,8 @@ class Score(_Exactness):
         self.certificate: Dict[str, Any] = d["certificate"]
         #: True when the value is proven optimal (lower bound = upper bound).
         self.proven: bool = d["certificate"]["proven"]
+        #: OSPA(2) over the whole window with ``ospa2=True``, else None.
+        self.ospa2: Optional[Ospa2] = Ospa2(d["ospa2"]) if "ospa2" in d else None
 
     @property
     def localization(self) -> float:
@@ -232,6 +271,7 @@ _STEP_COLUMNS = (
     "truth_count",
     "estimate_count",
 )
+_OSPA2_COLUMNS = ("ospa2", "ospa2_paired_power", "ospa2_unpaired_power", "ospa2_pairs")
 
 
 class Steps(_Document):
@@ -244,12 +284,18 @@ class Steps(_Document):
         self.window: Optional[Tuple[int, int]] = (d["window"]["first"], d["window"]["last"]) if d["window"] else None
         #: Sum, mean, root mean power and the summed parts over the steps.
         self.summary: Dict[str, Any] = d["summary"]
+        #: With ``ospa2=True``, OSPA(2)'s ``{"cutoff", "order", "window"}`` (window: the width of
+        #: the sliding window in steps), else None.
+        self.ospa2: Optional[Dict[str, Any]] = d.get("ospa2")
 
     @property
     def table(self) -> Any:
         """One row per step of the window: time, gospa, localisation, missed, false (the parts
-        are None unless alpha = 2), missed_count, false_count, truth_count, estimate_count."""
-        return table(self._document["steps"], _STEP_COLUMNS)
+        are None unless alpha = 2), missed_count, false_count, truth_count, estimate_count; with
+        ``ospa2=True`` also ospa2, ospa2_paired_power, ospa2_unpaired_power, ospa2_pairs (None,
+        NaN in a DataFrame, where the window ending at the step holds no object)."""
+        columns = _STEP_COLUMNS + (_OSPA2_COLUMNS if self.ospa2 is not None else ())
+        return table(self._document["steps"], columns)
 
     def __repr__(self) -> str:
         return f"Steps(window={self.window!r}, sum={self.summary['sum']!r})"

@@ -1,13 +1,14 @@
 """Type stubs of the compiled module switchyard._switchyard."""
 
-from typing import Any, Dict, List, Tuple, Union
+from typing import Any, Dict, List, Optional, Tuple, Union
 
 class InternalError(Exception):
     """A failure inside switchyard that is not the caller's input: please report it."""
 
 #: (source, time column, id column, state columns, ids, times as native int64 or float64
-#: bytes, whether the times are int64, states as row-major native float64 bytes)
-TableInput = Tuple[str, str, str, List[str], List[str], bytes, bool, bytes]
+#: bytes, whether the times are int64, states as row-major native float64 bytes, None or
+#: (class column, each row's class as text))
+TableInput = Tuple[str, str, str, List[str], List[str], bytes, bool, bytes, Optional[Tuple[str, List[str]]]]
 
 def run(
     command: str,
