@@ -18,7 +18,7 @@ use super::svg::{self, esc, n, Scale};
 use super::{Context, Report, TrackerResults, RIGHT, WIDTH};
 use crate::trajectory_metric::TrajectoryScore;
 
-const PLOT_H: f64 = 120.0;
+const PLOT_H: f64 = 170.0;
 
 /// The classes of every tracker, in byte order (a tracker lacking one had neither truth nor
 /// estimate in it: its values there are 0).
