@@ -22,6 +22,10 @@ pub struct PageArgs {
     /// --monte-carlo); self-contained, opens offline. Appears only when complete.
     #[arg(long, value_name = "FILE")]
     page: Option<PathBuf>,
+    /// Unit of time written on the page's time axes (for example `s`); needs --page and
+    /// --time-step, with which the axes show time = step x step size.
+    #[arg(long, value_name = "UNIT", requires_all = ["page", "time_step"])]
+    time_unit: Option<String>,
 }
 
 impl PageArgs {
@@ -78,7 +82,10 @@ impl PageArgs {
             title: "Tracker comparison".to_string(),
             comparison,
             inputs,
-            time: time_step.map(|step| TimeScale { step, unit: None }),
+            time: time_step.map(|step| TimeScale {
+                step,
+                unit: self.time_unit.clone().filter(|u| !u.trim().is_empty()),
+            }),
         };
         let html = render_comparison(&page, &Limits::default());
         self.target().emit(|out| {

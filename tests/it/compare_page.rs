@@ -443,3 +443,29 @@ fn the_page_renders_in_headless_chromium() {
         best["metric_mean"].as_f64().unwrap()
     ));
 }
+
+/// With `--time-step` and `--time-unit` the Monte Carlo charts read time in the input's units:
+/// the demo's integer times read with a step of 0.5 become steps 0, 2, 4, ..., and the axis
+/// shows time = step x 0.5 again, titled with the unit; without the unit the title is "time".
+#[test]
+fn the_time_unit_titles_the_monte_carlo_axis() {
+    let dir = tempfile::tempdir().unwrap();
+    let titled = |extra: &[&str]| {
+        let (_, html) = json_and_page(dir.path(), extra);
+        let doc = parse(&html);
+        doc.descendants()
+            .filter(|n| n.attribute("class") == Some("axis-label"))
+            .filter_map(|n| n.text().map(str::to_string))
+            .filter(|t| t.starts_with("time") || t == "step")
+            .collect::<Vec<_>>()
+    };
+    let base = ["-c", "20", "--monte-carlo", "--time-step", "0.5"];
+    let with_unit = titled(&[&base[..], &["--time-unit", "s"]].concat());
+    assert_eq!(with_unit, ["time (s)"]);
+    assert_eq!(titled(&base), ["time"]);
+    // Without --page the unit has nowhere to go: a command-line error (exit 2).
+    let output = demo_compare(&["-c", "20", "--time-step", "0.5", "--time-unit", "s"])
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(2));
+}
