@@ -392,6 +392,13 @@ fn the_share_one_half_gives_the_bytes_of_the_run_without_it() {
     }
 }
 
+/// `command` on the demo's truth and its tracker with swaps, c = 20, with `extra` options.
+fn on_demo(command: &str, extra: &[&str]) -> Vec<u8> {
+    let (truth, swaps) = (demo("truth.csv"), demo("tracker-swaps.csv"));
+    let inputs = ["--truth", &truth, "--estimate", &swaps, "-c", "20"];
+    run(&[&[command], &inputs[..], extra].concat())
+}
+
 /// Object-steps of a CSV file: its rows after the header.
 fn object_steps(path: &str) -> f64 {
     (std::fs::read_to_string(path).unwrap().lines().count() - 1) as f64
@@ -405,23 +412,13 @@ fn score_moves_by_the_share_times_the_difference_in_object_steps() {
     let difference = object_steps(&truth) - object_steps(&swaps);
     assert!(difference != 0.0, "the demo's files differ in object-steps");
     for order in ["1", "2"] {
-        let args = [
+        let options = ["-p", order, "-f", "json"];
+        let standard: Value = serde_json::from_slice(&on_demo("score", &options)).unwrap();
+        let shared: Value = serde_json::from_slice(&on_demo(
             "score",
-            "--truth",
-            &truth,
-            "--estimate",
-            &swaps,
-            "-c",
-            "20",
-            "-p",
-            order,
-            "-f",
-            "json",
-        ];
-        let standard: Value = serde_json::from_slice(&run(&args)).unwrap();
-        let shared: Value =
-            serde_json::from_slice(&run(&[&args[..], &["--missed-share", "0.8"]].concat()))
-                .unwrap();
+            &[&options[..], &["--missed-share", "0.8"]].concat(),
+        ))
+        .unwrap();
         let cutoff_power = 20f64.powf(order.parse().unwrap());
         let expected = number(&standard, "total") + 0.3 * cutoff_power * difference;
         assert_relative_eq!(number(&shared, "total"), expected, max_relative = 1e-12);
@@ -445,22 +442,10 @@ fn score_moves_by_the_share_times_the_difference_in_object_steps() {
 #[test]
 fn text_outputs_name_the_share_and_the_two_costs() {
     // c = 20, p = 1, S = 0.8: a missed object-step costs 16 and a false one 4.
-    let (truth, swaps) = (demo("truth.csv"), demo("tracker-swaps.csv"));
     let line = "missed share S = 0.8: a missed object-step costs S c^p = 16, a false one \
                 (1 - S) c^p = 4";
     for command in ["score", "steps", "audit"] {
-        let args = [
-            command,
-            "--truth",
-            &truth,
-            "--estimate",
-            &swaps,
-            "-c",
-            "20",
-            "--missed-share",
-            "0.8",
-        ];
-        let text = String::from_utf8(run(&args)).unwrap();
+        let text = String::from_utf8(on_demo(command, &["--missed-share", "0.8"])).unwrap();
         assert_eq!(text.lines().nth(1), Some(line), "{command}");
     }
 }
