@@ -494,3 +494,21 @@ fn shares_outside_the_open_interval_are_refused() {
          0.7\n"
     );
 }
+
+#[test]
+fn the_comparison_page_names_a_share_and_keeps_its_bytes_at_one_half() {
+    let dir = tempfile::tempdir().unwrap();
+    let fragments = demo("tracker-fragments.csv");
+    let page = |name: &str, share: &[&str]| {
+        let path = dir.path().join(name);
+        let out = path.to_str().unwrap();
+        let extra = [&["--estimate", &fragments, "--page", out][..], share].concat();
+        on_demo("compare", &extra);
+        std::fs::read_to_string(&path).unwrap()
+    };
+    let without = page("without.html", &[]);
+    assert_eq!(page("half.html", &["--missed-share", "0.5"]), without);
+    assert!(!without.contains("issed share"));
+    let shared = page("shared.html", &["--missed-share", "0.8"]);
+    assert!(shared.contains("<p>Missed share S = 0.8: a missed object-step costs S c<sup>p</sup>"));
+}
