@@ -62,3 +62,18 @@ def test_a_share_with_alpha_other_than_two_is_refused():
     switchyard.steps(TRUTH, ESTIMATE, cutoff=20, alpha=1, missed_share=0.5)
     with pytest.raises(ValueError, match="needs alpha = 2"):
         switchyard.steps(TRUTH, ESTIMATE, cutoff=20, alpha=1, missed_share=0.7)
+
+
+def test_compare_keeps_the_share_of_the_scores():
+    # Scores at S = 0.8 are compared at S = 0.8: the setting says so (as `compare
+    # --missed-share 0.8` writes it) and each tracker's mean total is its own score's total.
+    scores = {t: switchyard.score(TRUTH, f"demo-data/tracker-{t}.csv", cutoff=20, missed_share=0.8)
+              for t in ("swaps", "fragments")}
+    got = switchyard.compare([(t, None, None, s) for t, s in scores.items()]).to_dict()
+    setting = got["settings"][0]
+    assert setting["missed_share"] == 0.8
+    for row in setting["trackers"]:
+        assert row["total_mean"] == scores[row["tracker"]].total
+    # Scores at the standard share keep the document without the key.
+    standard = switchyard.score(TRUTH, ESTIMATE, cutoff=20)
+    assert "missed_share" not in switchyard.compare([("swaps", None, None, standard)]).to_dict()["settings"][0]
