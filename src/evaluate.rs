@@ -65,7 +65,7 @@ impl Request {
     /// As [`GospaParams::new`] (not with parameters [`TrajectoryParams::new`] accepted).
     pub fn everything(params: TrajectoryParams, solve: SolveOptions) -> Result<Self> {
         Ok(Request {
-            steps: Some(GospaParams::new(params.cutoff, params.order, 2.0)?),
+            steps: Some(GospaParams::beside(&params)?),
             switches: true,
             jumps: true,
             audit: true,

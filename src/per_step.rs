@@ -18,6 +18,7 @@ use serde::Serialize;
 use crate::distance::{power, root, Distance, Gate};
 use crate::error::{Error, Result};
 use crate::trajectory::{Frames, Presence, Step, TrajectorySet, Window};
+use crate::trajectory_metric::{check_missed_share, is_even_share, TrajectoryParams, EVEN_SHARE};
 
 /// The parameters of GOSPA.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize)]
@@ -28,6 +29,11 @@ pub struct GospaParams {
     pub order: f64,
     /// alpha in (0, 2]; 2 gives the localisation, missed and false split.
     pub alpha: f64,
+    /// The share S in (0, 1) of c^p that a missed object costs; a false one costs the rest
+    /// ([`GospaParams::with_missed_share`], specs/missed-share.md). Not 1/2 only with alpha = 2;
+    /// written only when it is not 1/2.
+    #[serde(skip_serializing_if = "is_even_share")]
+    pub missed_share: f64,
 }
 
 impl GospaParams {
@@ -47,7 +53,50 @@ impl GospaParams {
             cutoff,
             order,
             alpha,
+            missed_share: EVEN_SHARE,
         })
+    }
+
+    /// The same parameters with a missed object costing `share` c^p and a false one
+    /// (1 - share) c^p at each step (1/2 each by default). The assignment at each step does not
+    /// change: GOSPA^p moves by (share - 1/2) c^p (truths - estimates present)
+    /// (specs/missed-share.md).
+    ///
+    /// # Errors
+    /// A share that is not a finite number strictly between 0 and 1, or one other than 1/2
+    /// with alpha other than 2 (the split into missed and false exists only for alpha = 2).
+    pub fn with_missed_share(self, share: f64) -> Result<Self> {
+        check_missed_share(share)?;
+        if self.alpha != 2.0 && !is_even_share(&share) {
+            return Err(Error::Parameter(format!(
+                "a missed share other than 0.5 needs alpha = 2 (only then does GOSPA split into \
+                 missed and false costs), got alpha {} with the share {share}",
+                self.alpha
+            )));
+        }
+        Ok(GospaParams {
+            missed_share: share,
+            ..self
+        })
+    }
+
+    /// Per-step GOSPA beside trajectory GOSPA: the same cut-off, order and missed share, with
+    /// alpha = 2.
+    ///
+    /// # Errors
+    /// As [`GospaParams::new`].
+    pub fn beside(params: &TrajectoryParams) -> Result<Self> {
+        GospaParams::new(params.cutoff, params.order, 2.0)?.with_missed_share(params.missed_share)
+    }
+
+    /// The cost of one missed object at one step (alpha = 2): S c^p (c^p / 2 by default).
+    pub fn missed_cost(&self) -> f64 {
+        self.missed_share * self.cutoff_power()
+    }
+
+    /// The cost of one false object at one step (alpha = 2): (1 - S) c^p (c^p / 2 by default).
+    pub fn false_cost(&self) -> f64 {
+        (1.0 - self.missed_share) * self.cutoff_power()
     }
 
     /// c^p.
@@ -89,9 +138,9 @@ pub struct SetScore {
     pub power: f64,
     /// Sum of d^p over assigned pairs (alpha = 2 only, else `None`).
     pub localization: Option<f64>,
-    /// (c^p / 2) x missed count (alpha = 2 only).
+    /// The missed cost (S c^p, c^p / 2 by default) x missed count (alpha = 2 only).
     pub missed: Option<f64>,
-    /// (c^p / 2) x false count (alpha = 2 only).
+    /// The false cost ((1 - S) c^p, c^p / 2 by default) x false count (alpha = 2 only).
     pub false_: Option<f64>,
     /// Truth points not assigned.
     pub missed_count: usize,
@@ -162,8 +211,11 @@ impl Workspace {
         let missed_count = m - assigned;
         let false_count = n - assigned;
         let (power, parts) = if params.alpha == 2.0 {
-            let missed = cp / 2.0 * missed_count as f64;
-            let false_ = cp / 2.0 * false_count as f64;
+            // The assignment above does not depend on the missed share: with it, the missed
+            // and false costs differ from c^p / 2 by opposite amounts, so GOSPA^p moves by
+            // (S - 1/2) c^p (m - n) whatever is assigned (specs/missed-share.md).
+            let missed = params.missed_cost() * missed_count as f64;
+            let false_ = params.false_cost() * false_count as f64;
             (localization + missed + false_, Some((missed, false_)))
         } else {
             let value = cp * m.min(n) as f64 + cp / params.alpha * m.abs_diff(n) as f64 + gain;

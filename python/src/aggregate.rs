@@ -30,14 +30,14 @@ pub type ScoreTuple = (
     usize,
 );
 
-/// Everything the aggregation needs: the settings `(cut-off, order, switching penalty)`, the
-/// trackers and the cases `(sequence, run)` (in any order: sorted here as `compare` sorts them),
-/// `scores[setting][tracker][case]`, and the options. Read from a dict whose keys are the field
+/// Everything the aggregation needs: the settings `(cut-off, order, switching penalty, missed
+/// share)`, the trackers and the cases `(sequence, run)` (in any order: sorted here as `compare`
+/// sorts them), `scores[setting][tracker][case]`, and the options. Read from a dict whose keys are the field
 /// names.
 #[derive(FromPyObject)]
 #[pyo3(from_item_all)]
 pub struct Scores {
-    pub settings: Vec<(f64, f64, f64)>,
+    pub settings: Vec<(f64, f64, f64, f64)>,
     pub trackers: Vec<String>,
     pub cases: Vec<(String, String)>,
     pub scores: Vec<Vec<Vec<ScoreTuple>>>,
@@ -123,7 +123,9 @@ pub fn comparison_document(input: Scores) -> Result<String> {
     let settings = input
         .settings
         .iter()
-        .map(|&(cutoff, order, penalty)| TrajectoryParams::new(cutoff, order, penalty))
+        .map(|&(cutoff, order, penalty, share)| {
+            TrajectoryParams::new(cutoff, order, penalty)?.with_missed_share(share)
+        })
         .collect::<Result<_>>()?;
     let keys = input
         .cases

@@ -135,6 +135,7 @@ struct Options {
     order: f64,
     switch_penalty: Option<f64>,
     alpha: f64,
+    missed_share: f64,
     engine: String,
     exact: bool,
     exact_seconds: Option<f64>,
@@ -492,7 +493,8 @@ fn run_command(
 ) -> switchyard::Result<(String, Vec<String>)> {
     let (ospa2, width) = ospa2_options(options)?;
     let request = if command == "steps" {
-        let params = GospaParams::new(options.cutoff, options.order, options.alpha)?;
+        let params = GospaParams::new(options.cutoff, options.order, options.alpha)?
+            .with_missed_share(options.missed_share)?;
         Request {
             ospa2,
             ospa2_window: ospa2.map(|_| width),
@@ -512,7 +514,8 @@ fn run_command(
             options.cutoff,
             options.order,
             options.switch_penalty.unwrap_or(options.cutoff),
-        )?;
+        )?
+        .with_missed_share(options.missed_share)?;
         // The command line's own evaluation: the LP once, the events and the audit read from it.
         Request {
             trajectory: Some(params),

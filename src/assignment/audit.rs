@@ -15,8 +15,9 @@
 //! localisation of its pairs (Σ weight x d^p over its close steps), its missed part (c^p / 2 per
 //! present step times the weight not assigned) and the switching of its pairs (gamma^p / 2 per
 //! unit of weight change of each of its pairs); a track carries its false part (c^p / 2 per
-//! present step times the weight not assigned). The truths' costs and the tracks' false costs add
-//! up to the total; each object's share is its cost over the total.
+//! present step times the weight not assigned). With a missed share S (specs/missed-share.md)
+//! the missed part is S c^p and the false part (1 - S) c^p per step. The truths' costs and the
+//! tracks' false costs add up to the total; each object's share is its cost over the total.
 
 use serde::Serialize;
 
@@ -57,7 +58,8 @@ pub struct TruthCosts {
     /// Σ weight x d^p over its pairs' close steps.
     #[serde(rename = "localisation")]
     pub localization: f64,
-    /// c^p / 2 per present step, times the weight not assigned there.
+    /// The missed cost (c^p / 2, or S c^p with a missed share S) per present step, times the
+    /// weight not assigned there.
     pub missed: f64,
     /// gamma^p / 2 per unit of weight change of its pairs.
     pub switching: f64,
@@ -71,7 +73,8 @@ pub struct TruthCosts {
 /// the truths' costs, given for information).
 #[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
 pub struct TrackCosts {
-    /// c^p / 2 per present step, times the weight not assigned there: its cost.
+    /// The false cost (c^p / 2, or (1 - S) c^p with a missed share S) per present step, times
+    /// the weight not assigned there: its cost.
     #[serde(rename = "false")]
     pub false_: f64,
     /// `false` over the scene's total (0 when that is 0).
@@ -372,7 +375,8 @@ fn costs(
     truth: &TrajectorySet,
     estimate: &TrajectorySet,
 ) -> (Vec<TruthCosts>, Vec<TrackCosts>) {
-    let half = score.params.cutoff_power() / 2.0;
+    let missed_cost = score.params.missed_cost();
+    let false_cost = score.params.false_cost();
     let switch_cost = score.params.switch_cost();
     let mut truths = vec![TruthCosts::default(); truth.len()];
     let mut tracks = vec![TrackCosts::default(); estimate.len()];
@@ -400,12 +404,12 @@ fn costs(
         }
     };
     for (i, costs) in truths.iter_mut().enumerate() {
-        costs.missed = half * (truth.get(i).len() as f64 - truth_assigned[i]).max(0.0);
+        costs.missed = missed_cost * (truth.get(i).len() as f64 - truth_assigned[i]).max(0.0);
         costs.total = costs.localization + costs.missed + costs.switching;
         costs.share = share(costs.total);
     }
     for (j, costs) in tracks.iter_mut().enumerate() {
-        costs.false_ = half * (estimate.get(j).len() as f64 - track_assigned[j]).max(0.0);
+        costs.false_ = false_cost * (estimate.get(j).len() as f64 - track_assigned[j]).max(0.0);
         costs.share = share(costs.false_);
     }
     (truths, tracks)

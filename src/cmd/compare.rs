@@ -21,7 +21,7 @@ use switchyard::Error;
 
 use super::compare_page::PageArgs;
 use super::config::check_trackers;
-use super::options::{parse_size, CsvOptions, DistanceOptions, EngineKind, NamedFile};
+use super::options::{parse_size, CsvOptions, DistanceOptions, EngineKind, NamedFile, ShareArgs};
 use super::output::{Format, OutputArgs};
 use super::progress::evaluations_bar;
 
@@ -110,6 +110,8 @@ pub struct CompareArgs {
     /// Memory each case's solve may use for its models, like `4G` (see `score --help`).
     #[arg(long, value_name = "SIZE", default_value = "4G", value_parser = parse_size)]
     memory_budget: u64,
+    #[command(flatten)]
+    share: ShareArgs,
     /// Also rank the trackers within each sequence.
     #[arg(long)]
     per_sequence: bool,
@@ -316,7 +318,10 @@ pub fn run(args: &CompareArgs) -> anyhow::Result<()> {
         )
         .into());
     }
-    let settings = settings_grid(&args.cutoff, &args.order, args.switch_penalty.as_deref())?;
+    let settings = settings_grid(&args.cutoff, &args.order, args.switch_penalty.as_deref())?
+        .into_iter()
+        .map(|s| s.with_missed_share(args.share.missed_share))
+        .collect::<Result<Vec<_>, Error>>()?;
     let bootstrap = BootstrapOptions {
         resamples: args.bootstrap_resamples,
         seed: args.seed,

@@ -268,7 +268,8 @@ impl MetricArgs {
             self.cutoff,
             self.order,
             self.switch_penalty.unwrap_or(self.cutoff),
-        )
+        )?
+        .with_missed_share(self.share.missed_share)
     }
 
     /// The exact-metric budget, when `--exact` is given.

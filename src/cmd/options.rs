@@ -211,6 +211,23 @@ pub struct MetricArgs {
     /// [default: no limit]
     #[arg(long, value_name = "BUDGET", requires = "exact", value_parser = parse_budget)]
     pub exact_budget: Option<ExactBudget>,
+    #[command(flatten)]
+    pub share: ShareArgs,
+}
+
+/// How the cost of an object left unassigned splits between missed and false objects: one
+/// option for every command that scores.
+#[derive(Args, Debug, Clone, Copy)]
+pub struct ShareArgs {
+    /// The share S of c^p that a missed object-step costs, strictly between 0 and 1; a false
+    /// object-step costs the rest, (1 - S) c^p, and an assigned pair min(d, c)^p as before.
+    /// Above 0.5 a missed object costs more than a false one. The best assignments do not
+    /// change; the score moves by (S - 0.5) c^p (truth - estimate object-steps). Different
+    /// missed and false costs were published by García-Fernández et al. (arXiv:2507.13706);
+    /// this is our own construction of that capability, not checked against their definitions
+    /// (specs/missed-share.md).
+    #[arg(long, value_name = "S", default_value_t = 0.5)]
+    pub missed_share: f64,
 }
 
 /// Reads `--exact-budget`: `<seconds>s` or `<count>nodes`.

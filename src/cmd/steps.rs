@@ -12,7 +12,7 @@ use switchyard::report::steps::{self, Ospa2Steps};
 
 use super::by_class::{self, Part};
 use super::config::evaluate_inputs;
-use super::options::InputArgs;
+use super::options::{InputArgs, ShareArgs};
 use super::output::{Format, OutputArgs};
 
 /// Options of `steps`.
@@ -29,6 +29,8 @@ pub struct StepsArgs {
     /// alpha in (0, 2]; the parts are given only for 2.
     #[arg(long, value_name = "A", default_value_t = 2.0)]
     alpha: f64,
+    #[command(flatten)]
+    share: ShareArgs,
     /// Output format.
     #[arg(long, short = 'f', value_enum, default_value_t = Format::Text)]
     format: Format,
@@ -47,7 +49,8 @@ pub struct StepsArgs {
 
 pub fn run(args: &StepsArgs) -> anyhow::Result<()> {
     args.output.check(args.input.paths())?;
-    let params = GospaParams::new(args.cutoff, args.order, args.alpha)?;
+    let params = GospaParams::new(args.cutoff, args.order, args.alpha)?
+        .with_missed_share(args.share.missed_share)?;
     let ospa2 = if args.ospa2 {
         if args.input.class_column.is_some() {
             anyhow::bail!(

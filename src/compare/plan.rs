@@ -348,7 +348,7 @@ fn step_params(settings: &[TrajectoryParams]) -> Result<Vec<GospaParams>> {
             .iter()
             .any(|g| g.cutoff == s.cutoff && g.order == s.order)
         {
-            result.push(GospaParams::new(s.cutoff, s.order, 2.0)?);
+            result.push(GospaParams::beside(s)?);
         }
     }
     Ok(result)

@@ -14,7 +14,7 @@ use crate::compare::{
     TrackerResult, Verdict,
 };
 use crate::per_step::Stretch;
-use crate::trajectory_metric::TrajectoryParams;
+use crate::trajectory_metric::{is_even_share, TrajectoryParams};
 
 /// A tracker and where its estimates came from.
 #[derive(Clone, Debug, Serialize)]
@@ -101,12 +101,21 @@ pub fn verdict_statement(against: &str, verdict: Verdict, by: ResampleBy) -> Str
 }
 
 fn settings_line(p: &TrajectoryParams) -> String {
-    format!(
+    let mut line = format!(
         "cut-off c = {}   order p = {}   switching penalty gamma = {}",
         param(p.cutoff),
         param(p.order),
         param(p.switch_penalty)
-    )
+    );
+    if !is_even_share(&p.missed_share) {
+        line.push_str(&format!(
+            "   missed share S = {} (a missed object-step costs {}, a false one {})",
+            param(p.missed_share),
+            super::cost_param(p.missed_cost()),
+            super::cost_param(p.false_cost())
+        ));
+    }
+    line
 }
 
 /// Counts for one column of a text table, formatted one way: whole numbers when every count
@@ -920,6 +929,8 @@ struct SettingDocument<'a> {
     cutoff: f64,
     order: f64,
     switch_penalty: f64,
+    #[serde(skip_serializing_if = "is_even_share")]
+    missed_share: f64,
     ranking: String,
     trackers: Vec<RowDocument<'a>>,
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -1012,6 +1023,7 @@ pub fn write_json<W: Write>(
                 cutoff: s.params.cutoff,
                 order: s.params.order,
                 switch_penalty: s.params.switch_penalty,
+                missed_share: s.params.missed_share,
                 ranking: ranking_line(s),
                 trackers: rows(&s.trackers),
                 sequences: sections.per_sequence.then(|| {

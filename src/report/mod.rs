@@ -124,7 +124,41 @@ pub fn write_run_header<W: std::io::Write>(
         param(params.switch_penalty),
         inputs.distance
     )?;
+    write_share_line(
+        out,
+        params.missed_share,
+        params.missed_cost(),
+        params.false_cost(),
+    )?;
     write!(out, "{}", inputs.lines("truth     ", "estimate  "))
+}
+
+/// The line that tells a missed share other than 1/2 and the two costs it gives (nothing for
+/// 1/2, so that standard outputs keep their bytes): shared by every text output with
+/// parameters.
+pub fn write_share_line<W: std::io::Write>(
+    out: &mut W,
+    share: f64,
+    missed_cost: f64,
+    false_cost: f64,
+) -> std::io::Result<()> {
+    if crate::trajectory_metric::is_even_share(&share) {
+        return Ok(());
+    }
+    writeln!(
+        out,
+        "missed share S = {}: a missed object-step costs S c^p = {}, a false one (1 - S) c^p = {}",
+        param(share),
+        cost_param(missed_cost),
+        cost_param(false_cost)
+    )
+}
+
+/// A cost made from a parameter, for text: rounded to 12 significant digits first, so that
+/// (1 - 0.8) x 2 reads 0.4 and not 0.3999999999999999.
+pub fn cost_param(value: f64) -> String {
+    let rounded: f64 = format!("{value:.11e}").parse().unwrap_or(value);
+    param(rounded)
 }
 
 /// A parameter for text: plain decimals for ordinary magnitudes, scientific notation (`1e300`,

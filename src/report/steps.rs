@@ -406,6 +406,12 @@ pub fn write_text_with<W: Write>(
         param(params.alpha),
         inputs.distance
     )?;
+    super::write_share_line(
+        out,
+        params.missed_share,
+        params.missed_cost(),
+        params.false_cost(),
+    )?;
     if let Some(o) = ospa2 {
         writeln!(
             out,

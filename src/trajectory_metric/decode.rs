@@ -240,3 +240,50 @@ pub(super) fn finish(
         assignment,
     }
 }
+
+/// Prices the missed and false object-steps of a score solved with the standard costs (c^p / 2
+/// each) at the parameters' costs, S c^p and (1 - S) c^p: the parts, the total and every bound
+/// move by the same constant, (S - 1/2) c^p (truth - estimate object-steps), because every unit
+/// of pair weight removes one missed and one false object-step (specs/missed-share.md). Done last,
+/// so that the engines and their checks work in the standard units. Unchanged for S = 1/2.
+pub(super) fn with_missed_share(
+    mut score: TrajectoryScore,
+    params: &TrajectoryParams,
+) -> TrajectoryScore {
+    if super::is_even_share(&params.missed_share) {
+        return score;
+    }
+    let old_total = score.total;
+    score.parts.missed = params.missed_cost() * score.parts.missed_count;
+    score.parts.false_ = params.false_cost() * score.parts.false_count;
+    let total = score.parts.sum();
+    let shift = total - old_total;
+    // A value equal to the total stays equal to it; a bound moves with it and stays within
+    // [0, total] (d^p is never negative).
+    let moved = |value: f64| {
+        if value == old_total {
+            total
+        } else {
+            (value + shift).max(0.0)
+        }
+    };
+    score.total = total;
+    score.metric = root(total, params.order);
+    score.per_step = if score.steps == 0 {
+        0.0
+    } else {
+        root(total / score.steps as f64, params.order)
+    };
+    score.lp_objective += shift;
+    score.lp_total = moved(score.lp_total);
+    score.exact_total = score.exact_total.map(moved);
+    let certificate = &mut score.certificate;
+    certificate.upper = moved(certificate.upper);
+    certificate.lower = moved(certificate.lower).min(certificate.upper);
+    certificate.gap = Certificate::relative_gap(certificate.lower, certificate.upper);
+    if let Some(exact) = &mut score.exact {
+        exact.upper = moved(exact.upper);
+        exact.lower = moved(exact.lower).min(exact.upper);
+    }
+    score
+}

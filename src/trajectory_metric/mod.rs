@@ -39,7 +39,7 @@ use rayon::prelude::*;
 use serde::Serialize;
 
 use self::component::{solve_component, solve_fractional, ComponentSolution};
-use self::decode::{certify, finish, with_exact};
+use self::decode::{certify, finish, with_exact, with_missed_share};
 pub use self::exact::ExactBudget;
 use self::model::Reduction;
 use self::pairs::{candidate_pairs, components, CandidatePair};
@@ -68,6 +68,31 @@ pub struct TrajectoryParams {
     pub order: f64,
     /// Switching penalty gamma >= 0: a full switch costs gamma^p, a half switch gamma^p / 2.
     pub switch_penalty: f64,
+    /// The share S in (0, 1) of c^p that a missed object-step costs; a false one costs the
+    /// rest, (1 - S) c^p ([`TrajectoryParams::with_missed_share`], specs/missed-share.md).
+    /// Written only when it is not 1/2, so that standard outputs keep their keys.
+    #[serde(skip_serializing_if = "is_even_share")]
+    pub missed_share: f64,
+}
+
+/// The default share of c^p a missed object-step costs: 1/2, as in GOSPA and trajectory GOSPA.
+pub const EVEN_SHARE: f64 = 0.5;
+
+/// Whether a missed share is the standard 1/2 (then it is not written).
+pub(crate) fn is_even_share(share: &f64) -> bool {
+    *share == EVEN_SHARE
+}
+
+/// Checks a missed share: a finite number strictly between 0 and 1.
+pub(crate) fn check_missed_share(share: f64) -> Result<()> {
+    if share.is_finite() && share > 0.0 && share < 1.0 {
+        Ok(())
+    } else {
+        Err(Error::Parameter(format!(
+            "the missed share must be a number strictly between 0 and 1 (a missed object-step \
+             costs that share of c^p, a false one the rest), got {share}"
+        )))
+    }
 }
 
 impl TrajectoryParams {
@@ -98,7 +123,33 @@ impl TrajectoryParams {
             cutoff,
             order,
             switch_penalty,
+            missed_share: EVEN_SHARE,
         })
+    }
+
+    /// The same parameters with a missed object-step costing `share` c^p and a false one
+    /// (1 - share) c^p (1/2 each by default). The best assignments do not change: the score
+    /// moves by the constant (share - 1/2) c^p (truth object-steps - estimate object-steps)
+    /// (specs/missed-share.md).
+    ///
+    /// # Errors
+    /// A share that is not a finite number strictly between 0 and 1.
+    pub fn with_missed_share(self, share: f64) -> Result<Self> {
+        check_missed_share(share)?;
+        Ok(TrajectoryParams {
+            missed_share: share,
+            ..self
+        })
+    }
+
+    /// The cost of one missed object-step: S c^p (c^p / 2 by default).
+    pub fn missed_cost(&self) -> f64 {
+        self.missed_share * self.cutoff_power()
+    }
+
+    /// The cost of one false object-step: (1 - S) c^p (c^p / 2 by default).
+    pub fn false_cost(&self) -> f64 {
+        (1.0 - self.missed_share) * self.cutoff_power()
     }
 
     /// c^p.
@@ -229,7 +280,8 @@ pub fn score_with_progress(
     let Some(window) = window else {
         let empty = finish(params, None, Vec::new(), 0.0, SolveStats::default(), 0, 0);
         let empty = certify(empty, &[], 0.0);
-        return Ok(with_exact(empty, Vec::new(), options, params, (0, 0)));
+        let empty = with_exact(empty, Vec::new(), options, params, (0, 0));
+        return Ok(with_missed_share(empty, params));
     };
     let started = Instant::now();
     check_pair_budget(
@@ -353,7 +405,7 @@ pub fn score_with_progress(
         };
         checks::check_integral(&score, &bounds)?;
     }
-    Ok(score)
+    Ok(with_missed_share(score, params))
 }
 
 /// Refuses, before they are built, candidate pairs that could not fit the memory budget. When

@@ -11,6 +11,7 @@ mod exact;
 mod lagrangian;
 mod messages;
 mod metric_cases;
+mod missed_share;
 mod numerics;
 mod ospa2;
 mod output_safety;

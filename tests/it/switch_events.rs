@@ -19,13 +19,22 @@ use switchyard::trajectory_metric::{score, TrajectoryParams, TrajectoryScore};
 use crate::support::{line, lines, random_set, seeded};
 
 fn solve(x: &TrajectorySet, y: &TrajectorySet, c: f64, gamma: f64) -> TrajectoryScore {
-    score(
-        x,
-        y,
-        &TrajectoryParams::new(c, 1.0, gamma).unwrap(),
-        &Distance::default(),
-    )
-    .unwrap()
+    solve_shared(x, y, c, gamma, 0.5)
+}
+
+/// As [`solve`], with a missed object-step costing `share` c^p and a false one the rest.
+fn solve_shared(
+    x: &TrajectorySet,
+    y: &TrajectorySet,
+    c: f64,
+    gamma: f64,
+    share: f64,
+) -> TrajectoryScore {
+    let params = TrajectoryParams::new(c, 1.0, gamma)
+        .unwrap()
+        .with_missed_share(share)
+        .unwrap();
+    score(x, y, &params, &Distance::default()).unwrap()
 }
 
 fn events(
@@ -245,8 +254,11 @@ proptest! {
         y in random_set("e", 6, 12, 1),
         c in prop::sample::select(vec![1.0, 2.0, 3.0]),
         gamma in prop::sample::select(vec![0.5, 1.0, 2.0, 4.0]),
+        share in prop::sample::select(vec![0.5, 0.5, 0.2, 0.8]),
     ) {
-        let s = solve(&x, &y, c, gamma);
+        // Half the cases at the standard share 1/2, half with missed and false object-steps
+        // at different costs (specs/missed-share.md): the audit's costs must add up either way.
+        let s = solve_shared(&x, &y, c, gamma, share);
         let (switches, jumps) = events(&x, &y, &s);
         let truth_side: f64 = switches.iter().map(|e| e.cost).sum();
         let track_side: f64 = jumps.iter().map(|e| e.cost).sum();

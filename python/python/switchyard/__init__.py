@@ -74,6 +74,7 @@ def _options(
     order: float = 1.0,
     switch_penalty: Optional[float] = None,
     alpha: float = 2.0,
+    missed_share: float = 0.5,
     engine: str = "auto",
     exact: bool = False,
     exact_seconds: Optional[float] = None,
@@ -109,6 +110,7 @@ def _options(
         "order": float(order),
         "switch_penalty": None if switch_penalty is None else float(switch_penalty),
         "alpha": float(alpha),
+        "missed_share": float(missed_share),
         "engine": engine,
         "exact": bool(exact),
         "exact_seconds": None if exact_seconds is None else float(exact_seconds),
@@ -175,7 +177,10 @@ _COMMON = """
 
 _METRIC = """
     Metric: cut-off ``cutoff`` > 0, order ``order`` >= 1, switching penalty ``switch_penalty``
-    >= 0 (default: the cut-off). ``engine`` is ``"auto"`` (the Lagrangian engine, as on the
+    >= 0 (default: the cut-off). ``missed_share`` S in (0, 1) (default 0.5): a missed
+    object-step costs S c^p and a false one (1 - S) c^p (``--missed-share``,
+    specs/missed-share.md; our own construction, not checked against the paper that published
+    different missed and false costs, arXiv:2507.13706). ``engine`` is ``"auto"`` (the Lagrangian engine, as on the
     command line), ``"lagrangian"``, ``"microlp"`` or ``"highs"`` (a build with HiGHS).
     ``exact=True`` computes the exact (integral) metric, within ``exact_seconds`` or
     ``exact_nodes`` (branch-and-bound nodes per group) if given. ``memory_budget`` is in bytes
@@ -190,6 +195,7 @@ def score(
     cutoff: float,
     order: float = 1.0,
     switch_penalty: Optional[float] = None,
+    missed_share: float = 0.5,
     engine: str = "auto",
     exact: bool = False,
     exact_seconds: Optional[float] = None,
@@ -219,6 +225,7 @@ def switches(
     cutoff: float,
     order: float = 1.0,
     switch_penalty: Optional[float] = None,
+    missed_share: float = 0.5,
     engine: str = "auto",
     exact: bool = False,
     exact_seconds: Optional[float] = None,
@@ -247,6 +254,7 @@ def audit(
     cutoff: float,
     order: float = 1.0,
     switch_penalty: Optional[float] = None,
+    missed_share: float = 0.5,
     top: Optional[int] = None,
     engine: str = "auto",
     exact: bool = False,
@@ -278,6 +286,7 @@ def steps(
     cutoff: float,
     order: float = 1.0,
     alpha: float = 2.0,
+    missed_share: float = 0.5,
     distance: str = "euclidean",
     weights: Optional[Sequence[float]] = None,
     box_layout: Optional[str] = None,
@@ -334,7 +343,9 @@ steps.__doc__ = (
     """Per-step GOSPA of ``estimate`` against ``truth``: ``switchyard steps``.
 
     Cut-off ``cutoff`` > 0, order ``order`` >= 1, ``alpha`` in (0, 2] (the parts are given only
-    for 2). Returns a ``Steps``: ``table`` (one row per step of the window), ``summary``, and
+    for 2), ``missed_share`` S in (0, 1) (default 0.5; other values only with alpha 2): a
+    missed object costs S c^p at a step and a false one (1 - S) c^p (``--missed-share``).
+    Returns a ``Steps``: ``table`` (one row per step of the window), ``summary``, and
     ``to_dict()``, the document of ``switchyard steps --format json``.
 
     ``ospa2=True`` (``steps --ospa2``) adds to each step OSPA(2) (Beard, Vo, Vo, IEEE TSP 68,

@@ -134,7 +134,7 @@ def compare(
     Raises ``ValueError`` for missing or repeated scores, scores of different distances or
     engines, or bad options.
     """
-    settings: List[Tuple[float, float, float]] = []
+    settings: List[Tuple[float, float, float, float]] = []
     trackers: List[str] = []
     cases: List[Tuple[str, str]] = []
     found: Dict[Tuple[int, int, int], Tuple[Any, ...]] = {}
@@ -143,7 +143,8 @@ def compare(
         if not isinstance(score, Score):
             raise TypeError(f"expected a switchyard.Score for tracker {tracker!r}, got {type(score).__name__}")
         params = score.params
-        setting = (params["cutoff"], params["order"], params["switch_penalty"])
+        # The missed share is written only when it is not 0.5 (specs/missed-share.md).
+        setting = (params["cutoff"], params["order"], params["switch_penalty"], params.get("missed_share", 0.5))
         case = (_key(sequence), _key(run))
         for values, item in ((settings, setting), (trackers, str(tracker)), (cases, case)):
             if item not in values:

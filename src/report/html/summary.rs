@@ -100,6 +100,18 @@ pub(super) fn section(out: &mut String, report: &Report) {
                 params.switch_penalty
             ),
         );
+        if !crate::trajectory_metric::is_even_share(&params.missed_share) {
+            item(
+                "missed share S",
+                format!(
+                    "{} — a missed object-step costs S c<sup>p</sup> = {}, a false one \
+                     (1 − S) c<sup>p</sup> = {}",
+                    params.missed_share,
+                    crate::report::cost_param(params.missed_cost()),
+                    crate::report::cost_param(params.false_cost())
+                ),
+            );
+        }
     } else {
         item(
             "parameters",

@@ -70,14 +70,22 @@ pub(crate) fn exact(value: f64) -> String {
     format!("{value}")
 }
 
-/// `c = 10, p = 1, γ = 10` for people.
+/// `c = 10, p = 1, γ = 10` for people, with `, missed share S = 0.8` when the share is not 1/2
+/// (specs/missed-share.md).
 pub(crate) fn setting_words(params: &TrajectoryParams) -> String {
-    format!(
+    let mut words = format!(
         "c = {}, p = {}, γ = {}",
         exact(params.cutoff),
         exact(params.order),
         exact(params.switch_penalty)
-    )
+    );
+    if !crate::trajectory_metric::is_even_share(&params.missed_share) {
+        words.push_str(&format!(
+            ", missed share S = {}",
+            exact(params.missed_share)
+        ));
+    }
+    words
 }
 
 /// The `data-` attributes naming a setting.
@@ -146,6 +154,18 @@ fn header(out: &mut String, page: &ComparisonPage, has_sweep: bool, has_runs: bo
         super::plural(trackers),
         super::plural(settings),
     );
+    // One missed share serves every setting (`compare --missed-share`).
+    if let Some(first) = comparison.settings.first() {
+        let share = first.params.missed_share;
+        if !crate::trajectory_metric::is_even_share(&share) {
+            let _ = writeln!(
+                out,
+                "<p>Missed share S = {}: a missed object-step costs S c<sup>p</sup>, a false one \
+                 (1 − S) c<sup>p</sup>.</p>",
+                exact(share)
+            );
+        }
+    }
     out.push_str("<nav aria-label=\"Contents\"><ol>\n<li><a href=\"#ranking\">Ranking</a></li>\n");
     if has_sweep {
         out.push_str("<li><a href=\"#sweep\">Across settings</a></li>\n");
