@@ -520,7 +520,12 @@ fn write_cases_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::
             .map(|c| {
                 let mut row = vec![shown(&c.sequence), shown(&c.run)];
                 if let Some(class) = &c.class {
-                    row.push(class.name().unwrap_or(ALL_CLASSES_TEXT).to_string());
+                    row.push(match class.name() {
+                        // A class may be named like the marker: it is then quoted.
+                        Some(ALL_CLASSES_TEXT) => format!("\"{ALL_CLASSES_TEXT}\""),
+                        Some(name) => name.to_string(),
+                        None => ALL_CLASSES_TEXT.to_string(),
+                    });
                 }
                 row.extend([
                     c.tracker.clone(),
@@ -544,7 +549,7 @@ fn write_cases_text<W: Write>(out: &mut W, comparison: &Comparison) -> std::io::
 }
 
 /// The class of the case rows for all classes together, in text (CSV leaves it empty, JSON
-/// writes null).
+/// writes null); a class of that name is written in double quotes.
 const ALL_CLASSES_TEXT: &str = "(all)";
 
 /// A group value for text: `-` when empty.

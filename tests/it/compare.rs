@@ -1740,3 +1740,42 @@ fn a_track_whose_label_flips_is_cut_by_class() {
         "{note}"
     );
 }
+
+/// A class named like the text's all-classes marker `(all)` is quoted on its case rows, so the
+/// two rows stay apart. One truth at x = 0 and one track at x = 0.5 for 2 steps, c = 2, p = 1:
+/// d = 2 x 0.5 = 1 (trajectory GOSPA by hand), for the class and for all classes alike.
+#[test]
+fn a_class_named_like_the_marker_is_quoted_in_text() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = dir.path().join("t.csv");
+    let estimate = dir.path().join("e.csv");
+    std::fs::write(&truth, "time,id,x,y,kind\n1,a,0,0,(all)\n2,a,0,0,(all)\n").unwrap();
+    std::fs::write(
+        &estimate,
+        "time,id,x,y,kind\n1,p,0.5,0,(all)\n2,p,0.5,0,(all)\n",
+    )
+    .unwrap();
+    let output = switchyard()
+        .args(["compare", "--truth"])
+        .arg(&truth)
+        .arg("--estimate")
+        .arg(format!("one={}", estimate.display()))
+        .args(["-c", "2", "--class-column", "kind", "--per-case"])
+        .output()
+        .unwrap();
+    assert!(output.status.success());
+    let text = String::from_utf8(output.stdout).unwrap();
+    let rows: Vec<Vec<&str>> = text
+        .lines()
+        .skip_while(|l| !l.starts_with("Case scores"))
+        .filter(|l| l.trim_start().starts_with('-'))
+        .map(|l| l.split_whitespace().collect())
+        .collect();
+    assert_eq!(
+        rows,
+        [
+            ["-", "-", "\"(all)\"", "one", "2", "1.0000", "0.5000"],
+            ["-", "-", "(all)", "one", "2", "1.0000", "0.5000"]
+        ]
+    );
+}

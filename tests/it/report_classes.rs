@@ -153,6 +153,43 @@ fn classes_by_hand() {
     assert!(page.contains("<dt>classes</dt><dd>car, pedestrian — "));
 }
 
+/// A class may be named like the table's total row: the by-hand scene above with the car's
+/// class called "all classes" still gives that class its own d (2, as above) and the total its
+/// own (4.6), each on its own row.
+#[test]
+fn a_class_named_like_the_total_keeps_its_own_row() {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = dir.path().join("t.csv");
+    let estimate = dir.path().join("e.csv");
+    std::fs::write(
+        &truth,
+        "time,id,x,y,kind\n1,car,0,0,all classes\n2,car,0,0,all classes\n\
+         1,walker,10,0,pedestrian\n2,walker,10,0,pedestrian\n",
+    )
+    .unwrap();
+    std::fs::write(
+        &estimate,
+        "time,id,x,y,kind\n1,p,0,0,pedestrian\n2,p,0,0,pedestrian\n1,q,10.3,0,pedestrian\n\
+         2,q,10.3,0,pedestrian\n",
+    )
+    .unwrap();
+    let page = report(&[
+        "--truth",
+        truth.to_str().unwrap(),
+        "--estimate",
+        &format!("one={}", estimate.display()),
+        "-c",
+        "2",
+        "--class-column",
+        "kind",
+    ]);
+    let doc = parse(&page);
+    let root = doc.root_element();
+    close(cell(root, 0, "all classes", "metric"), 2.0, "class d");
+    close(cell(root, 0, "pedestrian", "metric"), 2.6, "pedestrian d");
+    close(cell(root, 0, "", "metric"), 4.6, "all classes together");
+}
+
 /// The demo data with a class per row: `north` above y = 300 m, `south` below, so that labels
 /// flip as boats cross the middle (tracks are cut into pieces).
 fn classed_demo(dir: &Path, name: &str) -> PathBuf {

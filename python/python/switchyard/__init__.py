@@ -180,8 +180,9 @@ _METRIC = """
     >= 0 (default: the cut-off). ``missed_share`` S in (0, 1) (default 0.5): a missed
     object-step costs S c^p and a false one (1 - S) c^p (``--missed-share``,
     specs/missed-share.md; our own construction, not checked against the paper that published
-    different missed and false costs, arXiv:2507.13706). ``engine`` is ``"auto"`` (the Lagrangian engine, as on the
-    command line), ``"lagrangian"``, ``"microlp"`` or ``"highs"`` (a build with HiGHS).
+    different missed and false costs, arXiv:2507.13706). ``engine`` is ``"auto"`` (the
+    Lagrangian engine, as on the command line), ``"lagrangian"``, ``"microlp"`` or ``"highs"``
+    (a build with HiGHS).
     ``exact=True`` computes the exact (integral) metric, within ``exact_seconds`` or
     ``exact_nodes`` (branch-and-bound nodes per group) if given. ``memory_budget`` is in bytes
     (default: the command line's 4 GiB).

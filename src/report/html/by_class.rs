@@ -69,17 +69,14 @@ pub(super) fn table(
     }
     out.push_str("</tr></thead>\n<tbody>\n");
     let compare = report.trackers.len() > 1;
-    let all = "all classes".to_string();
-    for class in names.iter().chain([&all]) {
+    // `None` is all classes together: a class may have any name, "all classes" included.
+    for class in names.iter().map(Some).chain([None]) {
         let scores: Vec<Option<&TrajectoryScore>> = report
             .trackers
             .iter()
-            .map(|t| {
-                if class == &all {
-                    Some(&t.score)
-                } else {
-                    score_in(t, class)
-                }
+            .map(|t| match class {
+                Some(class) => score_in(t, class),
+                None => Some(&t.score),
             })
             .collect();
         let rows: [TableRow; 5] = [
@@ -116,25 +113,24 @@ pub(super) fn table(
                 out,
                 "<tr class=\"class-row{}\" data-class=\"{}\" data-key=\"{key}\">",
                 if k == 0 { " group" } else { "" },
-                esc(if class == &all { "" } else { class })
+                esc(class.map_or("", String::as_str))
             );
             if k == 0 {
                 let _ = write!(
                     out,
                     "<th scope=\"rowgroup\" rowspan=\"{}\">{}</th>",
                     rows.len(),
-                    if class == &all {
-                        "<em>all classes</em>".to_string()
-                    } else {
-                        esc(class)
+                    match class {
+                        Some(class) => esc(class),
+                        None => "<em>all classes</em>".to_string(),
                     }
                 );
             }
             let _ = write!(out, "<th scope=\"row\">{heading}</th>");
             for (t, v) in report.trackers.iter().zip(&values) {
                 let best = compare && (v - lowest).abs() <= 1e-9 * lowest.abs().max(1.0);
-                let share = match (k, class == &all) {
-                    (0, false) if t.score.total > 0.0 => {
+                let share = match (k, class) {
+                    (0, Some(class)) if t.score.total > 0.0 => {
                         let part = scores_total(t, class);
                         format!(
                             "<span class=\"share\">{}%</span>",
