@@ -559,14 +559,12 @@ fn run_command(
             "tracks carry",
         ),
     ] {
-        let mixed = classes.mixed();
-        if mixed > 0 {
-            notes.push(format!(
-                "{}: {} more than one class; each is scored as one piece per class",
-                file.source,
-                switchyard::report::plural(mixed, one, many)
-            ));
-        }
+        notes.extend(switchyard::report::classes::mixed_note(
+            &file.source,
+            classes.mixed(),
+            one,
+            many,
+        ));
     }
     let by_class = evaluate_by_class(
         (&truth.set, &truth_classes),

@@ -13,8 +13,8 @@ use switchyard::compare::{
 use switchyard::distance::Distance;
 use switchyard::input::grouped::{read_grouped_classed_csv_path, GroupColumns, GroupedFile};
 use switchyard::input::manifest::read_manifest_path;
+use switchyard::report::classes::mixed_note;
 use switchyard::report::compare::{self as report, CompareInputs, Sections, TrackerSource};
-use switchyard::report::{plural, printable};
 use switchyard::trajectory_metric::{Engine, SolveOptions};
 
 use switchyard::Error;
@@ -185,11 +185,10 @@ impl Data {
 /// pieces by class.
 fn by_class(datasets: ClassDatasets) -> Data {
     for (file, count) in &datasets.mixed {
-        eprintln!(
-            "switchyard: note: {}: {} more than one class; each is scored as one piece per class",
-            printable(file),
-            plural(*count, "trajectory carries", "trajectories carry")
-        );
+        let note = mixed_note(file, *count, "trajectory carries", "trajectories carry");
+        if let Some(note) = note {
+            eprintln!("switchyard: note: {note}");
+        }
     }
     Data::ByClass(datasets.classes)
 }

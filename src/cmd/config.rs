@@ -9,6 +9,7 @@ use switchyard::classes::{evaluate_by_class, ClassEvaluation, PointClasses};
 use switchyard::distance::Distance;
 use switchyard::evaluate::{evaluate, Evaluation, Request};
 use switchyard::input::{read_classed_csv_path, read_csv_path, CsvLayout, TrajectoryFile};
+use switchyard::report::classes::mixed_note;
 use switchyard::report::InputInfo;
 use switchyard::trajectory_metric::{Engine, ExactBudget, SolveOptions, TrajectoryParams};
 use switchyard::{Error, Result};
@@ -211,13 +212,8 @@ pub type ClassedFile = (TrajectoryFile, PointClasses);
 /// Says on standard error how many trajectories of `file` carry more than one class (each is
 /// then scored as one piece per class); `one` and `many` name them (`"track carries"`).
 pub fn note_mixed(file: &TrajectoryFile, classes: &PointClasses, one: &str, many: &str) {
-    let mixed = classes.mixed();
-    if mixed > 0 {
-        eprintln!(
-            "switchyard: note: {}: {} more than one class; each is scored as one piece per class",
-            file.source,
-            switchyard::report::plural(mixed, one, many)
-        );
+    if let Some(note) = mixed_note(&file.source, classes.mixed(), one, many) {
+        eprintln!("switchyard: note: {note}");
     }
 }
 

@@ -9,6 +9,19 @@ use super::{count, fixed, plural, printable, write_table, InputInfo};
 use crate::classes::ClassScene;
 use crate::trajectory_metric::TrajectoryScore;
 
+/// The note for a file of which `count` trajectories carry more than one class (each is then
+/// scored as one piece per class), or `None` when none does; `one` and `many` name them
+/// (`"track carries"`, `"tracks carry"`). The file's name is made printable.
+pub fn mixed_note(source: &str, count: usize, one: &str, many: &str) -> Option<String> {
+    (count > 0).then(|| {
+        format!(
+            "{}: {} more than one class; each is scored as one piece per class",
+            printable(source),
+            plural(count, one, many)
+        )
+    })
+}
+
 /// The inputs as one class sees them: the files, with that class's numbers of truths and
 /// tracks (pieces of a track cut by class count in each of their classes).
 pub fn class_info(info: &InputInfo, scene: &ClassScene) -> InputInfo {
