@@ -332,11 +332,17 @@ enum Job {
         tracker: usize,
         case: usize,
     },
+    Ospa2 {
+        params: usize,
+        tracker: usize,
+        case: usize,
+    },
 }
 
 enum Outcome {
     Trajectory(CaseScore),
     Steps(OccupiedSteps),
+    Ospa2(Ospa2Parts),
 }
 
 /// The distinct (cut-off, order) pairs of the settings, in order of first appearance, as
@@ -346,7 +352,7 @@ fn step_params(settings: &[TrajectoryParams]) -> Result<Vec<GospaParams>> {
     for s in settings {
         if !result
             .iter()
-            .any(|g| g.cutoff == s.cutoff && g.order == s.order)
+            .any(|g| g.cutoff == s.cutoff && g.order == s.order && g.missed_share == s.missed_share)
         {
             result.push(GospaParams::beside(s)?);
         }
@@ -354,29 +360,60 @@ fn step_params(settings: &[TrajectoryParams]) -> Result<Vec<GospaParams>> {
     Ok(result)
 }
 
-fn plan(dataset: &Dataset, options: &CompareOptions, steps: usize) -> Vec<Job> {
+/// The distinct (cut-off, order) pairs of the settings, in order of first appearance, as
+/// OSPA(2) parameters (OSPA(2) depends on nothing else, so a sweep of the switching penalty
+/// computes it once), and for each setting the index of its pair.
+fn ospa2_params(settings: &[TrajectoryParams]) -> Result<(Vec<Ospa2Params>, Vec<usize>)> {
+    let mut params: Vec<Ospa2Params> = Vec::new();
+    let mut of_setting = Vec::with_capacity(settings.len());
+    for s in settings {
+        let index = match params
+            .iter()
+            .position(|o| o.cutoff == s.cutoff && o.order == s.order)
+        {
+            Some(index) => index,
+            None => {
+                params.push(Ospa2Params::new(s.cutoff, s.order)?);
+                params.len() - 1
+            }
+        };
+        of_setting.push(index);
+    }
+    Ok((params, of_setting))
+}
+
+/// A job from its (setting or parameters, tracker, case).
+type MakeJob = fn(usize, usize, usize) -> Job;
+
+/// The jobs: every (setting, tracker, case) trajectory score, then the per-step series for
+/// each of `steps` parameters, then OSPA(2) for each of `ospa2` parameters.
+fn plan(dataset: &Dataset, options: &CompareOptions, steps: usize, ospa2: usize) -> Vec<Job> {
     let trackers = dataset.trackers().len();
     let cases = dataset.cases().len();
-    let mut jobs = Vec::with_capacity((options.settings.len() + steps) * trackers * cases);
-    for setting in 0..options.settings.len() {
-        for tracker in 0..trackers {
-            for case in 0..cases {
-                jobs.push(Job::Trajectory {
-                    setting,
-                    tracker,
-                    case,
-                });
+    let kinds: [(usize, MakeJob); 3] = [
+        (options.settings.len(), |setting, tracker, case| {
+            Job::Trajectory {
+                setting,
+                tracker,
+                case,
             }
-        }
-    }
-    for params in 0..steps {
-        for tracker in 0..trackers {
-            for case in 0..cases {
-                jobs.push(Job::Steps {
-                    params,
-                    tracker,
-                    case,
-                });
+        }),
+        (steps, |params, tracker, case| Job::Steps {
+            params,
+            tracker,
+            case,
+        }),
+        (ospa2, |params, tracker, case| Job::Ospa2 {
+            params,
+            tracker,
+            case,
+        }),
+    ];
+    let mut jobs = Vec::with_capacity((options.settings.len() + steps + ospa2) * trackers * cases);
+    for (count, job) in kinds {
+        for index in 0..count {
+            for tracker in 0..trackers {
+                jobs.extend((0..cases).map(|case| job(index, tracker, case)));
             }
         }
     }
@@ -390,7 +427,12 @@ pub fn job_count(dataset: &Dataset, options: &CompareOptions) -> usize {
     } else {
         0
     };
-    (options.settings.len() + steps) * dataset.trackers().len() * dataset.cases().len()
+    let ospa2 = if options.ospa2 {
+        ospa2_params(&options.settings).map_or(0, |(p, _)| p.len())
+    } else {
+        0
+    };
+    (options.settings.len() + steps + ospa2) * dataset.trackers().len() * dataset.cases().len()
 }
 
 /// Carries which tracker and case failed with the error.
@@ -426,7 +468,12 @@ pub fn evaluate(
     } else {
         Vec::new()
     };
-    let jobs = plan(dataset, options, step_params.len());
+    let (ospa2_params, ospa2_of_setting) = if options.ospa2 {
+        ospa2_params(&options.settings)?
+    } else {
+        (Vec::new(), Vec::new())
+    };
+    let jobs = plan(dataset, options, step_params.len(), ospa2_params.len());
     let outcomes: Vec<Result<Outcome>> = jobs
         .par_iter()
         .map(|job| {
@@ -440,15 +487,7 @@ pub fn evaluate(
                     let (truth, estimate) = (dataset.truth_of(case), &t.estimates[case]);
                     let params = &options.settings[setting];
                     score_with(truth, estimate, params, distance, &options.solve)
-                        .and_then(|s| {
-                            let mut score = CaseScore::from(&s);
-                            if options.ospa2 {
-                                let second = Ospa2Params::new(params.cutoff, params.order)?;
-                                let metric = Ospa2::new(truth, estimate, second, distance)?;
-                                score.ospa2 = Some(Ospa2Parts::from(&metric.whole()));
-                            }
-                            Ok(Outcome::Trajectory(score))
-                        })
+                        .map(|s| Outcome::Trajectory(CaseScore::from(&s)))
                         .map_err(|e| in_case(e, &t.name, &dataset.cases()[case].key))
                 }
                 Job::Steps {
@@ -466,6 +505,17 @@ pub fn evaluate(
                     .map(Outcome::Steps)
                     .map_err(|e| in_case(e, &t.name, &dataset.cases()[case].key))
                 }
+                Job::Ospa2 {
+                    params,
+                    tracker,
+                    case,
+                } => {
+                    let t = &dataset.trackers()[tracker];
+                    let (truth, estimate) = (dataset.truth_of(case), &t.estimates[case]);
+                    Ospa2::new(truth, estimate, ospa2_params[params], distance)
+                        .map(|metric| Outcome::Ospa2(Ospa2Parts::from(&metric.whole())))
+                        .map_err(|e| in_case(e, &t.name, &dataset.cases()[case].key))
+                }
             };
             progress();
             outcome
@@ -473,10 +523,21 @@ pub fn evaluate(
         .collect();
     let mut scores = Vec::with_capacity(jobs.len());
     let mut series = Vec::new();
+    let mut ospa2 = Vec::new();
     for outcome in outcomes {
         match outcome? {
             Outcome::Trajectory(score) => scores.push(score),
             Outcome::Steps(s) => series.push(s),
+            Outcome::Ospa2(o) => ospa2.push(o),
+        }
+    }
+    // Each score takes the OSPA(2) of its setting's (cut-off, order), in the jobs' order:
+    // (parameters, tracker, case) as scores are (setting, tracker, case).
+    if options.ospa2 {
+        let per_setting = dataset.trackers().len() * dataset.cases().len();
+        for (index, score) in scores.iter_mut().enumerate() {
+            let (setting, within) = (index / per_setting, index % per_setting);
+            score.ospa2 = Some(ospa2[ospa2_of_setting[setting] * per_setting + within]);
         }
     }
     Ok(Evaluation {

@@ -1472,6 +1472,10 @@ fn ospa2_per_case_equals_score_and_the_summary_is_its_mean() {
         "2,3",
         "--order",
         "1,2",
+        // Two penalties: OSPA(2) does not depend on gamma, and each (c, p) is computed once
+        // for the settings that share it.
+        "--switch-penalty",
+        "1,5",
         "--ospa2",
         "--per-case",
         "--format",
@@ -1489,7 +1493,7 @@ fn ospa2_per_case_equals_score_and_the_summary_is_its_mean() {
     // The ranking stays by d (A 1 < B 2 here).
     assert_eq!(first["ranking"], "A < B");
     let rows = doc["cases"].as_array().unwrap();
-    assert_eq!(rows.len(), 4 * 2 * 2);
+    assert_eq!(rows.len(), 8 * 2 * 2);
     for setting in doc["settings"].as_array().unwrap() {
         let (c, p) = (
             setting["cutoff"].as_f64().unwrap(),
@@ -1500,7 +1504,12 @@ fn ospa2_per_case_equals_score_and_the_summary_is_its_mean() {
             let file = if name == "A" { &a } else { &b };
             let mine: Vec<&Value> = rows
                 .iter()
-                .filter(|r| r["cutoff"] == c && r["order"] == p && r["tracker"] == name)
+                .filter(|r| {
+                    r["cutoff"] == c
+                        && r["order"] == p
+                        && r["switch_penalty"] == setting["switch_penalty"]
+                        && r["tracker"] == name
+                })
                 .collect();
             assert_eq!(mine.len(), 2);
             let mut sums = [0.0; 3];
