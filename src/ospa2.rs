@@ -330,8 +330,10 @@ impl<'a> Ospa2<'a> {
 
     /// OSPA(2) over a sliding window of `width` steps ending at each step `k` of the covering
     /// window ([k - width + 1, k], cut at the window's first step), for every `k` whose window
-    /// holds a state of either set (a window with none scores 0 and is left out, so the output
-    /// follows the data, not the length of the window). `width` 0 is treated as 1.
+    /// holds a state of either set (a window with none scores 0 and is left out). One entry per
+    /// window end, each with its pairs: the ends after a state number up to `width`, so a wide
+    /// window makes a long list; [`Ospa2::sliding_windows`] gives the same values in runs,
+    /// and its size follows the data. `width` 0 is treated as 1.
     pub fn sliding(&self, width: usize) -> Vec<(Step, Ospa2Score)> {
         let mut out = Vec::new();
         for (first_end, last_end, score) in self.sliding_runs(width) {
