@@ -70,6 +70,38 @@ fn class_line(root: Node, class: &str, tracker: &str) -> Vec<f64> {
         .collect()
 }
 
+/// The report of the scene of [`classes_by_hand`] (c = 2, class column `kind`), the car's
+/// class named `car_class`.
+fn hand_scene_report(car_class: &str) -> String {
+    let dir = tempfile::tempdir().unwrap();
+    let truth = dir.path().join("t.csv");
+    let estimate = dir.path().join("e.csv");
+    std::fs::write(
+        &truth,
+        format!(
+            "time,id,x,y,kind\n1,car,0,0,{car_class}\n2,car,0,0,{car_class}\n\
+             1,walker,10,0,pedestrian\n2,walker,10,0,pedestrian\n"
+        ),
+    )
+    .unwrap();
+    std::fs::write(
+        &estimate,
+        "time,id,x,y,kind\n1,p,0,0,pedestrian\n2,p,0,0,pedestrian\n1,q,10.3,0,pedestrian\n\
+         2,q,10.3,0,pedestrian\n",
+    )
+    .unwrap();
+    report(&[
+        "--truth",
+        truth.to_str().unwrap(),
+        "--estimate",
+        &format!("one={}", estimate.display()),
+        "-c",
+        "2",
+        "--class-column",
+        "kind",
+    ])
+}
+
 #[test]
 fn classes_by_hand() {
     // c = 2, p = 1. A car at x = 0 and a pedestrian at x = 10, steps 1 and 2. Track p sits on
@@ -79,31 +111,7 @@ fn classes_by_hand() {
     // both steps (2): d = 2.6.
     // All classes: d^p adds up: 4.6 (without classes p would match the car: d = 0.6).
     // Per step (alpha = 2, p = 1): car 1 at each step; pedestrian 0.3 + 1 = 1.3.
-    let dir = tempfile::tempdir().unwrap();
-    let truth = dir.path().join("t.csv");
-    let estimate = dir.path().join("e.csv");
-    std::fs::write(
-        &truth,
-        "time,id,x,y,kind\n1,car,0,0,car\n2,car,0,0,car\n1,walker,10,0,pedestrian\n\
-         2,walker,10,0,pedestrian\n",
-    )
-    .unwrap();
-    std::fs::write(
-        &estimate,
-        "time,id,x,y,kind\n1,p,0,0,pedestrian\n2,p,0,0,pedestrian\n1,q,10.3,0,pedestrian\n\
-         2,q,10.3,0,pedestrian\n",
-    )
-    .unwrap();
-    let page = report(&[
-        "--truth",
-        truth.to_str().unwrap(),
-        "--estimate",
-        &format!("one={}", estimate.display()),
-        "-c",
-        "2",
-        "--class-column",
-        "kind",
-    ]);
+    let page = hand_scene_report("car");
     let doc = parse(&page);
     let root = doc.root_element();
     close(cell(root, 0, "car", "metric"), 2.0, "car d");
@@ -158,31 +166,7 @@ fn classes_by_hand() {
 /// own (4.6), each on its own row.
 #[test]
 fn a_class_named_like_the_total_keeps_its_own_row() {
-    let dir = tempfile::tempdir().unwrap();
-    let truth = dir.path().join("t.csv");
-    let estimate = dir.path().join("e.csv");
-    std::fs::write(
-        &truth,
-        "time,id,x,y,kind\n1,car,0,0,all classes\n2,car,0,0,all classes\n\
-         1,walker,10,0,pedestrian\n2,walker,10,0,pedestrian\n",
-    )
-    .unwrap();
-    std::fs::write(
-        &estimate,
-        "time,id,x,y,kind\n1,p,0,0,pedestrian\n2,p,0,0,pedestrian\n1,q,10.3,0,pedestrian\n\
-         2,q,10.3,0,pedestrian\n",
-    )
-    .unwrap();
-    let page = report(&[
-        "--truth",
-        truth.to_str().unwrap(),
-        "--estimate",
-        &format!("one={}", estimate.display()),
-        "-c",
-        "2",
-        "--class-column",
-        "kind",
-    ]);
+    let page = hand_scene_report("all classes");
     let doc = parse(&page);
     let root = doc.root_element();
     close(cell(root, 0, "all classes", "metric"), 2.0, "class d");
